@@ -1,0 +1,77 @@
+"""The ``lodeline`` command line.
+
+Exit status: 0 on success, 2 on bad input (one line on stderr, no traceback), 1 on an
+internal failure. ``lodeline`` with no arguments opens the terminal application on a new
+document. Subcommand modules live in :mod:`tui.commands`; this module imports none of
+Textual, numpy or pyproj at start-up.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+from collections.abc import Sequence
+
+from geo import __version__
+
+#: Subcommands, in the order ``--help`` lists them: (name, module under tui.commands).
+SUBCOMMANDS: list[tuple[str, str]] = [
+    ("field", "field"),
+    ("models", "models"),
+]
+
+EPILOG = (
+    "Not a legal boundary: original monuments and evidence control; local law and licensed "
+    "practice decide. Field models omit local anomalies."
+)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """Build the argument parser with every registered subcommand."""
+    parser = argparse.ArgumentParser(
+        prog="lodeline",
+        description="Magnetic, true and grid bearings for deeds and compass cruise lines.",
+        epilog=EPILOG,
+    )
+    parser.add_argument("--version", action="version", version=f"lodeline {__version__}")
+    subparsers = parser.add_subparsers(dest="command", metavar="COMMAND")
+    for _name, module in SUBCOMMANDS:
+        importlib.import_module(f"tui.commands.{module}").register(subparsers)
+    return parser
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Entry point of the ``lodeline`` console script; returns the exit status."""
+    from geo.errors import LodelineError
+
+    args_list = list(sys.argv[1:] if argv is None else argv)
+    parser = build_parser()
+    if not args_list and any(name == "open" for name, _ in SUBCOMMANDS):
+        args_list = ["open"]
+    args = parser.parse_args(args_list)
+    if not getattr(args, "func", None):
+        parser.print_help()
+        return 2
+    try:
+        return int(args.func(args) or 0)
+    except LodelineError as err:
+        print(f"lodeline {args.command}: {err}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("lodeline: interrupted", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        return 0
+    except Exception as err:  # an internal failure: short message, status 1
+        print(
+            f"lodeline {args.command}: internal error: {type(err).__name__}: {err}",
+            file=sys.stderr,
+        )
+        if "LODELINE_DEBUG" in __import__("os").environ:
+            raise
+        return 1
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())
