@@ -1,0 +1,931 @@
+"""The traverse document: schema (format_version 1), loading, saving and checking.
+
+A traverse document is a TOML file (or a JSON file with the same schema) holding the calls of a
+deed or a compass cruise line *as written*, the point of beginning, the grid and how the
+bearings were read. Derived numbers are never stored in it. This module is the only place that
+reads or writes such files.
+
+Schema, format_version 1 (every table and key below; any other key is an error)::
+
+    format_version = 1            # required
+    title = "..."                 # optional
+    closed = true                 # the calls are meant to return to the point of beginning
+                                  # (default false: an open traverse)
+
+    [place]                       # required: the point of beginning, one of
+    lat = 40.0                    #   geodetic degrees (WGS84), longitude east positive
+    lon = -77.0
+    # easting = ...               #   or grid coordinates in [grid] crs units (needs grid.crs)
+    # northing = ...
+    height_m = 0.0                # ellipsoidal height, metres (default 0)
+
+    [grid]                        # optional table
+    crs = "EPSG:2271"             # projected CRS; default: the UTM zone of the place
+
+    [record]                      # how the recorded bearings were read (defaults shown)
+    reference = "magnetic"        # magnetic | true | grid
+    date = "1854-05-12"           # ISO date (or decimal year) of the original survey;
+                                  # required when reference = magnetic
+    declination = "auto"          # auto (field model), or the stated declination:
+                                  # "3°10' W" or a number of degrees, east positive
+    model = "auto"                # field model for the record date, or auto
+    distance_unit = "perch"       # unit of calls that give none (optional)
+    foot = "us"                   # us | international (optional; default by the date)
+    vara_inches = 33.333333       # length of the vara in inches; required when varas occur
+    angles = "right"              # right | left; required when a course gives an angle
+
+    [target]                      # optional: the date to convert to (added in version 1)
+    date = "2026-05-01"           # default: today (the command line may override it)
+    model = "auto"                # field model for the target date, or auto
+
+    [[course]]                    # zero or more, in order from the point of beginning
+    call = "N 45 1/2 E 20 perches to a white oak"   # as written; or the keys below
+    # bearing = "N 45 30 E"       # a bearing, or (courses after the first) an angle:
+    # angle = "95 30"             # the angle turned at the course's starting station
+    # distance = 20               # a number (in `unit`) or a distance text "20 perches"
+    # unit = "perch"              # default: record.distance_unit
+    back = "S 45 15 W"            # optional back bearing read at the far end
+    found = { easting = 0.0, northing = 0.0 }   # optional measured position of the end of
+                                                # the course (grid CRS units) or {lat, lon}
+    every = "5 chains"            # optional: intermediate points along the course
+    note = "..."                  # optional
+
+Keys beyond the issue that introduced the format, and why:
+
+- ``[target]`` (``date``, ``model``): the terminal application edits and saves the target date;
+  a stored target date also makes a filed conversion reproducible (today changes). The command
+  line's ``--target-date``/``--model`` override it.
+- ``course.angle`` and ``record.angles``: deeds and plats that record interior angles rather than
+  bearings. ``angle`` (degrees, or DMS text such as ``"95 30"`` or ``"95°30'"``) is the angle
+  turned at the course's starting station from the line back to the previous station to this
+  course. ``record.angles`` says which way it was turned: ``"right"`` (clockwise; interior
+  angles of a figure run counter-clockwise) or ``"left"`` (counter-clockwise; interior angles of
+  a figure run clockwise). The first course needs a ``bearing`` (it may also carry the angle at
+  the point of beginning, used only for the angular misclosure). Unadjusted azimuths follow
+  ``az_i = az_(i-1) + 180 + angle`` (right) or ``- angle`` (left).
+
+Every error is a :class:`geo.errors.DocumentError` with the file, the 1-based course number and
+the key (``record.date``, ``found.easting`` ...), printed as one line.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import json
+import math
+import os
+import tomllib
+from collections.abc import Mapping
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Annotated, Any, Literal
+
+import tomli_w
+from pydantic import (
+    BaseModel,
+    BeforeValidator,
+    ConfigDict,
+    Field,
+    ValidationError,
+    model_validator,
+)
+from pydantic_core import PydanticCustomError
+
+from geo.errors import DocumentError, LodelineError
+
+__all__ = [
+    "FORMAT_VERSION",
+    "Course",
+    "Document",
+    "Found",
+    "Grid",
+    "Place",
+    "RecordedCourse",
+    "Record",
+    "Target",
+    "check_document",
+    "course_call_text",
+    "document_from_dict",
+    "document_problems",
+    "document_to_dict",
+    "dumps_document",
+    "load_document",
+    "loads_document",
+    "parse_courses",
+    "save_document",
+]
+
+FORMAT_VERSION = 1
+
+#: File suffixes and their formats.
+_FORMATS = {".toml": "toml", ".json": "json"}
+
+
+# --------------------------------------------------------------------------------------------
+# Schema
+# --------------------------------------------------------------------------------------------
+
+
+def _fail(field: str | None, message: str) -> PydanticCustomError:
+    """A validation error that keeps our own message and the key it concerns."""
+    return PydanticCustomError("lodeline", "{message}", {"message": message, "field": field})
+
+
+def _text(value: Any) -> Any:
+    """Accept only text for a text key (no silent number-to-text coercion)."""
+    if value is not None and not isinstance(value, str):
+        raise _fail(None, f"must be text in quotes, not {_show(value)}")
+    return value
+
+
+def _number_or_text(value: Any) -> Any:
+    if value is None or isinstance(value, str):
+        return value
+    if isinstance(value, bool) or not isinstance(value, int | float):
+        raise _fail(None, f"must be a number or text, not {_show(value)}")
+    return value
+
+
+def _date_text(value: Any) -> Any:
+    """Dates are kept as text: a TOML date becomes its ISO form, a number its decimal year."""
+    if value is None or isinstance(value, str):
+        return value
+    if isinstance(value, _dt.datetime):
+        return value.date().isoformat()
+    if isinstance(value, _dt.date):
+        return value.isoformat()
+    if isinstance(value, int | float) and not isinstance(value, bool):
+        return repr(float(value)) if isinstance(value, float) else str(value)
+    raise _fail(None, f'must be a date such as "1854-05-12", not {_show(value)}')
+
+
+def _strict_number(value: Any) -> Any:
+    if isinstance(value, bool) or (value is not None and not isinstance(value, int | float)):
+        raise _fail(None, f"must be a number, not {_show(value)}")
+    if value is not None and not math.isfinite(value):
+        raise _fail(None, f"must be a finite number, not {value!r}")
+    return value
+
+
+def _strict_bool(value: Any) -> Any:
+    if not isinstance(value, bool):
+        raise _fail(None, f"must be true or false, not {_show(value)}")
+    return value
+
+
+Text = Annotated[str | None, BeforeValidator(_text)]
+Number = Annotated[float | None, BeforeValidator(_strict_number)]
+NumberOrText = Annotated[float | str | None, BeforeValidator(_number_or_text)]
+DateText = Annotated[str | None, BeforeValidator(_date_text)]
+
+
+class _Table(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True, allow_inf_nan=False)
+
+
+class Place(_Table):
+    """The point of beginning: ``lat``/``lon`` (WGS84 degrees) or ``easting``/``northing``
+    (grid CRS units), and the ellipsoidal height in metres."""
+
+    lat: Number = None
+    lon: Number = None
+    easting: Number = None
+    northing: Number = None
+    height_m: Annotated[float, BeforeValidator(_strict_number)] = 0.0
+
+    @model_validator(mode="after")
+    def _one_position(self) -> Place:
+        geographic = (self.lat is not None, self.lon is not None)
+        grid = (self.easting is not None, self.northing is not None)
+        if any(geographic) and any(grid):
+            raise _fail("lat", "give lat/lon or easting/northing, not both")
+        if any(geographic) and not all(geographic):
+            raise _fail("lon" if self.lon is None else "lat", "lat and lon go together")
+        if any(grid) and not all(grid):
+            raise _fail(
+                "northing" if self.northing is None else "easting",
+                "easting and northing go together",
+            )
+        if not any(geographic) and not any(grid):
+            raise _fail("lat", "missing: give lat and lon, or easting and northing")
+        if self.lat is not None and not -90.0 <= self.lat <= 90.0:
+            raise _fail("lat", f"latitude {self.lat} is outside -90..90 degrees")
+        if self.lon is not None and not -180.0 <= self.lon <= 180.0:
+            raise _fail("lon", f"longitude {self.lon} is outside -180..180 degrees")
+        if not -12000.0 <= self.height_m <= 100000.0:
+            raise _fail("height_m", f"height {self.height_m} m is outside -12000..100000 m")
+        return self
+
+    @property
+    def by_grid(self) -> bool:
+        """True when the point of beginning is given by grid coordinates (measured)."""
+        return self.easting is not None
+
+
+class Grid(_Table):
+    """The projected CRS the job is mapped in (``None``: the UTM zone of the place)."""
+
+    crs: Text = None
+
+
+class Record(_Table):
+    """How the recorded bearings and distances were read."""
+
+    reference: Literal["magnetic", "true", "grid"] = "magnetic"
+    date: DateText = None
+    declination: Annotated[float | str, BeforeValidator(_number_or_text)] = "auto"
+    model: Annotated[str, BeforeValidator(_text)] = "auto"
+    distance_unit: Text = None
+    foot: Literal["us", "international"] | None = None
+    vara_inches: Number = None
+    angles: Literal["right", "left"] | None = None
+
+    @property
+    def stated_declination(self) -> bool:
+        """True when the document states the declination instead of asking a model."""
+        return not (isinstance(self.declination, str) and self.declination.strip() == "auto")
+
+
+class Target(_Table):
+    """The date (default today) and model (default auto) the bearings are converted to."""
+
+    date: DateText = None
+    model: Annotated[str, BeforeValidator(_text)] = "auto"
+
+
+class Found(_Table):
+    """A measured position: ``easting``/``northing`` in the grid CRS, or WGS84 ``lat``/``lon``."""
+
+    easting: Number = None
+    northing: Number = None
+    lat: Number = None
+    lon: Number = None
+
+    @model_validator(mode="after")
+    def _one_position(self) -> Found:
+        grid = (self.easting is not None, self.northing is not None)
+        geographic = (self.lat is not None, self.lon is not None)
+        if any(grid) and any(geographic):
+            raise _fail("easting", "give {easting, northing} or {lat, lon}, not both")
+        if not (all(grid) or all(geographic)):
+            raise _fail(
+                "easting" if any(grid) else "lat",
+                "give both easting and northing, or both lat and lon",
+            )
+        if self.lat is not None and not -90.0 <= self.lat <= 90.0:
+            raise _fail("lat", f"latitude {self.lat} is outside -90..90 degrees")
+        if self.lon is not None and not -180.0 <= self.lon <= 180.0:
+            raise _fail("lon", f"longitude {self.lon} is outside -180..180 degrees")
+        return self
+
+
+class Course(_Table):
+    """One course as written: ``call``, or ``bearing``/``angle`` + ``distance`` [+ ``unit``]."""
+
+    call: Text = None
+    bearing: Text = None
+    angle: NumberOrText = None
+    distance: NumberOrText = None
+    unit: Text = None
+    back: Text = None
+    found: Found | None = None
+    every: NumberOrText = None
+    note: Text = None
+
+    @model_validator(mode="after")
+    def _call_or_parts(self) -> Course:
+        parts = {"bearing": self.bearing, "angle": self.angle, "distance": self.distance}
+        parts["unit"] = self.unit
+        if self.call is not None:
+            for key, value in parts.items():
+                if value is not None:
+                    raise _fail(key, f"give either 'call' or '{key}' (with the other parts)")
+            if not self.call.strip():
+                raise _fail("call", "is empty")
+            return self
+        if self.bearing is None and self.angle is None:
+            raise _fail(
+                "call", "missing: give a 'call', or a 'bearing' (or 'angle') and 'distance'"
+            )
+        if self.distance is None:
+            raise _fail("distance", "missing: give the course's distance (or a 'call')")
+        return self
+
+
+class Document(_Table):
+    """A traverse document, format_version 1 (see the module docstring for every key)."""
+
+    format_version: Literal[1]
+    title: Text = None
+    closed: Annotated[bool, BeforeValidator(_strict_bool)] = False
+    place: Place
+    grid: Grid | None = None
+    record: Record = Field(default_factory=Record)
+    target: Target | None = None
+    course: tuple[Course, ...] = ()
+
+    @model_validator(mode="after")
+    def _grid_for_coordinates(self) -> Document:
+        if self.place.by_grid and (self.grid is None or not self.grid.crs):
+            raise _fail(
+                "grid.crs", "the place is given by easting/northing: name their CRS in grid.crs"
+            )
+        return self
+
+
+# --------------------------------------------------------------------------------------------
+# Validation errors -> DocumentError
+# --------------------------------------------------------------------------------------------
+
+_TABLES: dict[str, type[_Table]] = {
+    "place": Place,
+    "grid": Grid,
+    "record": Record,
+    "target": Target,
+    "course": Course,
+    "found": Found,
+}
+
+
+def _show(value: Any) -> str:
+    text = repr(value)
+    return text if len(text) <= 40 else text[:37] + "..."
+
+
+def _model_at(path: list[str]) -> type[_Table]:
+    model: type[_Table] = Document
+    for part in path:
+        model = _TABLES.get(part, model)
+    return model
+
+
+def _message(err: Mapping[str, Any], path: list[str]) -> str:
+    kind = err["type"]
+    value = err.get("input")
+    if kind == "extra_forbidden":
+        valid = ", ".join(_model_at(path[:-1]).model_fields)
+        return f"unknown key (valid keys here: {valid})"
+    if kind == "missing":
+        return "missing (required)"
+    if kind == "literal_error" and path == ["format_version"]:
+        return f"{_show(value)} is not a format this version reads (format_version = 1)"
+    if kind == "literal_error":
+        expected = err.get("ctx", {}).get("expected", "")
+        return f"{_show(value)} is not valid: use {expected}"
+    if kind in ("model_type", "model_attributes_type", "dict_type"):
+        return f"must be a table, not {_show(value)}"
+    if kind in ("tuple_type", "list_type"):
+        return f"must be a list of [[{path[-1] if path else 'course'}]] tables, not {_show(value)}"
+    if kind in ("float_type", "float_parsing", "finite_number"):
+        return f"must be a finite number, not {_show(value)}"
+    if kind in ("string_type", "str_type"):
+        return f"must be text in quotes, not {_show(value)}"
+    if kind == "bool_type":
+        return f"must be true or false, not {_show(value)}"
+    return str(err.get("ctx", {}).get("message") or err.get("msg", "is not valid"))
+
+
+def _document_error(exc: ValidationError, file: str | None) -> DocumentError:
+    """Turn pydantic's first error into one DocumentError naming file, course and key."""
+    errors = exc.errors(include_url=False)
+    err = errors[0]
+    course: int | None = None
+    path: list[str] = []
+    loc = err["loc"]
+    for n, part in enumerate(loc):
+        if err["type"] == "extra_forbidden" and n == len(loc) - 1:
+            path.append(str(part))
+            continue
+        if isinstance(part, int):
+            if path == ["course"] and course is None:
+                course = part + 1
+            continue
+        if part in _TABLES or any(part in m.model_fields for m in (Document, *_TABLES.values())):
+            path.append(str(part))
+    extra = (err.get("ctx") or {}).get("field")
+    if extra:
+        path.append(str(extra))
+    message = _message(err, path)
+    if course is not None and path[:1] == ["course"]:
+        path = path[1:]
+    field = ".".join(path) if path else None
+    if len(errors) > 1:
+        message += f" (and {len(errors) - 1} more problem{'s' if len(errors) > 2 else ''})"
+    return DocumentError(message, file=file, course=course, field=field)
+
+
+# --------------------------------------------------------------------------------------------
+# Dict <-> Document
+# --------------------------------------------------------------------------------------------
+
+
+def document_from_dict(
+    data: Mapping[str, Any], *, file: str | None = None, check: bool = True
+) -> Document:
+    """Build a :class:`Document` from a plain mapping (parsed TOML or JSON, or an edited dict).
+
+    The schema is always enforced. ``check=True`` also parses every call, bearing, distance,
+    date and unit (:func:`check_document`); the terminal application passes ``check=False``
+    to keep a call that does not parse yet, and asks :func:`document_problems` what is wrong.
+    Raises :class:`DocumentError` naming ``file``, the course (1-based) and the key.
+    """
+    if not isinstance(data, Mapping):
+        raise DocumentError(
+            f"the document must be a table of keys, not {type(data).__name__}", file=file
+        )
+    try:
+        doc = Document.model_validate(dict(data))
+    except ValidationError as exc:
+        raise _document_error(exc, file) from None
+    except RecursionError:
+        raise DocumentError("is nested too deeply to be a traverse document", file=file) from None
+    if check:
+        check_document(doc, file=file)
+    return doc
+
+
+def document_to_dict(doc: Document) -> dict[str, Any]:
+    """Return the document as a plain dict in the stable key order of the schema.
+
+    Keys whose value is absent (``None``) are left out; everything else is written, so a dict
+    read back gives an identical document. Derived numbers are never included.
+    """
+    return doc.model_dump(mode="python", exclude_none=True)
+
+
+# --------------------------------------------------------------------------------------------
+# Text <-> Document (TOML and JSON)
+# --------------------------------------------------------------------------------------------
+
+
+def _toml_value(value: Any) -> str:
+    """One TOML value (tomli-w formats it; floats keep their shortest round-trip form)."""
+    return tomli_w.dumps({"v": value})[len("v = ") :].rstrip("\n")
+
+
+def _toml_pairs(table: Mapping[str, Any]) -> str:
+    lines = []
+    for key, value in table.items():
+        if isinstance(value, Mapping):
+            inner = ", ".join(f"{k} = {_toml_value(v)}" for k, v in value.items())
+            lines.append(f"{key} = {{ {inner} }}")
+        else:
+            lines.append(f"{key} = {_toml_value(value)}")
+    return "".join(line + "\n" for line in lines)
+
+
+def dumps_document(doc: Document, fmt: Literal["toml", "json"] = "toml") -> str:
+    """Serialise a document as TOML (tables in schema order, one ``[[course]]`` per course,
+    ``found`` as an inline table) or as indented JSON with the same keys."""
+    data = document_to_dict(doc)
+    if fmt == "json":
+        return json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    top = {k: v for k, v in data.items() if not isinstance(v, Mapping | list | tuple)}
+    out = [_toml_pairs(top)]
+    for name in ("place", "grid", "record", "target"):
+        if name in data:
+            out.append(f"\n[{name}]\n" + _toml_pairs(data[name]))
+    for course in data.get("course", ()):
+        out.append("\n[[course]]\n" + _toml_pairs(course))
+    return "".join(out)
+
+
+def _format_of(path: Path, file: str) -> str:
+    fmt = _FORMATS.get(path.suffix.lower())
+    if fmt is None:
+        raise DocumentError(
+            f"unknown document type '{path.suffix}': use a .toml or .json file", file=file
+        )
+    return fmt
+
+
+def loads_document(
+    text: str | bytes,
+    fmt: Literal["toml", "json"] = "toml",
+    *,
+    file: str | None = None,
+    check: bool = True,
+) -> Document:
+    """Read a document from TOML or JSON text (bytes must be UTF-8).
+
+    Raises :class:`DocumentError` (and nothing else) for anything that is not a valid document.
+    """
+    if isinstance(text, bytes):
+        try:
+            text = text.decode("utf-8")
+        except UnicodeDecodeError as exc:
+            raise DocumentError(
+                f"is not UTF-8 text (byte {exc.start} cannot be read)", file=file
+            ) from None
+    if text.startswith("\ufeff"):
+        text = text[1:]
+    try:
+        data = json.loads(text) if fmt == "json" else tomllib.loads(text)
+    except json.JSONDecodeError as exc:
+        raise DocumentError(f"is not valid JSON: {exc.msg}", file=file, line=exc.lineno) from None
+    except tomllib.TOMLDecodeError as exc:
+        raise DocumentError(f"is not valid TOML: {exc}", file=file) from None
+    except (RecursionError, ValueError) as exc:
+        raise DocumentError(f"cannot be read: {exc}", file=file) from None
+    return document_from_dict(data, file=file, check=check)
+
+
+def load_document(path: str | os.PathLike[str], *, check: bool = True) -> Document:
+    """Read a traverse document from a ``.toml`` or ``.json`` file.
+
+    Raises :class:`DocumentError` naming the file (and course and key) for a file that cannot
+    be read or is not a valid document.
+    """
+    p = Path(path)
+    file = str(path)
+    fmt = _format_of(p, file)
+    try:
+        raw = p.read_bytes()
+    except OSError as exc:
+        raise DocumentError(f"cannot be read: {exc.strerror or exc}", file=file) from None
+    return loads_document(raw, fmt, file=file, check=check)  # type: ignore[arg-type]
+
+
+def save_document(doc: Document, path: str | os.PathLike[str]) -> Path:
+    """Write ``doc`` atomically to a ``.toml`` or ``.json`` file and return the path.
+
+    An existing file is kept as ``NAME.toml.bak`` (``NAME.json.bak``). The text is generated
+    before anything is touched, so a failure never leaves a damaged file.
+    """
+    from geo.atomic import write_atomic
+
+    p = Path(path)
+    fmt = _format_of(p, str(path))
+    text = dumps_document(doc, fmt)  # type: ignore[arg-type]
+    try:
+        return write_atomic(p, text, overwrite=True, backup=True)
+    except OSError as exc:
+        raise DocumentError(f"cannot be written: {exc.strerror or exc}", file=str(path)) from None
+
+
+# --------------------------------------------------------------------------------------------
+# Semantics: parse every call as the conversion will
+# --------------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class RecordedCourse:
+    """One course parsed into numbers, in the document's recorded reference.
+
+    Attributes
+    ----------
+    index:
+        1-based course number.
+    text:
+        The call as written (``call``, or the bearing/angle, distance and unit joined).
+    azimuth_deg:
+        Recorded azimuth, degrees clockwise from the recorded north, [0, 360). For a course
+        given by an angle: the unadjusted azimuth carried from the previous course.
+    precision_deg:
+        The precision the bearing was written to (degrees); for an angle, the angle's.
+    bearing_text:
+        The bearing as written, or ``None`` when the course gives an angle.
+    angle_deg:
+        The angle turned at the starting station (see ``record.angles``), or ``None``.
+    length_m:
+        Recorded (ground, horizontal) length in metres.
+    length_value, length_unit:
+        The length in the unit it was written in (unit name as the call parser gives it).
+    back_azimuth_deg:
+        The back bearing read at the far end as an azimuth, or ``None``.
+    every_m:
+        Spacing of intermediate points along the course in metres, or ``None``.
+    note:
+        The course's note, or the words of the call after the distance ("to a white oak").
+    """
+
+    index: int
+    text: str
+    azimuth_deg: float
+    precision_deg: float
+    bearing_text: str | None
+    angle_deg: float | None
+    length_m: float
+    length_value: float
+    length_unit: str
+    back_azimuth_deg: float | None
+    every_m: float | None
+    note: str | None
+
+
+def course_call_text(course: Course) -> str:
+    """The call as written: ``call`` itself, or its parts joined ("N 45 30 E 20 perch")."""
+    if course.call is not None:
+        return course.call
+    head = course.bearing if course.bearing is not None else f"angle {_plain(course.angle)}"
+    parts = [head, _plain(course.distance)]
+    if course.unit:
+        parts.append(course.unit)
+    return " ".join(p for p in parts if p)
+
+
+def _plain(value: float | str | None) -> str:
+    if value is None:
+        return ""
+    if isinstance(value, float) and value.is_integer():
+        return str(int(value))
+    return str(value)
+
+
+def _locate(err: LodelineError, file: str | None, course: int | None, field: str) -> DocumentError:
+    """Re-express a parser error as a DocumentError at a course and key."""
+    return DocumentError(err.message, file=file, course=course, field=field)
+
+
+def _unit_context(doc: Document) -> dict[str, Any]:
+    """Arguments shared by every distance parse: default unit, foot and vara.
+
+    The foot is ``record.foot``, else the default for the record date (geo.units); with
+    neither, ``None``, so that a foot-based length raises an error at its course.
+    """
+    from geo import units
+
+    record = doc.record
+    try:
+        foot: str | None = units.choose_foot(record.foot, record.date).foot
+    except LodelineError:
+        foot = None
+    return {
+        "default_unit": record.distance_unit,
+        "foot": foot,
+        "vara_inches": record.vara_inches,
+    }
+
+
+def _check_record(doc: Document, file: str | None) -> list[DocumentError]:
+    from geo import units
+    from geo.bearings import parse_declination
+    from geo.dates import parse_date
+
+    problems: list[DocumentError] = []
+    record = doc.record
+    for table, value in (("record", record.date), ("target", doc.target and doc.target.date)):
+        if value is not None:
+            try:
+                parse_date(value)
+            except LodelineError as err:
+                problems.append(_locate(err, file, None, f"{table}.date"))
+    if record.reference == "magnetic" and record.date is None:
+        problems.append(
+            DocumentError(
+                "missing: a magnetic record needs the date of the original survey",
+                file=file,
+                field="record.date",
+            )
+        )
+    if record.stated_declination:
+        if isinstance(record.declination, float):
+            if not -180.0 <= record.declination <= 180.0:
+                problems.append(
+                    DocumentError(
+                        f"declination {record.declination} is outside -180..180 degrees",
+                        file=file,
+                        field="record.declination",
+                    )
+                )
+        else:
+            try:
+                parse_declination(record.declination)
+            except LodelineError as err:
+                problems.append(_locate(err, file, None, "record.declination"))
+    if record.distance_unit is not None:
+        try:
+            units.unit_name(record.distance_unit)
+        except LodelineError as err:
+            problems.append(_locate(err, file, None, "record.distance_unit"))
+    if record.vara_inches is not None:
+        try:
+            units.resolve_vara_inches(record.vara_inches)
+        except LodelineError as err:
+            problems.append(_locate(err, file, None, "record.vara_inches"))
+    if record.model.strip() == "":
+        problems.append(
+            DocumentError("is empty: give a model name or auto", file=file, field="record.model")
+        )
+    if doc.target is not None and doc.target.model.strip() == "":
+        problems.append(
+            DocumentError("is empty: give a model name or auto", file=file, field="target.model")
+        )
+    if doc.grid is not None and doc.grid.crs is not None and not doc.grid.crs.strip():
+        problems.append(
+            DocumentError("is empty: give a CRS such as EPSG:32618", file=file, field="grid.crs")
+        )
+    return problems
+
+
+def _parse_angle(value: float | str) -> tuple[float, float]:
+    """An angle: degrees (number) or DMS text ("95 30", "95°30'", "95-30-00").
+
+    Returns ``(degrees, precision_deg)``; the text is read by the bearing parser as an azimuth
+    (the same DMS grammar), so a quadrant bearing here is an error.
+    """
+    from geo.bearings import parse_bearing
+
+    if isinstance(value, float):
+        text = repr(value)
+        decimals = len(text.split(".")[1].rstrip("0")) if "e" not in text else 6
+        degrees, precision = value, 10.0 ** (-decimals)
+    else:
+        b = parse_bearing(value)
+        if b.style != "azimuth" or b.reference != "north":
+            raise DocumentError(
+                f"'{value}' is a bearing: an angle is degrees, minutes and seconds (\"95 30\")"
+            )
+        degrees, precision = float(b.angle_deg), b.precision_deg
+    if not 0.0 <= degrees < 360.0:
+        raise DocumentError(f"angle {value!r} is outside 0..360 degrees")
+    return degrees, precision
+
+
+def _parse_course(
+    course: Course,
+    index: int,
+    previous_azimuth: float | None,
+    doc: Document,
+    ctx: dict[str, Any],
+    file: str | None,
+) -> RecordedCourse:
+    from geo.angles import normalize_azimuth
+    from geo.bearings import parse_bearing
+    from geo.calls import parse_call, parse_distance
+
+    where = {"file": file, "course": index}
+    note = course.note
+    angle_deg: float | None = None
+    if course.call is not None:
+        try:
+            call = parse_call(course.call, **ctx)
+        except LodelineError as err:
+            raise _locate(err, file, index, "call") from None
+        if call.bearing is None:
+            raise DocumentError("gives no bearing", field="call", **where)
+        if call.distance is None:
+            raise DocumentError("gives no distance", field="call", **where)
+        bearing, distance = call.bearing, call.distance
+        if note is None and call.note:
+            note = call.note
+    else:
+        bearing = None
+        if course.bearing is not None:
+            try:
+                bearing = parse_bearing(course.bearing)
+            except LodelineError as err:
+                raise _locate(err, file, index, "bearing") from None
+        if course.angle is not None:
+            try:
+                angle_deg, angle_precision = _parse_angle(course.angle)
+            except LodelineError as err:
+                raise _locate(err, file, index, "angle") from None
+            if doc.record.angles is None:
+                raise DocumentError(
+                    "courses give angles: say in record.angles whether they were turned to the "
+                    "right (clockwise) or to the left",
+                    file=file,
+                    field="record.angles",
+                )
+        if bearing is None and previous_azimuth is None:
+            raise DocumentError(
+                "the first course needs a bearing (angles are turned from it)",
+                field="bearing",
+                **where,
+            )
+        distance_field = "distance"
+        try:
+            if isinstance(course.distance, str):
+                distance = parse_distance(
+                    course.distance, **{**ctx, "default_unit": course.unit or ctx["default_unit"]}
+                )
+            else:
+                unit = course.unit or ctx["default_unit"]
+                if unit is None:
+                    distance_field = "unit"
+                    raise DocumentError("missing: give the unit here or set record.distance_unit")
+                distance_field = "unit" if course.unit else "distance"
+                distance = parse_distance(f"{_plain(course.distance)} {unit}", **ctx)
+        except LodelineError as err:
+            raise _locate(err, file, index, distance_field) from None
+    if bearing is not None:
+        azimuth, precision, bearing_text = bearing.azimuth_deg, bearing.precision_deg, bearing.text
+    else:
+        sign = 1.0 if doc.record.angles == "right" else -1.0
+        azimuth = float(normalize_azimuth(previous_azimuth + 180.0 + sign * angle_deg))
+        precision, bearing_text = angle_precision, None
+    if not (distance.metres > 0.0 and math.isfinite(distance.metres)):
+        raise DocumentError(
+            f"distance must be positive, not {distance.text!r}",
+            field="call" if course.call is not None else "distance",
+            **where,
+        )
+    back = None
+    if course.back is not None:
+        try:
+            back = parse_bearing(course.back).azimuth_deg
+        except LodelineError as err:
+            raise _locate(err, file, index, "back") from None
+    every_m = None
+    if course.every is not None:
+        every_text = course.every if isinstance(course.every, str) else _plain(course.every)
+        try:
+            every_m = parse_distance(every_text, **ctx).metres
+        except LodelineError as err:
+            raise _locate(err, file, index, "every") from None
+        if not every_m > 0.0:
+            raise DocumentError("must be a positive distance", field="every", **where)
+    return RecordedCourse(
+        index=index,
+        text=course_call_text(course),
+        azimuth_deg=float(azimuth),
+        precision_deg=float(precision),
+        bearing_text=bearing_text,
+        angle_deg=angle_deg,
+        length_m=float(distance.metres),
+        length_value=float(distance.value),
+        length_unit=str(distance.unit),
+        back_azimuth_deg=None if back is None else float(back),
+        every_m=every_m,
+        note=note,
+    )
+
+
+def parse_courses(doc: Document, *, file: str | None = None) -> tuple[RecordedCourse, ...]:
+    """Parse every course of ``doc`` into recorded azimuths and lengths (metres).
+
+    Raises the first :class:`DocumentError` (file, course, key) met, courses in order.
+    Courses given by an angle take their azimuth from the previous course (unadjusted).
+    """
+    ctx = _unit_context(doc)
+    out: list[RecordedCourse] = []
+    previous: float | None = None
+    for i, course in enumerate(doc.course, start=1):
+        parsed = _parse_course(course, i, previous, doc, ctx, file)
+        out.append(parsed)
+        previous = parsed.azimuth_deg
+    _check_varas(doc, out, file)
+    return tuple(out)
+
+
+def _check_varas(doc: Document, courses: list[RecordedCourse], file: str | None) -> None:
+    if doc.record.vara_inches is not None:
+        return
+    if doc.record.distance_unit is not None:
+        from geo import units
+
+        if units.unit_name(doc.record.distance_unit) == "vara":
+            raise DocumentError(_VARA_MISSING, file=file, field="record.vara_inches")
+    for c in courses:
+        if c.length_unit == "vara":
+            raise DocumentError(
+                _VARA_MISSING, file=file, course=c.index, field="record.vara_inches"
+            )
+
+
+_VARA_MISSING = (
+    "varas occur: give record.vara_inches (the vara has regional values, e.g. 33 1/3 in "
+    "Texas, 33 in California)"
+)
+
+
+def document_problems(doc: Document, *, file: str | None = None) -> list[DocumentError]:
+    """Every semantic problem of ``doc`` (record keys first, then each course), without raising.
+
+    The terminal application shows these beside the courses; :func:`check_document` raises the
+    first one.
+    """
+    problems = _check_record(doc, file)
+    try:
+        ctx = _unit_context(doc)
+    except LodelineError as err:
+        problems.append(_locate(err, file, None, "record"))
+        return problems
+    previous: float | None = None
+    parsed: list[RecordedCourse] = []
+    for i, course in enumerate(doc.course, start=1):
+        try:
+            rc = _parse_course(course, i, previous, doc, ctx, file)
+        except DocumentError as err:
+            problems.append(err)
+            previous = None if course.bearing is None and course.call is None else previous
+            continue
+        except LodelineError as err:
+            problems.append(_locate(err, file, i, "call"))
+            continue
+        parsed.append(rc)
+        previous = rc.azimuth_deg
+    try:
+        _check_varas(doc, parsed, file)
+    except DocumentError as err:
+        problems.append(err)
+    return problems
+
+
+def check_document(doc: Document, *, file: str | None = None) -> None:
+    """Raise the first semantic problem of ``doc`` as a :class:`DocumentError`, if any."""
+    problems = _check_record(doc, file)
+    if problems:
+        raise problems[0]
+    parse_courses(doc, file=file)
