@@ -1,0 +1,887 @@
+"""Bearings, azimuths and declinations as deeds write them: text <-> degrees.
+
+Conventions
+    An azimuth is float degrees clockwise from north, in [0, 360). A quadrant bearing
+    ``N a E`` is azimuth ``a``, ``S a E`` is ``180 - a``, ``S a W`` is ``180 + a`` and
+    ``N a W`` is ``360 - a`` (0 <= a <= 90). A declination is degrees, east positive.
+
+Accepted bearings (case-insensitive, spaces optional, a ``.`` after a word is ignored)
+    - quadrant: ``N 45° 30' E``, ``N45°30'E``, ``N 45-30 E``, ``N 45-30-15 E``,
+      ``N 45 30 15 E``, ``N 45.5 E``, ``N 45½ E``, ``N 45 1/2 E``, ``N45d30m15sE``,
+      ``North 45 degrees 30 minutes East``, ``N 45°30′15″ E`` (primes or straight/curly
+      quotes), decimal minutes or seconds (``N 45°30.5' E``);
+    - cardinal: ``N``, ``North``, ``due North``, ``East``, ``Due South``...;
+    - azimuth: ``Az 225°30'``, ``225-30-00``, ``225.5``, ``225°30' from north``. Azimuths
+      count from north unless ``south_azimuth=True`` (the document says its azimuths count
+      from south); then an unmarked azimuth and ``... from south`` count from south and
+      ``... from north`` from north. ``from south`` without the option is an error.
+
+    The precision a call was written to is kept in ``Bearing.precision_deg``: whole degrees
+    1, quarter degree 0.25, minutes 1/60, seconds 1/3600, one decimal of a degree 0.1,
+    a decimal of a second 0.1/3600. Cardinal calls have precision 1 (a whole-degree call).
+
+Errors
+    :class:`~geo.errors.ParseError` with ``text`` and ``position`` (0-based character where
+    reading failed); the message names what was read and what is wrong, counting
+    characters from 1 for people.
+
+Formatting
+    ``precision`` is a step in degrees: :data:`DEGREE` (1), :data:`MINUTE` (1/60),
+    :data:`SECOND` (1/3600), :data:`TENTH_SECOND` (1/36000), decimals of any of them
+    (0.1, 0.01, 0.1/60...), or 1/n of a degree (0.5, 0.25, 0.125 - written as fractions);
+    a parsed ``Bearing.precision_deg`` can be passed back as is. The strings ``'deg'``,
+    ``'min'``, ``'sec'`` and ``'0.1sec'`` name the four usual steps. Rounding carries
+    (``59′60″`` never appears). Unicode style: ``N 45°30′15″ E``; ASCII style:
+    ``N 45-30-15 E``.
+
+Public API
+    ``Bearing``; ``parse_bearing(text, *, south_azimuth=False) -> Bearing``;
+    ``format_bearing(azimuth_deg, *, precision=SECOND, ascii=False) -> str``;
+    ``format_azimuth(azimuth_deg, *, precision=SECOND, ascii=False, reference='north') -> str``;
+    ``format_declination(declination_deg, *, precision=MINUTE, ascii=False) -> str``;
+    ``parse_declination(value) -> float``; ``DEGREE``, ``MINUTE``, ``SECOND``,
+    ``TENTH_SECOND``. Parsing is a single left-to-right pass (linear in the text length).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from fractions import Fraction
+from typing import Literal
+
+from geo.angles import normalize_azimuth
+from geo.errors import InputError, ParseError
+
+DEGREE = 1.0
+MINUTE = 1.0 / 60.0
+SECOND = 1.0 / 3600.0
+TENTH_SECOND = 1.0 / 36000.0
+
+_NAMED_PRECISIONS = {
+    "deg": DEGREE,
+    "degree": DEGREE,
+    "1°": DEGREE,
+    "min": MINUTE,
+    "minute": MINUTE,
+    "1'": MINUTE,
+    "1′": MINUTE,
+    "sec": SECOND,
+    "second": SECOND,
+    '1"': SECOND,
+    "1″": SECOND,
+    "0.1sec": TENTH_SECOND,
+    '0.1"': TENTH_SECOND,
+    "0.1″": TENTH_SECOND,
+}
+
+# ---------------------------------------------------------------------------------------
+# Tokens (shared with geo.calls)
+
+NUM = "number"
+WORD = "word"
+FRAC = "fraction"  # a vulgar fraction character such as ½
+SLASH = "slash"
+DASH = "dash"
+COMMA = "comma"
+DEG = "degree mark"
+MIN = "minute mark"
+SEC = "second mark"
+OTHER = "other"
+
+_DIGITS = "0123456789"
+_DEG_CHARS = "°º˚"
+_MIN_CHARS = "'′’‘´`"
+_SEC_CHARS = '"″”“'
+_DASH_CHARS = "-–—−‐‑"
+_VULGAR: dict[str, Fraction] = {
+    "½": Fraction(1, 2),
+    "¼": Fraction(1, 4),
+    "¾": Fraction(3, 4),
+    "⅛": Fraction(1, 8),
+    "⅜": Fraction(3, 8),
+    "⅝": Fraction(5, 8),
+    "⅞": Fraction(7, 8),
+    "⅓": Fraction(1, 3),
+    "⅔": Fraction(2, 3),
+    "⅕": Fraction(1, 5),
+    "⅖": Fraction(2, 5),
+    "⅗": Fraction(3, 5),
+    "⅘": Fraction(4, 5),
+    "⅙": Fraction(1, 6),
+    "⅚": Fraction(5, 6),
+}
+_VULGAR_TEXT = {v: k for k, v in _VULGAR.items()}
+_MAX_NUMBER_CHARS = 20
+# Letter pairs written straight after a number in compact bearings (``15sE``): mark + letter.
+_COMPACT_PAIRS = {m + d for m in "dms" for d in "nsew"}
+
+
+class Token:
+    """One token of a call: ``kind``, source span ``[start, end)``, lower-cased ``word``."""
+
+    __slots__ = ("kind", "start", "end", "word", "value", "decimals", "point")
+
+    def __init__(
+        self,
+        kind: str,
+        start: int,
+        end: int,
+        word: str = "",
+        value: Fraction | None = None,
+        decimals: int = 0,
+        point: bool = False,
+    ) -> None:
+        self.kind = kind
+        self.start = start
+        self.end = end
+        self.word = word
+        self.value = value
+        self.decimals = decimals
+        self.point = point
+
+    def __repr__(self) -> str:  # pragma: no cover - debugging aid
+        return f"Token({self.kind}, {self.start}, {self.end}, {self.word!r}, {self.value})"
+
+
+def quote(text: str, position: int | None = None, width: int = 60) -> str:
+    """Return ``text`` in quotes, shortened around ``position`` when it is long."""
+    flat = " ".join(text.split()) if len(text) <= width else text
+    if len(flat) <= width:
+        return f"'{flat}'"
+    pos = 0 if position is None else max(0, min(position, len(text)))
+    start = max(0, pos - width // 2)
+    piece = " ".join(text[start : start + width].split())
+    return f"'{'…' if start else ''}{piece}…'"
+
+
+def fail(text: str, position: int, message: str) -> ParseError:
+    """Build a :class:`ParseError` for ``text`` failing at 0-based ``position``."""
+    position = max(0, min(position, len(text)))
+    return ParseError(
+        f"{message} (at character {position + 1} of {quote(text, position)})",
+        text=text,
+        position=position,
+    )
+
+
+def tokenize(text: str) -> list[Token]:
+    """Split ``text`` into tokens in one pass; raises :class:`ParseError` on huge numbers."""
+    toks: list[Token] = []
+    n = len(text)
+    i = 0
+    while i < n:
+        c = text[i]
+        if c.isspace():
+            i += 1
+        elif c in _DIGITS or (c == "." and i + 1 < n and text[i + 1] in _DIGITS):
+            j = i
+            while j < n and text[j] in _DIGITS:
+                j += 1
+            decimals = 0
+            point = False
+            if j + 1 < n and text[j] == "." and text[j + 1] in _DIGITS:
+                j += 1
+                k = j
+                while j < n and text[j] in _DIGITS:
+                    j += 1
+                decimals = j - k
+                point = True
+            if j - i > _MAX_NUMBER_CHARS:
+                raise fail(text, i, f"the number '{text[i : i + 12]}…' is too long")
+            toks.append(Token(NUM, i, j, text[i:j], Fraction(text[i:j]), decimals, point))
+            i = j
+        elif c in _DEG_CHARS:
+            toks.append(Token(DEG, i, i + 1, c))
+            i += 1
+        elif c in _MIN_CHARS:
+            if i + 1 < n and text[i + 1] in _MIN_CHARS:  # '' written for a double prime
+                toks.append(Token(SEC, i, i + 2, text[i : i + 2]))
+                i += 2
+            else:
+                toks.append(Token(MIN, i, i + 1, c))
+                i += 1
+        elif c in _SEC_CHARS:
+            toks.append(Token(SEC, i, i + 1, c))
+            i += 1
+        elif c in _VULGAR:
+            toks.append(Token(FRAC, i, i + 1, c, _VULGAR[c]))
+            i += 1
+        elif c in _DASH_CHARS:
+            toks.append(Token(DASH, i, i + 1, c))
+            i += 1
+        elif c == "/" or c == "⁄":
+            toks.append(Token(SLASH, i, i + 1, c))
+            i += 1
+        elif c in ",;":
+            toks.append(Token(COMMA, i, i + 1, c))
+            i += 1
+        elif c.isalpha():
+            j = i
+            while j < n and text[j].isalpha() and text[j] not in _DEG_CHARS:
+                j += 1
+            word = text[i:j].casefold()
+            end = j
+            if j < n and text[j] == "." and not (j + 1 < n and text[j + 1] in _DIGITS):
+                end = j + 1  # abbreviation point: "N.", "chs.", "deg."
+            if len(word) == 2 and word in _COMPACT_PAIRS and i > 0 and text[i - 1] in _DIGITS:
+                toks.append(Token(WORD, i, i + 1, word[0]))
+                toks.append(Token(WORD, i + 1, end, word[1]))
+            else:
+                toks.append(Token(WORD, i, end, word))
+            i = end
+        else:
+            toks.append(Token(OTHER, i, i + 1, c))
+            i += 1
+    return toks
+
+
+# ---------------------------------------------------------------------------------------
+# Reading numbers and angles
+
+_NS = {"n": "N", "north": "N", "s": "S", "south": "S"}
+_EW = {"e": "E", "east": "E", "w": "W", "west": "W"}
+_INTERCARDINAL = {
+    "ne",
+    "nw",
+    "se",
+    "sw",
+    "northeast",
+    "northwest",
+    "southeast",
+    "southwest",
+    "nne",
+    "ene",
+    "ese",
+    "sse",
+    "ssw",
+    "wsw",
+    "wnw",
+    "nnw",
+}
+_AZ_WORDS = {"az", "azm", "azi", "azimuth"}
+_DEG_WORDS = {"d", "deg", "degs", "degree", "degrees"}
+_MIN_WORDS = {"m", "min", "mins", "minute", "minutes"}
+_SEC_WORDS = {"s", "sec", "secs", "second", "seconds"}
+_LEVEL_NAMES = ("degrees", "minutes", "seconds")
+
+
+@dataclass(frozen=True)
+class Quantity:
+    """A number as written: exact ``value``, the ``step`` it was written to, its span."""
+
+    value: Fraction
+    step: Fraction
+    start: int
+    end: int
+    whole: bool  # written as a whole number (no decimals, no fraction)
+
+
+class Reader:
+    """Cursor over the tokens of one text (used by this module and :mod:`geo.calls`)."""
+
+    def __init__(self, text: str) -> None:
+        self.text = text
+        self.toks = tokenize(text)
+
+    def tok(self, i: int) -> Token | None:
+        return self.toks[i] if 0 <= i < len(self.toks) else None
+
+    def kind(self, i: int) -> str | None:
+        t = self.tok(i)
+        return t.kind if t is not None else None
+
+    def word(self, i: int) -> str | None:
+        t = self.tok(i)
+        return t.word if t is not None and t.kind == WORD else None
+
+    def pos(self, i: int) -> int:
+        t = self.tok(i)
+        return t.start if t is not None else len(self.text)
+
+    def fail(self, i: int, message: str) -> ParseError:
+        return fail(self.text, self.pos(i), message)
+
+    def span(self, i: int, j: int) -> str:
+        """Source text of tokens ``i..j-1``."""
+        if j <= i:
+            return ""
+        return self.text[self.toks[i].start : self.toks[j - 1].end]
+
+    def is_number(self, i: int) -> bool:
+        return self.kind(i) == NUM
+
+    def is_negative(self, i: int) -> bool:
+        return self.kind(i) == DASH and self.kind(i + 1) == NUM and self._dash_starts(i)
+
+    def _dash_starts(self, i: int) -> bool:
+        prev = self.tok(i - 1)
+        return prev is None or prev.kind in (WORD, COMMA, OTHER)
+
+    def quantity(self, i: int) -> tuple[Quantity, int] | None:
+        """Read ``45``, ``45.5``, ``45½``, ``45 1/2``, ``45-1/2`` or ``1/2`` at token ``i``."""
+        t = self.tok(i)
+        if t is None or t.kind != NUM:
+            return None
+        assert t.value is not None
+        if self.kind(i + 1) == SLASH and self.kind(i + 2) == NUM:
+            return self._fraction(i, Fraction(0))
+        if t.point:
+            return Quantity(t.value, Fraction(1, 10**t.decimals), t.start, t.end, False), i + 1
+        nxt = self.tok(i + 1)
+        if nxt is not None and nxt.kind == FRAC:
+            assert nxt.value is not None
+            step = Fraction(1, nxt.value.denominator)
+            return Quantity(t.value + nxt.value, step, t.start, nxt.end, False), i + 2
+        k = i + 1
+        if self.kind(k) == DASH and self.kind(k + 2) == SLASH:
+            k += 1
+        if self.kind(k) == NUM and self.kind(k + 1) == SLASH and self.kind(k + 2) == NUM:
+            return self._fraction(k, t.value, start=t.start, proper=True)
+        return Quantity(t.value, Fraction(1), t.start, t.end, True), i + 1
+
+    def _fraction(
+        self, i: int, whole: Fraction, start: int | None = None, proper: bool = False
+    ) -> tuple[Quantity, int]:
+        num, den = self.toks[i], self.toks[i + 2]
+        assert num.value is not None and den.value is not None
+        if num.point or den.point or den.value == 0:
+            raise self.fail(i, f"'{self.span(i, i + 3)}' is not a fraction such as 1/2 or 3/4")
+        frac = num.value / den.value
+        if proper and not 0 < frac < 1:
+            raise self.fail(
+                i, f"'{self.span(i, i + 3)}' after a whole number must be a fraction below 1"
+            )
+        first = self.toks[i].start if start is None else start
+        return Quantity(whole + frac, Fraction(1, den.value), first, den.end, False), i + 3
+
+    def mark(self, i: int, level: int, words_ok: bool) -> int | None:
+        """Return the level (0 deg, 1 min, 2 sec) of an angle mark at token ``i``, if any.
+
+        ``level`` is the part just read; ``words_ok`` says whether the bare letters
+        ``m``/``s`` count as minute/second marks (only after an explicit degree mark or in
+        a quadrant bearing, since ``m`` also means metres).
+        """
+        t = self.tok(i)
+        if t is None:
+            return None
+        if t.kind == DEG:
+            return 0
+        if t.kind == MIN:
+            return 1
+        if t.kind == SEC:
+            return 2
+        if t.kind != WORD:
+            return None
+        w = t.word
+        if w in _DEG_WORDS:
+            return 0
+        if w in _MIN_WORDS and (w != "m" or (words_ok and level == 1)):
+            return 1
+        if w in _SEC_WORDS and (w != "s" or (words_ok and level == 2)):
+            return 2
+        return None
+
+
+@dataclass(frozen=True)
+class Angle:
+    """An angle read from degrees/minutes/seconds parts (exact, with its step)."""
+
+    value: Fraction
+    step: Fraction
+    start: int
+    end: int
+    marked: bool  # at least one explicit mark (°, ', d, degrees...)
+
+
+def read_angle(
+    r: Reader,
+    i: int,
+    *,
+    quadrant: bool,
+    stop_before_units: frozenset[str] | set[str] = frozenset(),
+) -> tuple[Angle, int]:
+    """Read degrees [minutes [seconds]] starting at token ``i``.
+
+    Parts are separated by marks, hyphens or spaces. In a quadrant bearing the E/W letter
+    ends the angle, so every following number belongs to it. Otherwise (azimuths in a
+    call) an unmarked part is left alone when the token after it is one of
+    ``stop_before_units`` (it is then the distance), or when it carries a mark of the wrong
+    kind (``120'`` after minutes is a length in feet).
+    """
+    first = r.quantity(i)
+    if first is None:
+        raise r.fail(i, "expected the angle (a number of degrees)")
+    total = Fraction(0)
+    step = Fraction(1)
+    marked = False
+    q, j = first
+    qi = i
+    level = 0
+    while True:
+        m = r.mark(j, level, words_ok=quadrant or marked)
+        if m is not None and m != level:
+            if level == 0:
+                raise r.fail(
+                    j,
+                    f"'{r.span(j, j + 1)}' after {_num(q.value)} marks {_LEVEL_NAMES[m]}, "
+                    "but the degrees come first",
+                )
+            raise r.fail(
+                j,
+                f"'{r.span(j, j + 1)}' marks {_LEVEL_NAMES[m]} where "
+                f"{_LEVEL_NAMES[level]} were expected",
+            )
+        if level > 0 and q.value >= 60:
+            raise r.fail(qi, f"{_LEVEL_NAMES[level]} {_num(q.value)} must be less than 60")
+        total += q.value / (60**level)
+        step = q.step / (60**level)
+        end = q.end
+        if m is not None:
+            marked = True
+            end = r.toks[j].end
+            j += 1
+        if level == 2:
+            break
+        k = j
+        dashed = r.kind(k) == DASH and r.kind(k + 1) == NUM
+        if dashed:
+            k += 1
+        if r.kind(k) != NUM:
+            break
+        nxt = r.quantity(k)
+        assert nxt is not None
+        nq, nj = nxt
+        if not quadrant and not dashed:
+            # In an azimuth a number joined by a space is the next part only when it is
+            # not the distance that follows the azimuth.
+            after = r.tok(nj)
+            if after is not None and after.kind == WORD and after.word in stop_before_units:
+                break
+            nm = r.mark(nj, level + 1, words_ok=marked)
+            if nm is not None and nm != level + 1:
+                break
+        if not q.whole:
+            raise r.fail(
+                k,
+                f"{_LEVEL_NAMES[level]} {r.text[q.start : q.end]} have a fractional part, "
+                f"so no {_LEVEL_NAMES[level + 1]} can follow",
+            )
+        q, j, qi = nq, nj, k
+        level += 1
+    return Angle(total, step, first[0].start, end, marked), j
+
+
+def _num(value: Fraction) -> str:
+    if value.denominator == 1:
+        return str(value.numerator)
+    return f"{float(value):g}"
+
+
+# ---------------------------------------------------------------------------------------
+# Bearings
+
+Style = Literal["quadrant", "azimuth", "cardinal"]
+
+
+@dataclass(frozen=True)
+class Bearing:
+    """A bearing or azimuth as read from a call.
+
+    ``azimuth_deg``: degrees clockwise from north in [0, 360). ``style``: how it was
+    written. ``precision_deg``: the step it was written to (degrees). ``text``: the source
+    text of the bearing. ``quadrant``: ``'NE'``, ``'SE'``, ``'SW'`` or ``'NW'`` for a
+    quadrant bearing, else ``None``. ``angle_deg``: the quadrant angle (0-90) or the
+    azimuth as written from its reference; ``None`` for cardinal calls. ``reference``:
+    ``'north'`` or ``'south'`` (the origin an azimuth was counted from).
+    """
+
+    azimuth_deg: float
+    style: Style
+    precision_deg: float
+    text: str
+    quadrant: str | None = None
+    angle_deg: float | None = None
+    reference: Literal["north", "south"] = "north"
+
+
+def starts_bearing(r: Reader, i: int) -> bool:
+    """True when token ``i`` begins a bearing written with words (N, South, due, Az...)."""
+    w = r.word(i)
+    return w is not None and (
+        w in _NS or w in _EW or w in _AZ_WORDS or w == "due" or w in _INTERCARDINAL
+    )
+
+
+def read_bearing(
+    r: Reader,
+    i: int,
+    *,
+    south_azimuth: bool,
+    stop_before_units: frozenset[str] | set[str] = frozenset(),
+) -> tuple[Bearing, int]:
+    """Read one bearing starting at token ``i``; return it and the next token index."""
+    t = r.tok(i)
+    if t is None:
+        raise r.fail(i, "expected a bearing")
+    w = r.word(i)
+    if w == "due":
+        d = r.word(i + 1)
+        if d is None or (d not in _NS and d not in _EW):
+            raise r.fail(i + 1, "'due' must be followed by North, South, East or West")
+        return _cardinal(r, i, i + 1), i + 2
+    if w in _INTERCARDINAL:
+        raise r.fail(
+            i,
+            f"'{r.span(i, i + 1)}' gives no angle: write a quadrant bearing such as N 45 E",
+        )
+    if w in _NS:
+        return _quadrant(r, i, stop_before_units)
+    if w in _EW:
+        if r.is_number(i + 1) or r.is_negative(i + 1):
+            raise r.fail(
+                i,
+                f"a quadrant bearing starts with N or S, not '{r.span(i, i + 1)}' "
+                "(write it as N/S angle E/W)",
+            )
+        if r.word(i + 1) in _NS or r.word(i + 1) in _EW:
+            raise r.fail(i + 1, f"direction given twice: '{r.span(i, i + 2)}'")
+        return _cardinal(r, i, i), i + 1
+    if w in _AZ_WORDS:
+        if r.is_negative(i + 1) or (r.kind(i + 1) == DASH and r.is_number(i + 2)):
+            raise r.fail(i + 1, "negative angle: an azimuth is written from 0 to 360")
+        if not r.is_number(i + 1):
+            raise r.fail(i + 1, f"expected the azimuth angle after '{r.span(i, i + 1)}'")
+        return _azimuth(r, i, i + 1, south_azimuth, stop_before_units)
+    if r.is_negative(i) or (t.kind == DASH and r.is_number(i + 1)):
+        raise r.fail(i, "negative angle: bearings and azimuths are written without a sign")
+    if t.kind == NUM:
+        return _azimuth(r, i, i, south_azimuth, stop_before_units)
+    raise r.fail(i, f"'{r.span(i, i + 1)}' does not start a bearing (N/S, a cardinal or Az)")
+
+
+def _cardinal(r: Reader, start: int, i: int) -> Bearing:
+    w = r.word(i)
+    assert w is not None
+    letter = _NS.get(w) or _EW[w]
+    az = {"N": 0.0, "E": 90.0, "S": 180.0, "W": 270.0}[letter]
+    return Bearing(az, "cardinal", 1.0, r.span(start, i + 1))
+
+
+def _quadrant(r: Reader, i: int, stop_before_units) -> tuple[Bearing, int]:
+    ns = _NS[r.word(i) or ""]
+    j = i + 1
+    w2 = r.word(j)
+    if w2 in _NS:
+        raise r.fail(j, f"N or S given twice: '{r.span(i, j + 1)}'")
+    if w2 in _EW:
+        if r.is_number(j + 1):
+            raise r.fail(j, f"'{r.span(i, j + 1)}': the angle comes between N/S and E/W")
+        raise r.fail(
+            j, f"'{r.span(i, j + 1)}' gives no angle: write a quadrant bearing such as N 45 E"
+        )
+    if r.kind(j) == DASH and r.is_number(j + 1):
+        raise r.fail(j, "negative angle: a quadrant angle is written from 0 to 90")
+    if not r.is_number(j):
+        return _cardinal(r, i, i), j
+    got = r.quantity(j)
+    if got is not None and r.word(got[1]) in stop_before_units:
+        return _cardinal(r, i, i), j  # "North 20 perches": a cardinal call and a distance
+    angle, k = read_angle(r, j, quadrant=True)
+    ew_word = r.word(k)
+    if ew_word not in _EW:
+        if ew_word in _NS:
+            raise r.fail(
+                k,
+                "N or S given twice: a quadrant bearing ends with E or W, "
+                f"not '{r.span(k, k + 1)}'",
+            )
+        if r.is_number(k):
+            raise r.fail(k, f"too many numbers in the angle of '{r.span(i, k + 1)}'")
+        raise r.fail(k, f"E or W missing after '{r.span(i, k)}'")
+    ew = _EW[ew_word]
+    if r.word(k + 1) in _EW:
+        raise r.fail(k + 1, f"E or W given twice: '{r.span(i, k + 2)}'")
+    if angle.value > 90:
+        raise r.fail(j, f"quadrant angle {r.text[angle.start : angle.end]} is more than 90 degrees")
+    a = angle.value
+    az = {"NE": a, "SE": 180 - a, "SW": 180 + a, "NW": 360 - a}[ns + ew]
+    bearing = Bearing(
+        float(normalize_azimuth(float(az))),
+        "quadrant",
+        float(angle.step),
+        r.span(i, k + 1),
+        ns + ew,
+        float(a),
+    )
+    return bearing, k + 1
+
+
+def _azimuth(
+    r: Reader, start: int, i: int, south_azimuth: bool, stop_before_units
+) -> tuple[Bearing, int]:
+    angle, k = read_angle(r, i, quadrant=False, stop_before_units=stop_before_units)
+    w = r.word(k)
+    if w in _EW:
+        raise r.fail(
+            k, f"N or S missing before the angle: '{r.span(start, k + 1)}' is not a bearing"
+        )
+    if w in _NS:
+        raise r.fail(k, f"'{r.span(start, k + 1)}': N or S comes before the angle")
+    reference: Literal["north", "south"] = "south" if south_azimuth else "north"
+    end = k
+    if w == "from":
+        m = k + 1
+        if r.word(m) == "the":
+            m += 1
+        ref = r.word(m)
+        if ref not in ("n", "north", "s", "south"):
+            raise r.fail(m, "'from' must be followed by north or south")
+        reference = "north" if ref in ("n", "north") else "south"
+        if reference == "south" and not south_azimuth:
+            raise r.fail(
+                m,
+                "azimuth counted from south, but this document counts azimuths from north "
+                "(set the south-azimuth option if it really counts from south)",
+            )
+        end = m + 1
+    if angle.value > 360:
+        raise r.fail(i, f"azimuth {r.text[angle.start : angle.end]} is more than 360 degrees")
+    from_north = angle.value + (180 if reference == "south" else 0)
+    bearing = Bearing(
+        float(normalize_azimuth(float(from_north))),
+        "azimuth",
+        float(angle.step),
+        r.span(start, end),
+        None,
+        float(angle.value),
+        reference,
+    )
+    return bearing, end
+
+
+def looks_like_bearing(r: Reader, i: int) -> bool:
+    """True when token ``i`` begins a second bearing (direction word + number, Az, 45°)."""
+    w = r.word(i)
+    if w is not None:
+        if w in _AZ_WORDS:
+            return True
+        if w in _NS or w in _EW:
+            return r.is_number(i + 1) or r.word(i + 1) in _EW
+        return w == "due"
+    if r.is_number(i):
+        q = r.quantity(i)
+        return q is not None and r.mark(q[1], 0, words_ok=False) == 0
+    return False
+
+
+def parse_bearing(text: str, *, south_azimuth: bool = False) -> Bearing:
+    """Read a quadrant bearing, cardinal call or azimuth; the whole text must be one bearing.
+
+    Returns a :class:`Bearing` (azimuth in degrees clockwise from north, [0, 360)).
+    ``south_azimuth``: the document counts azimuths from south (see the module notes).
+    Raises :class:`ParseError` naming what was read, what is wrong and the character.
+    """
+    if not isinstance(text, str):
+        raise ParseError(f"a bearing must be text, not {type(text).__name__}", text=str(text))
+    if not text.strip():
+        raise ParseError("empty bearing: nothing to read", text=text, position=0)
+    r = Reader(text)
+    bearing, j = read_bearing(r, 0, south_azimuth=south_azimuth)
+    if j < len(r.toks):
+        if looks_like_bearing(r, j):
+            raise r.fail(j, f"several bearings in one call: '{bearing.text}' and then more")
+        raise r.fail(j, f"unexpected '{r.span(j, j + 1)}' after the bearing '{bearing.text}'")
+    return bearing
+
+
+# ---------------------------------------------------------------------------------------
+# Formatting
+
+
+@dataclass(frozen=True)
+class _Plan:
+    per_degree: int  # counts per degree
+    level: int  # 0 deg, 1 min, 2 sec; -1 for fractions of a degree
+    decimals: int
+
+
+def _plan(precision: float | str) -> _Plan:
+    if isinstance(precision, str):
+        key = precision.strip().casefold()
+        if key not in _NAMED_PRECISIONS:
+            raise InputError(
+                f"unknown precision {precision!r}: use 'deg', 'min', 'sec', '0.1sec' "
+                "or a step in degrees"
+            )
+        precision = _NAMED_PRECISIONS[key]
+    if isinstance(precision, bool) or not isinstance(precision, int | float | Fraction):
+        raise InputError(f"precision {precision!r} is not a step in degrees")
+    p = float(precision)
+    if not (math.isfinite(p) and p > 0):
+        raise InputError(f"precision {precision!r} must be a positive step in degrees")
+    for level, unit in enumerate((1.0, 60.0, 3600.0)):
+        ratio = p * unit
+        k = round(-math.log10(ratio))
+        if 0 <= k <= 4 and abs(ratio - 10.0**-k) <= 1e-9 * 10.0**-k:
+            return _Plan(int(round(unit)) * 10**k, level, k)
+    n = round(1.0 / p)
+    if 2 <= n <= 64 and abs(1.0 / p - n) <= 1e-9 * n:
+        return _Plan(n, -1, 0)
+    raise InputError(
+        f"precision {precision!r} is not supported: use 1°, 1′, 1″, 0.1″, a decimal of "
+        "them, or a fraction 1/n of a degree"
+    )
+
+
+def _counts(angle_deg: float, plan: _Plan) -> int:
+    return math.floor(angle_deg * plan.per_degree + 0.5)
+
+
+def _render(counts: int, plan: _Plan, ascii: bool) -> str:
+    """Text of a non-negative angle given in counts of the plan's step."""
+    k = plan.decimals
+    if plan.level == -1:
+        d, num = divmod(counts, plan.per_degree)
+        if num == 0:
+            return f"{d}" if ascii else f"{d}°"
+        frac = Fraction(num, plan.per_degree)
+        if ascii or frac not in _VULGAR_TEXT:
+            text = f"{d} {frac.numerator}/{frac.denominator}"
+            return text if ascii else text + "°"
+        return f"{d}{_VULGAR_TEXT[frac]}°"
+    scale = 10**k
+    if plan.level == 0:
+        d, f = divmod(counts, scale)
+        text = f"{d}.{f:0{k}d}" if k else f"{d}"
+        return text if ascii else text + "°"
+    d, rest = divmod(counts, plan.per_degree)
+    if plan.level == 1:
+        m, mf = divmod(rest, scale)
+        ms = f"{m:02d}.{mf:0{k}d}" if k else f"{m:02d}"
+        return f"{d}-{ms}" if ascii else f"{d}°{ms}′"
+    m, rest = divmod(rest, 60 * scale)
+    s, sf = divmod(rest, scale)
+    ss = f"{s:02d}.{sf:0{k}d}" if k else f"{s:02d}"
+    return f"{d}-{m:02d}-{ss}" if ascii else f"{d}°{m:02d}′{ss}″"
+
+
+def finite_number(value: float, what: str) -> float:
+    """Return ``value`` as a finite float or raise :class:`InputError` naming ``what``."""
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise InputError(f"{what} {value!r} is not a number") from None
+    if not math.isfinite(v):
+        raise InputError(f"{what} {value!r} is not a finite number")
+    return v
+
+
+def format_bearing(
+    azimuth_deg: float, *, precision: float | str = SECOND, ascii: bool = False
+) -> str:
+    """Write an azimuth (degrees from north) as a quadrant bearing.
+
+    ``N 45°30′15″ E`` (or ``N 45-30-15 E`` with ``ascii=True``), rounded to ``precision``
+    (see the module notes) with carry. North is ``N 0°… E``, east ``N 90°… E``, south
+    ``S 0°… E`` and west ``N 90°… W``.
+    """
+    plan = _plan(precision)
+    full = 360 * plan.per_degree
+    c = _counts(finite_number(azimuth_deg, "azimuth") % 360.0, plan) % full
+    quarter = 90 * plan.per_degree
+    if c <= quarter:
+        ns, ew, a = "N", "E", c
+    elif c <= 2 * quarter:
+        ns, ew, a = "S", "E", 2 * quarter - c
+    elif c < 3 * quarter:
+        ns, ew, a = "S", "W", c - 2 * quarter
+    else:
+        ns, ew, a = "N", "W", full - c
+    return f"{ns} {_render(a, plan, ascii)} {ew}"
+
+
+def format_azimuth(
+    azimuth_deg: float,
+    *,
+    precision: float | str = SECOND,
+    ascii: bool = False,
+    reference: Literal["north", "south"] = "north",
+) -> str:
+    """Write an azimuth (degrees from north) as azimuth text: ``225°30′00″`` / ``225-30-00``.
+
+    With ``reference='south'`` the angle is counted from south and the text ends in
+    ``from south`` (read back with ``parse_bearing(..., south_azimuth=True)``).
+    """
+    if reference not in ("north", "south"):
+        raise InputError(f"unknown azimuth reference {reference!r}: use 'north' or 'south'")
+    plan = _plan(precision)
+    az = finite_number(azimuth_deg, "azimuth") + (180.0 if reference == "south" else 0.0)
+    c = _counts(az % 360.0, plan) % (360 * plan.per_degree)
+    text = _render(c, plan, ascii)
+    return text + " from south" if reference == "south" else text
+
+
+def format_declination(
+    declination_deg: float, *, precision: float | str = MINUTE, ascii: bool = False
+) -> str:
+    """Write a signed angle (east positive) as ``3°10′ E`` / ``3°10′ W`` (``3-10 W`` ascii).
+
+    Zero after rounding is written without a letter (``0°00′``).
+    """
+    plan = _plan(precision)
+    d = finite_number(declination_deg, "declination")
+    c = _counts(abs(d), plan)
+    text = _render(c, plan, ascii)
+    if c == 0:
+        return text
+    return f"{text} {'E' if d > 0 else 'W'}"
+
+
+def parse_declination(value: str | float | int) -> float:
+    """Read a declination (or any signed east/west angle) and return degrees, east positive.
+
+    Accepts a number (``-3.1667``), or text: ``3°10' W``, ``3 10 W``, ``W 3°10'``,
+    ``3.5 E``, ``-3.1667``, ``+2.5``. A letter and a sign together are an error, and so is
+    an angle beyond 180 degrees. Raises :class:`ParseError`.
+    """
+    if isinstance(value, bool):
+        raise ParseError(f"{value!r} is not a declination", text=str(value))
+    if isinstance(value, int | float | Fraction):
+        v = float(value)
+        if not math.isfinite(v) or abs(v) > 180:
+            raise ParseError(
+                f"declination {value!r} must be a finite angle within ±180 degrees",
+                text=str(value),
+            )
+        return v + 0.0
+    if not isinstance(value, str):
+        raise ParseError(f"a declination must be text or a number, not {type(value).__name__}")
+    if not value.strip():
+        raise ParseError("empty declination: nothing to read", text=value, position=0)
+    r = Reader(value)
+    i = 0
+    sign = 0
+    letter = None
+    t = r.tok(0)
+    if t is not None and (t.kind == DASH or (t.kind == OTHER and t.word == "+")):
+        sign = -1 if t.kind == DASH else 1
+        i = 1
+    if r.word(i) in _EW:
+        letter = _EW[r.word(i) or ""]
+        i += 1
+    if not r.is_number(i):
+        raise r.fail(i, "expected the declination angle (for example 3°10' W)")
+    angle, j = read_angle(r, i, quadrant=True)
+    if letter is None and r.word(j) in _EW:
+        letter = _EW[r.word(j) or ""]
+        j += 1
+    if j < len(r.toks):
+        raise r.fail(j, f"unexpected '{r.span(j, j + 1)}' after the declination")
+    if letter is not None and sign:
+        raise r.fail(0, "give either a sign or E/W, not both")
+    if angle.value > 180:
+        raise r.fail(i, f"declination {r.text[angle.start : angle.end]} is more than 180 degrees")
+    negative = sign < 0 or letter == "W"
+    v = float(angle.value)
+    return (-v if negative else v) + 0.0
