@@ -19,6 +19,7 @@ from geo import __version__
 SUBCOMMANDS: list[tuple[str, str]] = [
     ("field", "field"),
     ("models", "models"),
+    ("open", "open"),
 ]
 
 EPILOG = (

@@ -1,0 +1,435 @@
+"""The lodeline terminal application: the App, its keys and its commands.
+
+The App owns the :class:`~tui.workspace.Workspace` (the document, its file and its history)
+and the actions that act on the whole document: save, save as, undo, redo, export, report,
+key guide, quit. The desk screen (:mod:`tui.screens.desk`) shows and edits the document;
+dialogs ask the questions (:mod:`tui.dialogs`). Numbers come from :mod:`geo` through
+:mod:`tui.results`; nothing here computes a bearing.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import re
+from collections.abc import Iterable
+from pathlib import Path
+from typing import Any
+
+from textual.app import App, SystemCommand
+from textual.binding import Binding
+from textual.screen import Screen
+
+from geo.errors import DocumentError, LodelineError
+from tui.dialogs.choice import ChoiceDialog
+from tui.dialogs.file_prompt import FileNamePrompt
+from tui.screens.desk import Desk
+from tui.screens.key_guide import KeyGuide
+from tui.widgets.call_table import CallEditor, CallTable
+from tui.widgets.sketch import TraverseSketch
+from tui.workspace import (
+    Workspace,
+    discard_recovery,
+    new_document,
+    read_recovery,
+    saveable_document,
+    write_recovery,
+)
+
+DOCUMENT_SUFFIXES = (".toml", ".json")
+
+
+def load_workspace(path: Path | None) -> Workspace:
+    """A workspace on document ``path``: read it if it exists (calls that do not read are
+    kept), or a new document to be saved there. Raises :class:`DocumentError` for a file
+    that is not a traverse document (before any screen opens)."""
+    from geo.document import document_to_dict, load_document
+
+    if path is None:
+        return Workspace(doc=new_document())
+    if path.suffix.lower() not in DOCUMENT_SUFFIXES:
+        raise DocumentError("a traverse document ends in .toml or .json", file=str(path))
+    if not path.exists():
+        return Workspace(doc=new_document(), path=path)
+    doc = document_to_dict(load_document(path, check=False))
+    if not doc.get("course"):
+        doc = {**doc, "course": [{"call": ""}]}
+    return Workspace(doc=doc, path=path)
+
+
+_FOUND_KEYS = {
+    "e": "easting",
+    "easting": "easting",
+    "n": "northing",
+    "northing": "northing",
+    "lat": "lat",
+    "latitude": "lat",
+    "lon": "lon",
+    "longitude": "lon",
+}
+
+
+def parse_found(text: str) -> dict[str, float] | str | None:
+    """Read a found position typed as ``easting=…, northing=…`` (``E=… N=…``), ``lat=…,
+    lon=…`` or two bare numbers (easting northing). Text that does not read is returned as
+    typed (the document check then names the course and key); empty text gives ``None``."""
+    text = text.strip()
+    if not text:
+        return None
+    parts = [p for p in re.split(r"[,\s;]+", text) if p]
+    try:
+        if all("=" not in p for p in parts) and len(parts) == 2:
+            return {"easting": float(parts[0]), "northing": float(parts[1])}
+        out: dict[str, float] = {}
+        for part in parts:
+            key, _, value = part.partition("=")
+            out[_FOUND_KEYS[key.strip().lower()]] = float(value)
+        return out
+    except (KeyError, ValueError):
+        return text
+
+
+class LodelineApp(App[int]):
+    """Edit a traverse and see its conversions, closure and sketch update as you type."""
+
+    TITLE = "lodeline"
+    ENABLE_COMMAND_PALETTE = True
+
+    BINDINGS = [
+        Binding("f1", "key_guide", "Keys"),
+        Binding("ctrl+s", "save", "Save", priority=True),
+        Binding("f9", "save_as", "Save as"),
+        Binding("ctrl+z", "undo", "Undo", priority=True),
+        Binding("ctrl+y", "redo", "Redo", priority=True),
+        Binding("f6", "export('geojson')", "GeoJSON"),
+        Binding("f7", "export('csv')", "CSV"),
+        Binding("f8", "export('report')", "Report"),
+        Binding("ctrl+q", "quit", "Quit", priority=True),
+    ]
+
+    def __init__(self, workspace: Workspace | None = None) -> None:
+        super().__init__()
+        self.workspace = workspace or Workspace()
+        self.parse_found = parse_found
+
+    # -- start -------------------------------------------------------------------------
+    def on_mount(self) -> None:
+        self.push_screen(Desk())
+        self.call_after_refresh(self._offer_recovery)
+
+    @property
+    def desk(self) -> Desk:
+        for screen in self.screen_stack:
+            if isinstance(screen, Desk):
+                return screen
+        raise LookupError("the desk is not open")
+
+    def _offer_recovery(self) -> None:
+        ws = self.workspace
+        found = read_recovery(ws.path)
+        if found is None or found.doc == ws.doc:
+            return
+        when = _dt.datetime.fromtimestamp(found.saved_at).strftime("%Y-%m-%d %H:%M")
+        name = str(ws.path) if ws.path else "a new document"
+
+        def answered(answer: str | None) -> None:
+            if answer == "restore":
+                ws.replace(found.doc, label="restore unsaved changes")
+                self.desk.reload()
+                self.notify("Unsaved changes restored (Ctrl+Z undoes the restore).")
+            elif answer == "discard":
+                discard_recovery(ws.path)
+                self.notify("Kept changes discarded.")
+
+        self.push_screen(
+            ChoiceDialog(
+                "Unsaved changes found",
+                f"Changes to {name} that were not saved (kept {when}) were found, probably "
+                "after a crash. Restore them?",
+                [("restore", "Restore them"), ("discard", "Discard them")],
+            ),
+            answered,
+        )
+
+    # -- recovery ----------------------------------------------------------------------
+    def keep_recovery(self) -> None:
+        """Keep unsaved changes in the recovery file (or remove it when all is saved)."""
+        ws = self.workspace
+        try:
+            if ws.dirty:
+                write_recovery(ws)
+            else:
+                discard_recovery(ws.path)
+        except OSError as err:
+            self.notify(f"⚠ cannot keep the recovery file: {err}", severity="warning")
+
+    # -- commands ----------------------------------------------------------------------
+    def get_system_commands(self, screen: Screen) -> Iterable[SystemCommand]:
+        yield from super().get_system_commands(screen)
+        commands = [
+            (
+                "Save",
+                "Write the document (Ctrl+S); the previous file is kept as .bak",
+                self.action_save,
+            ),
+            ("Save as…", "Write the document under a new name (F9)", self.action_save_as),
+            ("Undo", "Undo the last edit (Ctrl+Z)", self.action_undo),
+            ("Redo", "Redo the last undone edit (Ctrl+Y)", self.action_redo),
+            (
+                "Export GeoJSON…",
+                "Write the traverse as GeoJSON (F6)",
+                lambda: self.action_export("geojson"),
+            ),
+            (
+                "Export CSV…",
+                "Write stations and courses as CSV (F7)",
+                lambda: self.action_export("csv"),
+            ),
+            (
+                "Write report…",
+                "Write the retracement report (F8)",
+                lambda: self.action_export("report"),
+            ),
+            ("Key guide", "Every key, and the cautions (F1)", self.action_key_guide),
+            (
+                "Show job",
+                "Bring the job settings forward (F2)",
+                lambda: self.desk.action_pane("job"),
+            ),
+            (
+                "Show calls",
+                "Bring the call table forward (F3)",
+                lambda: self.desk.action_pane("calls"),
+            ),
+            (
+                "Show findings",
+                "Bring the findings and sketch forward (F4)",
+                lambda: self.desk.action_pane("findings"),
+            ),
+            (
+                "Fit sketch",
+                "Frame the whole figure in the sketch (0 in the sketch)",
+                lambda: self.desk.query_one(TraverseSketch).action_fit(),
+            ),
+            (
+                "Add course",
+                "Add a course after the current one (a)",
+                lambda: self._table_action("add_after"),
+            ),
+            (
+                "Insert course",
+                "Insert a course above the current one (i)",
+                lambda: self._table_action("insert_before"),
+            ),
+            (
+                "Delete course",
+                "Delete the current course (Delete or x)",
+                lambda: self._table_action("delete_course"),
+            ),
+            (
+                "Move course up",
+                "Move the current course up (Alt+Up or [)",
+                lambda: self._table_action("move", -1),
+            ),
+            (
+                "Move course down",
+                "Move the current course down (Alt+Down or ])",
+                lambda: self._table_action("move", 1),
+            ),
+            (
+                "Edit call",
+                "Edit the current call (Enter)",
+                lambda: self._table_action("edit", "call"),
+            ),
+            (
+                "Edit back bearing",
+                "Edit the back bearing of the current course (b)",
+                lambda: self._table_action("edit", "back"),
+            ),
+            (
+                "Edit found position",
+                "Edit the found position of the current course (f)",
+                lambda: self._table_action("edit", "found"),
+            ),
+            (
+                "Edit every",
+                "Edit the spacing of points along the current course (e)",
+                lambda: self._table_action("edit", "every"),
+            ),
+            (
+                "Edit note",
+                "Edit the note of the current course (n)",
+                lambda: self._table_action("edit", "note"),
+            ),
+            (
+                "Quit",
+                "Leave lodeline, asking first about unsaved changes (Ctrl+Q)",
+                self.action_quit,
+            ),
+        ]
+        for title, help_text, callback in commands:
+            yield SystemCommand(title, help_text, callback)
+
+    def _table_action(self, name: str, *args: Any) -> None:
+        table = self.desk.query_one(CallTable)
+        getattr(table, f"action_{name}")(*args)
+
+    # -- actions -----------------------------------------------------------------------
+    def action_key_guide(self) -> None:
+        """Show every key and the cautions."""
+        groups = [
+            ("anywhere", self.BINDINGS),
+            ("anywhere", Desk.BINDINGS),
+            ("anywhere", [Binding("ctrl+p", "command_palette", "Command palette: every action")]),
+            ("call table", CallTable.BINDINGS),
+            (
+                "call editor",
+                [
+                    *CallEditor.BINDINGS,
+                    Binding("enter", "done", "Finish editing, back to the table"),
+                ],
+            ),
+            ("sketch", TraverseSketch.BINDINGS),
+            (
+                "sketch",
+                [
+                    Binding("plus", "zoom_in", "Zoom in"),
+                    Binding("minus", "zoom_out", "Zoom out"),
+                    Binding("left,right,up,down", "pan", "Pan"),
+                ],
+            ),
+            (
+                "job form",
+                [
+                    Binding("tab", "next", "Next field"),
+                    Binding("shift+tab", "previous", "Previous field"),
+                ],
+            ),
+        ]
+        self.push_screen(KeyGuide(groups))
+
+    def action_undo(self) -> None:
+        """Undo the last edit of the document."""
+        label = self.workspace.undo()
+        self._after_history(label, "Undone", "nothing to undo")
+
+    def action_redo(self) -> None:
+        """Redo the last undone edit."""
+        label = self.workspace.redo()
+        self._after_history(label, "Redone", "nothing to redo")
+
+    def _after_history(self, label: str | None, verb: str, none: str) -> None:
+        if label is None:
+            self.notify(none.capitalize(), severity="warning", timeout=2)
+            return
+        self.desk.reload()
+        self.desk.schedule_recompute()
+        self.notify(f"{verb}: {label}", timeout=2)
+
+    def action_save(self) -> None:
+        """Save to the document's file (Save as when it has none)."""
+        if self.workspace.path is None:
+            self.action_save_as()
+            return
+        self.save_to(self.workspace.path)
+
+    def save_to(self, path: Path) -> bool:
+        """Write the document to ``path`` atomically (previous file kept as .bak)."""
+        from geo.document import document_from_dict, save_document
+
+        ws = self.workspace
+        try:
+            doc = document_from_dict(saveable_document(ws.doc), file=path.name, check=False)
+            save_document(doc, path)
+        except LodelineError as err:
+            self.notify(
+                f"⚠ Not saved: {err}. Your changes are kept in the recovery file.",
+                severity="error",
+                timeout=8,
+            )
+            self.keep_recovery()
+            return False
+        old = ws.path
+        ws.mark_saved(path)
+        discard_recovery(path)
+        if old != path:
+            discard_recovery(old)
+        desk = self.desk
+        desk.recompute()
+        problems = desk.results.problem_count if desk.results else 0
+        note = (
+            f" ({problems} problem{'s' if problems != 1 else ''} still marked ✗)"
+            if problems
+            else ""
+        )
+        self.notify(f"Saved {path}{note}", timeout=3)
+        return True
+
+    def action_save_as(self) -> None:
+        """Ask for a file name and save there (never replacing a file without asking)."""
+        ws = self.workspace
+        suggestion = str(ws.path) if ws.path else "traverse.toml"
+
+        def chosen(path: Path | None) -> None:
+            if path is not None:
+                self.save_to(path)
+
+        self.push_screen(FileNamePrompt("Save as", suggestion, DOCUMENT_SUFFIXES), chosen)
+
+    def action_export(self, kind: str) -> None:
+        """Ask for a file name and write the GeoJSON, CSV or report there."""
+        from tui import outputs
+
+        spec = outputs.OUTPUTS[kind]
+        ws = self.workspace
+        stem = ws.path.with_suffix("") if ws.path else Path("traverse")
+        suggestion = f"{stem}{spec.suffixes[0]}"
+
+        def chosen(path: Path | None) -> None:
+            if path is None:
+                return
+            try:
+                written = outputs.write_output(kind, ws.doc, path, file=ws.path)
+            except LodelineError as err:
+                self.notify(f"⚠ {spec.title} not written: {err}", severity="error", timeout=8)
+                return
+            self.notify(f"{spec.title} written: {', '.join(str(p) for p in written)}")
+
+        self.push_screen(FileNamePrompt(spec.title, suggestion, spec.suffixes), chosen)
+
+    async def action_quit(self) -> None:
+        """Quit, asking first when there are unsaved changes."""
+        ws = self.workspace
+        if not ws.dirty:
+            discard_recovery(ws.path)
+            self.exit(0)
+            return
+
+        def answered(answer: str | None) -> None:
+            if answer == "save":
+                if ws.path is None:
+
+                    def chosen(path: Path | None) -> None:
+                        if path is not None and self.save_to(path):
+                            self.exit(0)
+
+                    self.push_screen(
+                        FileNamePrompt("Save as", "traverse.toml", DOCUMENT_SUFFIXES), chosen
+                    )
+                elif self.save_to(ws.path):
+                    self.exit(0)
+            elif answer == "discard":
+                discard_recovery(ws.path)
+                self.exit(0)
+
+        self.push_screen(
+            ChoiceDialog(
+                "Unsaved changes",
+                "The document has changes that are not saved.",
+                [
+                    ("save", "Save and quit"),
+                    ("discard", "Discard changes and quit"),
+                    ("cancel", "Cancel: keep working"),
+                ],
+            ),
+            answered,
+        )

@@ -1,0 +1,326 @@
+"""From the edited document to what the desk shows: one core call per panel, formatted.
+
+:func:`compute_results` takes the TOML-shaped mapping the workspace holds and returns the rows
+of the call table, the text of each findings panel (or the one-line error of the core function
+behind it), and the figure for the sketch. Every number comes from :mod:`geo`; this module only
+chooses what to ask, and writes the answers as text. Nothing here raises for bad input: a
+problem becomes a row mark and message, or a panel error.
+
+Courses that do not read are kept as typed and marked ``✗`` with the parser's message. The
+conversion runs on the courses before the first such course (their stations do not depend on
+later courses); the rest wait, and the closure waits for every course.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from geo.errors import LodelineError
+from tui.widgets.call_table import CallRow
+from tui.widgets.sketch import NorthMark, SketchFigure
+from tui.workspace import course_call_text, is_blank_course
+
+MARK_BAD = "✗"
+MARK_CAUTION = "!"
+MARK_BLANK = "…"
+
+
+@dataclass(frozen=True)
+class PanelText:
+    """The text of one findings panel: lines, or an error, or an idle explanation."""
+
+    lines: tuple[str, ...] = ()
+    error: str | None = None
+    idle: bool = False
+
+
+@dataclass
+class Results:
+    """Everything the desk shows for one state of the document."""
+
+    rows: list[CallRow]
+    panels: dict[str, PanelText]
+    sketch: SketchFigure | None = None
+    sketch_message: str = ""
+    invalid_settings: set[str] = field(default_factory=set)
+    crs_hint: str = ""
+    problem_count: int = 0
+    document: Any = None
+    conversion: Any = None
+
+
+def _idle(text: str) -> PanelText:
+    return PanelText((text,), idle=True)
+
+
+def _panel(fn: Callable[[], PanelText]) -> PanelText:
+    """Run one panel's core call; its error (never a traceback) becomes the panel's text."""
+    try:
+        return fn()
+    except LodelineError as err:
+        return PanelText(error=str(err))
+    except (ImportError, AttributeError) as err:
+        return PanelText(error=f"not available in this build: {err}")
+
+
+def _length_text(value: float, unit: str) -> str:
+    shown = f"{value:.4f}".rstrip("0").rstrip(".")
+    return f"{shown} {unit}"
+
+
+def _deg(value: float | None, precision: float = 1.0 / 60.0) -> str:
+    from geo.bearings import format_declination
+
+    if value is None or not math.isfinite(value):
+        return "—"
+    return format_declination(value, precision=precision)
+
+
+def compute_results(data: Mapping[str, Any], *, path: Path | None = None) -> Results:
+    """Compute and format everything the desk shows for document ``data``."""
+    from geo.document import document_from_dict, document_problems
+
+    file = path.name if path else None
+    raw = list(data.get("course") or [])
+    blank = [is_blank_course(c) for c in raw]
+    rows: list[CallRow] = [
+        CallRow(
+            MARK_BLANK if b else "",
+            course_call_text(c),
+            "",
+            "",
+            "",
+            "",
+            "",
+            str(c.get("back", "")),
+            "empty: type a call (blank courses are not saved)" if b else "",
+        )
+        for c, b in zip(raw, blank, strict=True)
+    ]
+    kept = [i for i, b in enumerate(blank) if not b]  # document course k -> table row kept[k]
+    clean = {**data, "course": [raw[i] for i in kept]}
+    results = Results(rows=rows, panels={})
+
+    def fail_all(message: str) -> Results:
+        for key in ("field", "grid", "closure", "attraction", "fit"):
+            results.panels[key] = PanelText(error=message)
+        results.sketch_message = message
+        return results
+
+    try:
+        doc = document_from_dict(clean, file=file, check=False)
+    except LodelineError as err:
+        results.problem_count = 1
+        if err.course is not None:
+            row = kept[err.course - 1]
+            rows[row] = _replace(rows[row], mark=MARK_BAD, message=f"{MARK_BAD} {err.message}")
+        elif err.field:
+            results.invalid_settings.add(err.field)
+        return fail_all(str(err))
+    results.document = doc
+
+    problems = document_problems(doc, file=file)
+    first_bad: int | None = None
+    for err in problems:
+        if err.course is not None:
+            row = kept[err.course - 1]
+            where = f"'{err.field}': " if err.field and err.field != "call" else ""
+            rows[row] = _replace(
+                rows[row], mark=MARK_BAD, message=f"{MARK_BAD} {where}{err.message}"
+            )
+            first_bad = err.course - 1 if first_bad is None else min(first_bad, err.course - 1)
+        elif err.field:
+            results.invalid_settings.add(err.field)
+    results.problem_count = len(problems)
+    record_problems = [e for e in problems if e.course is None]
+    results.crs_hint = _crs_hint(doc)
+    if record_problems:
+        return fail_all(str(record_problems[0]))
+
+    usable = doc if first_bad is None else doc.model_copy(update={"course": doc.course[:first_bad]})
+    from geo.north import convert_document
+
+    try:
+        conv = convert_document(usable, file=file)
+    except LodelineError as err:
+        if err.course is not None and err.course - 1 < len(kept):
+            row = kept[err.course - 1]
+            rows[row] = _replace(rows[row], mark=MARK_BAD, message=f"{MARK_BAD} {err.message}")
+        if err.field and err.course is None:
+            results.invalid_settings.add(err.field)
+        results.problem_count += 1
+        return fail_all(str(err))
+    except ImportError as err:
+        return fail_all(f"not available in this build: {err}")
+    results.conversion = conv
+    for k, c in enumerate(conv.courses):
+        row = kept[k]
+        caution = bool(c.warnings)
+        rows[row] = CallRow(
+            MARK_CAUTION if caution else "",
+            rows[row].call,
+            _length_text(c.length_value, c.length_unit),
+            c.bearing.magnetic_record or "—",
+            c.bearing.true,
+            c.bearing.grid,
+            c.bearing.magnetic_target,
+            rows[row].back,
+            ("! " + "; ".join(c.warnings)) if caution else "",
+        )
+    results.panels["field"] = _panel(lambda: _field_panel(conv))
+    results.panels["grid"] = _panel(lambda: _grid_panel(conv))
+    if first_bad is not None:
+        bad = f"course {kept[first_bad] + 1} does not read yet; the closure waits for it"
+        for key in ("closure", "attraction", "fit"):
+            results.panels[key] = _idle(bad)
+    else:
+        results.panels["closure"] = _panel(lambda: _closure_panel(conv))
+        results.panels["attraction"] = _panel(lambda: _attraction_panel(conv))
+        results.panels["fit"] = _panel(lambda: _fit_panel(conv))
+    results.sketch, results.sketch_message = _sketch(conv)
+    return results
+
+
+def _replace(row: CallRow, **changes: Any) -> CallRow:
+    from dataclasses import replace
+
+    return replace(row, **changes)
+
+
+def _crs_hint(doc: Any) -> str:
+    from geo.grid import utm_crs_for
+
+    place = doc.place
+    if place.lat is None:
+        return ""
+    try:
+        zone = utm_crs_for(lat=place.lat, lon=place.lon)
+    except LodelineError:
+        return ""
+    if doc.grid is not None and doc.grid.crs:
+        return f"UTM zone of the place: {zone}"
+    return f"none given: using {zone} (UTM zone of the place)"
+
+
+# -- panels ----------------------------------------------------------------------------------
+
+
+def _field_panel(conv: Any) -> PanelText:
+    """The field at the point of beginning at both dates (geo.magnetic.field_at)."""
+    from geo.magnetic import field_at
+
+    pob = conv.stations[0]
+    doc = conv.document
+    lines: list[str] = []
+    dates: list[tuple[str, float, str]] = []
+    if conv.record_year is not None and conv.declination_source != "stated":
+        dates.append(
+            (f"record {conv.record_date or conv.record_year}", conv.record_year, doc.record.model)
+        )
+    target_model = doc.target.model if doc.target is not None else "auto"
+    dates.append((f"target {conv.target_date or conv.target_year}", conv.target_year, target_model))
+    if conv.declination_source == "stated":
+        lines.append(f"record: D stated {_deg(conv.stated_declination_deg)} (no model used)")
+    for label, year, model in dates:
+        try:
+            f = field_at(lat=pob.lat, lon=pob.lon, year=year, height_m=conv.height_m, model=model)
+        except LodelineError as err:
+            lines.append(f"{label}: ⚠ {err.message}")
+            continue
+        name = f.model if isinstance(f.model, str) else ", ".join(dict.fromkeys(f.model))
+        d = float(np.asarray(f.declination_deg))
+        sigma = float(np.asarray(f.declination_sigma_deg))
+        sig = f" ±{sigma:.2f}° (1σ)" if math.isfinite(sigma) else " (no error model published)"
+        rate = float(np.asarray(f.declination_rate_deg_per_year)) * 60.0
+        lines.append(f"{label} · {name}")
+        lines.append(f"  D {_deg(d)}{sig}   dD/dt {rate:+.1f}′/yr")
+        lines.append(
+            f"  I {float(np.asarray(f.inclination_deg)):+.2f}°  "
+            f"H {float(np.asarray(f.horizontal_nT)):,.0f} nT"
+        )
+        lines.append(
+            f"  Z {float(np.asarray(f.down_nT)):,.0f} nT  F {float(np.asarray(f.total_nT)):,.0f} nT"
+        )
+        warns = f.warnings if isinstance(f.warnings, tuple | list) else ()
+        flat = [w for w in warns if isinstance(w, str)] or [
+            w for item in warns if isinstance(item, tuple | list) for w in item
+        ]
+        lines += [f"  ! {w}" for w in flat]
+    lines.append("Models omit local anomalies (can be several degrees).")
+    return PanelText(tuple(lines))
+
+
+def _grid_panel(conv: Any) -> PanelText:
+    """Grid convergence and factors at the point of beginning (from the conversion)."""
+    if not conv.courses:
+        return _idle(f"{conv.crs}: no courses yet")
+    c = conv.courses[0]
+    return PanelText(
+        (
+            f"{conv.crs}",
+            f"γ {_deg(c.convergence_deg, 1.0 / 3600.0)} (grid = true − γ)",
+            f"k {c.scale_factor:.7f}  elev. {c.elevation_factor:.7f}",
+            f"combined {c.combined_factor:.7f}",
+        )
+    )
+
+
+def _closure_panel(conv: Any) -> PanelText:
+    from geo import close as _close  # provided by the closure owner
+
+    result = _close.close_conversion(conv)
+    return PanelText(tuple(result.summary_lines()))
+
+
+def _attraction_panel(conv: Any) -> PanelText:
+    if not any(c.recorded.back_azimuth_deg is not None for c in conv.courses):
+        return _idle("no back bearings in the document")
+    from geo import close as _close
+
+    return PanelText(tuple(_close.attraction_lines(conv)))
+
+
+def _fit_panel(conv: Any) -> PanelText:
+    if sum(1 for c in conv.courses if c.found is not None) < 2 and not conv.place_by_grid:
+        return _idle("needs found positions on two or more stations")
+    from geo import close as _close
+
+    return PanelText(tuple(_close.fit_lines(conv)))
+
+
+# -- sketch ----------------------------------------------------------------------------------
+
+
+def _sketch(conv: Any) -> tuple[SketchFigure | None, str]:
+    """Stations in grid metres from the point of beginning, grid north up, and the norths."""
+    if not conv.courses:
+        return None, "no courses yet"
+    unit = conv.grid_unit_m
+    e0, n0 = conv.stations[0].easting, conv.stations[0].northing
+    east = np.array([s.easting - e0 for s in conv.stations]) * unit
+    north = np.array([s.northing - n0 for s in conv.stations]) * unit
+    first = conv.courses[0]
+    gamma = first.convergence_deg
+    norths = [
+        NorthMark("G", "grid north", 0.0),
+        NorthMark("T", f"true north (γ {_deg(gamma)})", -gamma),
+    ]
+    if first.declination_record_deg is not None:
+        d1 = first.declination_record_deg
+        when = conv.record_date or conv.record_year
+        norths.append(NorthMark("M", f"magnetic {when} (D {_deg(d1)})", d1 - gamma))
+    d2 = first.declination_target_deg
+    when2 = conv.target_date or conv.target_year
+    norths.append(NorthMark("m", f"magnetic {when2} (D {_deg(d2)})", d2 - gamma))
+    closed = bool(conv.document.closed)
+    gap = float(math.hypot(east[-1], north[-1])) if closed else 0.0
+    return (
+        SketchFigure(east, north, closed, tuple(norths), gap_label=f"misclosure gap {gap:.2f} m"),
+        "",
+    )

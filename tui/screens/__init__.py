@@ -1,0 +1,1 @@
+"""Screens of the terminal application: the desk (main screen) and the key guide."""

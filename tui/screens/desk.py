@@ -1,0 +1,283 @@
+"""The desk: the main screen, with the job form, the call table and the findings.
+
+Panes by terminal width: 150 columns and more show the job, the calls and the findings side
+by side; from 100 columns the calls stay and the side pane shows either the findings or the
+job; below 100 columns one pane fills the screen. F2, F3 and F4 bring the job, the calls and
+the findings forward at any width.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.reactive import reactive
+from textual.screen import Screen
+from textual.timer import Timer
+from textual.widgets import Footer, Static
+
+from tui.results import Results, compute_results
+from tui.widgets.call_table import CallEditor, CallTable
+from tui.widgets.findings import FindingsPanel
+from tui.widgets.job_form import JobForm
+from tui.widgets.sketch import TraverseSketch
+from tui.workspace import COURSE_FIELDS, course_call_text
+
+if TYPE_CHECKING:
+    from tui.app import LodelineApp
+
+#: Seconds of quiet typing before the findings are recomputed.
+DEBOUNCE_S = 0.06
+
+PANELS = (
+    ("field", "Field at the point of beginning"),
+    ("grid", "Grid"),
+    ("closure", "Closure"),
+    ("attraction", "Local attraction"),
+    ("fit", "Record-to-found fit"),
+)
+
+
+class Desk(Screen):
+    """The main screen: job form, call table with its editor, findings and sketch."""
+
+    BINDINGS = [
+        Binding("f2", "pane('job')", "Job"),
+        Binding("f3", "pane('calls')", "Calls"),
+        Binding("f4", "pane('findings')", "Findings"),
+    ]
+
+    DEFAULT_CSS = """
+    Desk #docbar { height: 1; padding: 0 1; background: $panel; }
+    Desk #panes { height: 1fr; }
+    Desk #job { width: 34; border: round $foreground 30%; }
+    Desk #calls { width: 1fr; }
+    Desk #calls CallTable { height: 1fr; }
+    Desk #findings { width: 56; }
+    Desk #findings TraverseSketch { height: 22; border: round $foreground 30%; }
+    Desk.-medium #job { display: none; }
+    Desk.-medium.-side-job #job { display: block; }
+    Desk.-medium.-side-job #findings { display: none; }
+    Desk.-narrow #job, Desk.-narrow #findings, Desk.-narrow #calls { display: none; width: 1fr; }
+    Desk.-narrow.-pane-job #job { display: block; }
+    Desk.-narrow.-pane-calls #calls { display: block; }
+    Desk.-narrow.-pane-findings #findings { display: block; }
+    Desk.-narrow #findings TraverseSketch { height: 18; }
+    """
+
+    #: The pane brought forward last: "job", "calls" or "findings".
+    pane = reactive("calls")
+    #: The side pane shown beside the calls at medium width: "findings" or "job".
+    side = reactive("findings")
+
+    def __init__(self) -> None:
+        super().__init__()
+        self._timer: Timer | None = None
+        self._recovery_timer: Timer | None = None
+        self.results: Results | None = None
+        self._editor_session = 0
+
+    @property
+    def lode(self) -> LodelineApp:
+        return self.app  # type: ignore[return-value]
+
+    def compose(self) -> ComposeResult:
+        yield Static("", id="docbar")
+        with Horizontal(id="panes"):
+            yield JobForm(id="job")
+            with Vertical(id="calls"):
+                yield CallTable(id="table")
+                yield CallEditor(id="editor")
+            with VerticalScroll(id="findings"):
+                for key, title in PANELS:
+                    yield FindingsPanel(title, id=f"panel-{key}")
+                sketch = TraverseSketch(id="sketch")
+                sketch.border_title = "Sketch (to scale)"
+                yield sketch
+        yield Footer()
+
+    def on_mount(self) -> None:
+        self.reload()
+        self.query_one(CallTable).focus()
+        self._layout_for(self.size.width)
+
+    def on_resize(self, event) -> None:
+        self._layout_for(event.size.width)
+
+    def _layout_for(self, width: int) -> None:
+        self.set_class(width >= 150, "-wide")
+        self.set_class(100 <= width < 150, "-medium")
+        self.set_class(width < 100, "-narrow")
+
+    def watch_pane(self, old: str, new: str) -> None:
+        self.remove_class(f"-pane-{old}")
+        self.add_class(f"-pane-{new}")
+
+    def watch_side(self, old: str, new: str) -> None:
+        self.remove_class(f"-side-{old}")
+        self.add_class(f"-side-{new}")
+
+    # -- data flow -----------------------------------------------------------------------
+    def reload(self) -> None:
+        """Show the workspace's document afresh (after open, undo, redo, restore)."""
+        self.query_one(JobForm).load(self.lode.workspace.doc)
+        self.recompute()
+        editor = self.query_one(CallEditor)
+        courses = self.lode.workspace.courses
+        if courses and editor.index < len(courses):
+            editor.load(
+                editor.index,
+                editor.field,
+                self._field_text(courses[editor.index], editor.field),
+                editor.session,
+            )
+
+    def schedule_recompute(self) -> None:
+        """Recompute once typing pauses for :data:`DEBOUNCE_S`."""
+        if self._timer is not None:
+            self._timer.stop()
+        self._timer = self.set_timer(DEBOUNCE_S, self.recompute)
+        self._update_docbar()
+        self._schedule_recovery()
+
+    def _schedule_recovery(self) -> None:
+        if self._recovery_timer is not None:
+            self._recovery_timer.stop()
+        self._recovery_timer = self.set_timer(1.0, self.lode.keep_recovery)
+
+    def recompute(self) -> None:
+        """Recompute every finding from the document and show it."""
+        self._timer = None
+        ws = self.lode.workspace
+        results = compute_results(ws.doc, path=ws.path)
+        self.results = results
+        self.query_one(CallTable).show_rows(results.rows)
+        for key, _title in PANELS:
+            panel = self.query_one(f"#panel-{key}", FindingsPanel)
+            outcome = results.panels[key]
+            panel.show(outcome.lines, error=outcome.error, idle=outcome.idle)
+        sketch = self.query_one(TraverseSketch)
+        sketch.show_figure(results.sketch, results.sketch_message)
+        form = self.query_one(JobForm)
+        form.mark_invalid(results.invalid_settings)
+        form.show_crs_hint(results.crs_hint)
+        self._show_row_message()
+        self._update_docbar()
+
+    def _update_docbar(self) -> None:
+        ws = self.lode.workspace
+        name = str(ws.path) if ws.path else "new document (not yet saved)"
+        state = "● modified" if ws.dirty else "saved"
+        problems = ""
+        if self.results is not None and self.results.problem_count:
+            n = self.results.problem_count
+            problems = f" · ✗ {n} problem{'s' if n != 1 else ''}"
+        title = ws.doc.get("title") or ""
+        self.query_one("#docbar", Static).update(
+            f"lodeline · {name} · {state}{problems} · {title}   (F1 keys)"
+        )
+
+    def _show_row_message(self) -> None:
+        results = self.results
+        editor = self.query_one(CallEditor)
+        if results is None:
+            return
+        index = editor.index
+        message = ""
+        if 0 <= index < len(results.rows):
+            row = results.rows[index]
+            if row.message:
+                message = row.message
+        editor.show_message(message)
+
+    @staticmethod
+    def _field_text(course: dict, field: str) -> str:
+        if field == "call":
+            return course_call_text(course)
+        value = course.get(field)
+        if field == "found" and isinstance(value, dict):
+            return ", ".join(f"{k}={v}" for k, v in value.items())
+        return "" if value is None else str(value)
+
+    # -- events from the widgets ---------------------------------------------------------
+    def on_call_table_edit_requested(self, event: CallTable.EditRequested) -> None:
+        self.open_editor(event.index, event.field)
+
+    def open_editor(self, index: int, field: str = "call") -> None:
+        """Put the editor on ``field`` of course ``index`` and focus it."""
+        courses = self.lode.workspace.courses
+        if not courses:
+            return
+        index = min(index, len(courses) - 1)
+        self._editor_session += 1
+        editor = self.query_one(CallEditor)
+        editor.load(index, field, self._field_text(courses[index], field), self._editor_session)
+        self._show_row_message()
+        editor.focus_input()
+
+    def on_call_editor_edited(self, event: CallEditor.Edited) -> None:
+        value = event.value
+        stored: object = value
+        if event.field == "found":
+            stored = self.lode.parse_found(value)
+        self.lode.workspace.set_course_field(
+            event.index, event.field, stored, session=event.session
+        )
+        self.schedule_recompute()
+
+    def on_call_editor_finished(self, _event: CallEditor.Finished) -> None:
+        if self._timer is not None:
+            self.recompute()
+        table = self.query_one(CallTable)
+        table.focus()
+
+    def on_call_table_row_highlighted(self, event: CallTable.RowHighlighted) -> None:
+        editor = self.query_one(CallEditor)
+        courses = self.lode.workspace.courses
+        index = event.cursor_row
+        if 0 <= index < len(courses) and not editor.query_one("Input").has_focus:
+            self._editor_session += 1
+            editor.load(
+                index, "call", self._field_text(courses[index], "call"), self._editor_session
+            )
+            self._show_row_message()
+
+    def on_call_table_structure_requested(self, event: CallTable.StructureRequested) -> None:
+        ws = self.lode.workspace
+        table = self.query_one(CallTable)
+        if event.action == "insert":
+            ws.insert_course(event.index)
+            self.recompute()
+            table.move_cursor(row=event.index, animate=False)
+            self.open_editor(event.index, "call")
+        elif event.action == "delete":
+            ws.delete_course(event.index)
+            if not ws.courses:
+                ws.insert_course(0)
+            self.recompute()
+        elif event.action == "move":
+            new = ws.move_course(event.index, event.delta)
+            self.recompute()
+            table.move_cursor(row=new, animate=False)
+        self._schedule_recovery()
+
+    def on_job_form_changed(self, event: JobForm.Changed) -> None:
+        self.lode.workspace.set_setting(event.key, event.value, session=event.session)
+        self.schedule_recompute()
+
+    # -- actions -------------------------------------------------------------------------
+    def action_pane(self, name: str) -> None:
+        """Bring a pane forward and focus it."""
+        self.pane = name
+        if name in ("job", "findings"):
+            self.side = name
+        target = {"job": "#job Input", "calls": "#table", "findings": "#sketch"}[name]
+        self.call_after_refresh(lambda: self.query(target).first().focus())
+
+    def current_course(self) -> int:
+        return self.query_one(CallTable).current_index
+
+
+__all__ = ["COURSE_FIELDS", "Desk"]

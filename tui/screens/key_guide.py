@@ -1,0 +1,79 @@
+"""The key guide: every key of the application, and the cautions."""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+
+from rich.table import Table
+from rich.text import Text
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import VerticalScroll
+from textual.screen import ModalScreen
+from textual.widgets import Static
+
+from geo.cautions import CAUTIONS
+
+
+def key_rows(groups: Sequence[tuple[str, Iterable[Binding]]]) -> list[tuple[str, str, str]]:
+    """(where, keys, what) for every described binding of ``groups``, duplicates removed."""
+    seen: set[tuple[str, str]] = set()
+    rows = []
+    for where, bindings in groups:
+        for b in bindings:
+            if not b.description:
+                continue
+            keys = b.key_display or ", ".join(_pretty(k) for k in b.key.split(","))
+            if (where, keys) in seen:
+                continue
+            seen.add((where, keys))
+            rows.append((where, keys, b.description))
+    return rows
+
+
+def _pretty(key: str) -> str:
+    names = {
+        "left_square_bracket": "[",
+        "right_square_bracket": "]",
+        "delete": "Delete",
+        "enter": "Enter",
+        "escape": "Escape",
+    }
+    if key in names:
+        return names[key]
+    parts = key.split("+")
+    return "+".join(p.capitalize() if len(p) > 1 else p for p in parts)
+
+
+class KeyGuide(ModalScreen[None]):
+    """Every key, where it works, and what it does; then the cautions."""
+
+    BINDINGS = [Binding("escape,f1,q", "close", "Close the key guide")]
+
+    DEFAULT_CSS = """
+    KeyGuide { align: center middle; }
+    KeyGuide > VerticalScroll {
+        width: 100; max-width: 98%; height: 90%;
+        border: thick $primary; background: $surface; padding: 0 1;
+    }
+    KeyGuide #cautions { margin-top: 1; border: round $warning; padding: 0 1; }
+    """
+
+    def __init__(self, groups: Sequence[tuple[str, Iterable[Binding]]]) -> None:
+        super().__init__()
+        self._rows = key_rows(groups)
+
+    def compose(self) -> ComposeResult:
+        table = Table(show_edge=False, expand=True, pad_edge=False)
+        table.add_column("Where", no_wrap=True)
+        table.add_column("Keys", no_wrap=True, style="bold")
+        table.add_column("Does")
+        for where, keys, what in self._rows:
+            table.add_row(where, keys, what)
+        with VerticalScroll() as box:
+            box.border_title = "Key guide — Escape closes"
+            yield Static(table, id="keys")
+            yield Static(Text("Cautions\n", style="bold") + Text(CAUTIONS), id="cautions")
+
+    def action_close(self) -> None:
+        self.dismiss(None)

@@ -1,0 +1,1 @@
+"""Widgets of the terminal application: call table, job form, findings panels, sketch."""

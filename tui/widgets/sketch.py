@@ -1,0 +1,185 @@
+"""The traverse sketch: the figure to scale, its misclosure gap and the north indicators.
+
+Built on textual-plot's :class:`PlotWidget` (axes in metres, high-resolution braille lines,
+a legend, keyboard and mouse zoom). textual-plot scales each axis on its own, so this widget
+keeps the axes equal itself: the view is always chosen so that one metre spans the same
+distance across and up the screen, taking a terminal cell to be twice as tall as it is wide.
+Zooming in and out scales both axes together; "fit" frames the whole figure again.
+
+Meaning never rests on colour alone: every north indicator ends in its letter (T, G, M, m),
+the point of beginning is drawn as ``◎``, stations as ``•``, the gap's far end as ``×``, and
+the legend names each mark.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from textual.binding import Binding
+from textual_hires_canvas import HiResMode
+from textual_plot import PlotWidget
+
+#: Height of a terminal cell divided by its width (most monospace fonts: about 2).
+CELL_ASPECT = 2.0
+
+
+@dataclass(frozen=True)
+class NorthMark:
+    """One north indicator: its letter, its legend text, and its azimuth from true north."""
+
+    letter: str
+    label: str
+    azimuth_deg: float
+
+
+@dataclass(frozen=True)
+class SketchFigure:
+    """What the sketch draws; coordinates in metres from the point of beginning, east and
+    north in the frame of true north (``north`` up)."""
+
+    east: np.ndarray
+    north: np.ndarray
+    closed: bool
+    norths: tuple[NorthMark, ...]
+    gap_label: str = "misclosure gap"
+
+
+def equal_axes_limits(
+    east: np.ndarray, north: np.ndarray, width: int, height: int, *, pad: float = 0.08
+) -> tuple[float, float, float, float]:
+    """Return (x_min, x_max, y_min, y_max) framing the points with equal metres per unit of
+    screen length, for a drawing area of ``width`` x ``height`` cells."""
+    width = max(width, 2)
+    height = max(height, 2)
+    x0, x1 = float(np.min(east)), float(np.max(east))
+    y0, y1 = float(np.min(north)), float(np.max(north))
+    span_x = max(x1 - x0, 1e-3)
+    span_y = max(y1 - y0, 1e-3)
+    per_col = max(span_x / width, span_y / (height * CELL_ASPECT)) * (1.0 + 2.0 * pad)
+    cx, cy = (x0 + x1) / 2.0, (y0 + y1) / 2.0
+    half_x = per_col * width / 2.0
+    half_y = per_col * CELL_ASPECT * height / 2.0
+    return cx - half_x, cx + half_x, cy - half_y, cy + half_y
+
+
+class TraverseSketch(PlotWidget):
+    """The figure of the traverse drawn to scale, with equal axes and north indicators."""
+
+    BINDINGS = [
+        Binding("0", "fit", "Fit sketch", show=True),
+        Binding("ctrl+equals_sign", "zoom_in", show=False),
+        Binding("ctrl+minus", "zoom_out", show=False),
+        Binding("ctrl+shift+equals_sign", "zoom_in", show=False),
+        Binding("ctrl+shift+minus", "zoom_out", show=False),
+        Binding("r", "fit", show=False),
+    ]
+
+    DEFAULT_CSS = """
+    TraverseSketch { height: 1fr; min-height: 12; }
+    TraverseSketch > #legend { border: round $foreground 40%; }
+    """
+
+    def __init__(self, *, id: str | None = None) -> None:
+        super().__init__(id=id, allow_pan_and_zoom=True)
+        self._figure: SketchFigure | None = None
+        self._message = "no figure yet"
+
+    def on_mount(self) -> None:
+        super().on_mount()
+        self.margin_left = 8
+        self.margin_bottom = 2
+        self.margin_top = 1
+        self.set_xlabel("east (m)")
+        self.show_legend(is_visible=True)
+
+    # -- public --------------------------------------------------------------------------
+    def show_figure(self, figure: SketchFigure | None, message: str = "") -> None:
+        """Draw ``figure`` (or clear the sketch and title it with ``message``)."""
+        same_extent = (
+            figure is not None
+            and self._figure is not None
+            and figure.east.shape == self._figure.east.shape
+        )
+        self._figure = figure
+        self._message = message
+        self.border_subtitle = message if figure is None else ""
+        self._draw(refit=not same_extent)
+
+    def action_fit(self) -> None:
+        """Frame the whole figure again."""
+        self._fit()
+
+    def action_zoom_x_in(self) -> None:  # keep the axes equal
+        self.action_zoom_in()
+
+    def action_zoom_x_out(self) -> None:
+        self.action_zoom_out()
+
+    def action_zoom_y_in(self) -> None:
+        self.action_zoom_in()
+
+    def action_zoom_y_out(self) -> None:
+        self.action_zoom_out()
+
+    def on_resize(self) -> None:
+        self.call_after_refresh(self._fit)
+
+    # -- drawing -------------------------------------------------------------------------
+    def _area(self) -> tuple[int, int]:
+        width = self.size.width - self.margin_left - 2
+        height = self.size.height - self.margin_top - self.margin_bottom - 2
+        return width, height
+
+    def _fit(self) -> None:
+        fig = self._figure
+        if fig is None or fig.east.size == 0:
+            return
+        xs, ys = self._extent_points(fig)
+        x0, x1, y0, y1 = equal_axes_limits(xs, ys, *self._area())
+        self.set_xlimits(x0, x1)
+        self.set_ylimits(y0, y1)
+
+    def _arrow_length(self, fig: SketchFigure) -> float:
+        span = max(float(np.ptp(fig.east)), float(np.ptp(fig.north)), 1.0)
+        return 0.22 * span
+
+    def _extent_points(self, fig: SketchFigure) -> tuple[np.ndarray, np.ndarray]:
+        length = self._arrow_length(fig)
+        ex = [fig.east]
+        ny = [fig.north]
+        for mark in fig.norths:
+            a = math.radians(mark.azimuth_deg)
+            ex.append(np.array([length * math.sin(a)]))
+            ny.append(np.array([length * math.cos(a)]))
+        return np.concatenate(ex), np.concatenate(ny)
+
+    def _draw(self, *, refit: bool) -> None:
+        self.clear()
+        fig = self._figure
+        if fig is None or fig.east.size == 0:
+            return
+        self.plot(
+            fig.east,
+            fig.north,
+            line_style="bold",
+            hires_mode=HiResMode.BRAILLE,
+            label="courses as recorded",
+        )
+        if fig.east.size > 1:
+            self.scatter(fig.east[1:], fig.north[1:], marker="•", label="station")
+        self.scatter(fig.east[:1], fig.north[:1], marker="◎", label="point of beginning")
+        if fig.closed and fig.east.size > 1:
+            gx = np.array([fig.east[-1], fig.east[0]])
+            gy = np.array([fig.north[-1], fig.north[0]])
+            self.plot(gx, gy, line_style="italic", hires_mode=HiResMode.QUADRANT)
+            self.scatter(gx[:1], gy[:1], marker="×", label=fig.gap_label)
+        length = self._arrow_length(fig)
+        for mark in fig.norths:
+            a = math.radians(mark.azimuth_deg)
+            tip_x, tip_y = length * math.sin(a), length * math.cos(a)
+            self.plot([0.0, tip_x * 0.9], [0.0, tip_y * 0.9], hires_mode=HiResMode.BRAILLE)
+            self.scatter([tip_x], [tip_y], marker=mark.letter, label=mark.label)
+        if refit:
+            self._fit()

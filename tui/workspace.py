@@ -1,0 +1,371 @@
+"""The document being edited in the terminal application: edits, undo/redo and recovery.
+
+The workspace holds the traverse document as the plain TOML-shaped mapping that
+:mod:`geo.document` reads and writes (``title``, ``place``, ``grid``, ``record``, ``course``
+...). Every edit builds a new mapping that shares the untouched parts with the previous one,
+so a snapshot stack gives undo and redo of every edit for the price of a few references,
+even for a 5,000-course document. Calls are kept exactly as typed, whether or not they
+parse; nothing here interprets them.
+
+No Textual and no geodesy here: the screens call these methods and :mod:`tui.results`
+turns a snapshot into numbers through :mod:`geo`.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import hashlib
+import json
+import os
+import time
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from geo.atomic import write_atomic
+
+#: The keys of a course the application edits, in the order the editor offers them.
+COURSE_FIELDS = ("call", "back", "found", "every", "note")
+
+#: Settings the job form edits: dotted document key -> label shown to the user.
+SETTING_LABELS: dict[str, str] = {
+    "title": "Title",
+    "closed": "Closed figure",
+    "place.lat": "Latitude (°)",
+    "place.lon": "Longitude (°)",
+    "place.easting": "Easting (m)",
+    "place.northing": "Northing (m)",
+    "place.height_m": "Height (m, ellipsoid)",
+    "grid.crs": "Grid CRS",
+    "record.reference": "Record reference",
+    "record.date": "Record date",
+    "record.declination": "Declination",
+    "record.model": "Field model",
+    "record.distance_unit": "Distance unit",
+    "record.foot": "Foot",
+    "record.vara_inches": "Vara (inches)",
+    "record.angles": "Angles turned",
+    "target.date": "Target date",
+    "target.model": "Target field model",
+}
+
+Document = dict[str, Any]
+
+
+def new_document() -> Document:
+    """Return the mapping of a new, empty document (one blank course to type into)."""
+    return {
+        "format_version": 1,
+        "title": "Untitled traverse",
+        "closed": True,
+        "place": {},
+        "record": {"reference": "magnetic", "distance_unit": "perch", "foot": "us"},
+        "course": [{"call": ""}],
+    }
+
+
+def get_setting(doc: Mapping[str, Any], key: str) -> Any:
+    """Return the value at dotted ``key`` (``"record.date"``) or ``None`` when absent."""
+    node: Any = doc
+    for part in key.split("."):
+        if not isinstance(node, Mapping) or part not in node:
+            return None
+        node = node[part]
+    return node
+
+
+def with_setting(doc: Mapping[str, Any], key: str, value: Any) -> Document:
+    """Return a copy of ``doc`` with dotted ``key`` set to ``value`` (``None`` removes it).
+
+    Only the mappings on the path are copied; empty tables left behind are removed.
+    """
+    head, _, rest = key.partition(".")
+    out = dict(doc)
+    if not rest:
+        if value is None:
+            out.pop(head, None)
+        else:
+            out[head] = value
+        return out
+    child = with_setting(doc.get(head) or {}, rest, value)
+    if child:
+        out[head] = child
+    else:
+        out.pop(head, None)
+    return out
+
+
+def course_call_text(course: Mapping[str, Any]) -> str:
+    """The call of a course as the user wrote it: ``call``, or bearing, distance and unit."""
+    if "call" in course:
+        return str(course["call"])
+    parts = [str(course[k]) for k in ("bearing", "distance", "unit") if k in course]
+    return " ".join(parts)
+
+
+def is_blank_course(course: Mapping[str, Any]) -> bool:
+    """True for a course with nothing typed in it (a fresh row): it is not saved."""
+    keys = {k for k, v in course.items() if v not in (None, "")}
+    return not keys or (keys <= {"call"} and not str(course.get("call", "")).strip())
+
+
+def saveable_document(doc: Mapping[str, Any]) -> Document:
+    """The document without blank courses, as it is written and checked."""
+    return {**doc, "course": [c for c in doc.get("course") or [] if not is_blank_course(c)]}
+
+
+@dataclass(frozen=True)
+class Step:
+    """One entry of the undo or redo stack: the document before the edit and its name."""
+
+    label: str
+    before: Document
+    target: tuple[Any, ...]
+    session: int | None
+
+
+@dataclass
+class Workspace:
+    """The open document, its file, and the history of edits.
+
+    ``doc`` is never mutated in place; each edit replaces it. ``dirty`` is true when ``doc``
+    differs from what was last loaded or saved (undoing back to that state makes it clean).
+    """
+
+    doc: Document = field(default_factory=new_document)
+    path: Path | None = None
+    undo_stack: list[Step] = field(default_factory=list)
+    redo_stack: list[Step] = field(default_factory=list)
+    _clean: Document | None = None
+    _revision: int = 0
+
+    def __post_init__(self) -> None:
+        if self._clean is None:
+            self._clean = self.doc
+
+    # -- state -------------------------------------------------------------------------
+    @property
+    def dirty(self) -> bool:
+        """Whether there are changes not yet saved to ``path``."""
+        return self.doc is not self._clean
+
+    @property
+    def revision(self) -> int:
+        """A counter bumped by every change of ``doc`` (edits, undo, redo, reload)."""
+        return self._revision
+
+    @property
+    def courses(self) -> list[dict[str, Any]]:
+        """The courses of the document (read only: edit through the methods)."""
+        return list(self.doc.get("course") or [])
+
+    def mark_saved(self, path: Path) -> None:
+        """Record that ``doc`` is now what ``path`` holds."""
+        self.path = path
+        self._clean = self.doc
+
+    def replace(self, doc: Document, *, label: str, clean: bool = False) -> None:
+        """Replace the whole document (a restored recovery file) as one undoable edit."""
+        self._apply(doc, label=label, target=("document",), session=None)
+        if clean:
+            self._clean = self.doc
+
+    # -- edits -----------------------------------------------------------------------
+    def _apply(
+        self, doc: Document, *, label: str, target: tuple[Any, ...], session: int | None
+    ) -> None:
+        top = self.undo_stack[-1] if self.undo_stack else None
+        merge = (
+            session is not None
+            and top is not None
+            and not self.redo_stack
+            and top.session == session
+            and top.target == target
+        )
+        if not merge:
+            self.undo_stack.append(Step(label, self.doc, target, session))
+        self.redo_stack.clear()
+        self.doc = doc
+        self._revision += 1
+
+    def set_setting(self, key: str, value: Any, *, session: int | None = None) -> None:
+        """Set a document setting by dotted key (``None`` removes the key).
+
+        Consecutive edits with the same ``session`` and key form one undo step (typing a
+        word in a field is undone at once).
+        """
+        if get_setting(self.doc, key) == value:
+            return
+        label = f"change {SETTING_LABELS.get(key, key).lower()}"
+        self._apply(
+            with_setting(self.doc, key, value),
+            label=label,
+            target=("setting", key),
+            session=session,
+        )
+
+    def set_course_field(
+        self, index: int, name: str, value: Any, *, session: int | None = None
+    ) -> None:
+        """Set key ``name`` of course ``index`` (0-based); ``None`` or ``""`` removes it,
+        except the call, which is kept even when empty.
+
+        Writing ``call`` replaces a course given as ``bearing``/``distance``/``unit``.
+        """
+        courses = self.courses
+        course = dict(courses[index])
+        if name == "call":
+            for key in ("bearing", "distance", "unit"):
+                course.pop(key, None)
+            if course.get("call") == value:
+                return
+            course["call"] = "" if value is None else value
+        else:
+            if value in (None, ""):
+                if name not in course:
+                    return
+                course.pop(name)
+            else:
+                if course.get(name) == value:
+                    return
+                course[name] = value
+        courses[index] = course
+        self._apply(
+            {**self.doc, "course": courses},
+            label=f"edit {name} of course {index + 1}",
+            target=("course", index, name),
+            session=session,
+        )
+
+    def insert_course(self, index: int, course: Mapping[str, Any] | None = None) -> None:
+        """Insert a course (blank by default) so that it becomes course ``index`` (0-based)."""
+        courses = self.courses
+        index = max(0, min(index, len(courses)))
+        courses.insert(index, dict(course) if course else {"call": ""})
+        self._apply(
+            {**self.doc, "course": courses},
+            label=f"insert course {index + 1}",
+            target=("insert", index),
+            session=None,
+        )
+
+    def delete_course(self, index: int) -> None:
+        """Delete course ``index`` (0-based)."""
+        courses = self.courses
+        if not 0 <= index < len(courses):
+            return
+        del courses[index]
+        self._apply(
+            {**self.doc, "course": courses},
+            label=f"delete course {index + 1}",
+            target=("delete", index),
+            session=None,
+        )
+
+    def move_course(self, index: int, delta: int) -> int:
+        """Move course ``index`` by ``delta`` places; return its new index."""
+        courses = self.courses
+        new = index + delta
+        if not (0 <= index < len(courses) and 0 <= new < len(courses)):
+            return index
+        courses.insert(new, courses.pop(index))
+        self._apply(
+            {**self.doc, "course": courses},
+            label=f"move course {index + 1} to {new + 1}",
+            target=("move", index, delta),
+            session=None,
+        )
+        return new
+
+    # -- history ---------------------------------------------------------------------
+    def undo(self) -> str | None:
+        """Undo the last edit; return its label, or ``None`` when there is nothing to undo."""
+        if not self.undo_stack:
+            return None
+        step = self.undo_stack.pop()
+        self.redo_stack.append(Step(step.label, self.doc, step.target, None))
+        self.doc = step.before
+        self._revision += 1
+        return step.label
+
+    def redo(self) -> str | None:
+        """Redo the last undone edit; return its label, or ``None``."""
+        if not self.redo_stack:
+            return None
+        step = self.redo_stack.pop()
+        self.undo_stack.append(Step(step.label, self.doc, step.target, None))
+        self.doc = step.before
+        self._revision += 1
+        return step.label
+
+
+# -- recovery files ------------------------------------------------------------------------
+
+
+def recovery_dir() -> Path:
+    """The folder of recovery files: ``$LODELINE_STATE/recovery`` if set, otherwise
+    ``$XDG_STATE_HOME/lodeline/recovery`` (``~/.local/state/lodeline/recovery``)."""
+    if os.environ.get("LODELINE_STATE"):
+        return Path(os.environ["LODELINE_STATE"]) / "recovery"
+    base = os.environ.get("XDG_STATE_HOME") or str(Path.home() / ".local" / "state")
+    return Path(base) / "lodeline" / "recovery"
+
+
+def recovery_path(path: Path | None) -> Path:
+    """The recovery file that belongs to document ``path`` (one shared file for new ones)."""
+    if path is None:
+        return recovery_dir() / "untitled.json"
+    key = hashlib.sha256(str(path.resolve()).encode()).hexdigest()[:16]
+    return recovery_dir() / f"{path.stem[:40]}-{key}.json"
+
+
+@dataclass(frozen=True)
+class Recovery:
+    """Unsaved changes found on disk: the document they belong to and when they were kept."""
+
+    file: Path
+    document_path: Path | None
+    saved_at: float
+    doc: Document
+
+
+def write_recovery(workspace: Workspace) -> Path:
+    """Keep the workspace's unsaved document in its recovery file (atomic write)."""
+    target = recovery_path(workspace.path)
+    target.parent.mkdir(parents=True, exist_ok=True)
+    payload = {
+        "document_path": str(workspace.path.resolve()) if workspace.path else None,
+        "saved_at": time.time(),
+        "document": workspace.doc,
+    }
+    write_atomic(target, json.dumps(payload, ensure_ascii=False, indent=1))
+    return target
+
+
+def read_recovery(path: Path | None) -> Recovery | None:
+    """Return the unsaved changes kept for document ``path``, or ``None``.
+
+    A recovery file that cannot be read is left in place and ignored.
+    """
+    file = recovery_path(path)
+    try:
+        payload = json.loads(file.read_text(encoding="utf-8"))
+        doc = payload["document"]
+        if not isinstance(doc, dict):
+            return None
+    except (OSError, ValueError, KeyError, TypeError):
+        return None
+    where = payload.get("document_path")
+    return Recovery(
+        file=file,
+        document_path=Path(where) if where else None,
+        saved_at=float(payload.get("saved_at") or 0.0),
+        doc=doc,
+    )
+
+
+def discard_recovery(path: Path | None) -> None:
+    """Remove the recovery file of document ``path`` if there is one."""
+    with contextlib.suppress(FileNotFoundError):
+        recovery_path(path).unlink()
