@@ -596,7 +596,9 @@ class RecordedCourse:
     every_m:
         Spacing of intermediate points along the course in metres, or ``None``.
     note:
-        The course's note, or the words of the call after the distance ("to a white oak").
+        The course's ``note`` key, or ``None``.
+    call_note:
+        The words of the call after the distance ("to a white oak"), or ``None``.
     """
 
     index: int
@@ -611,6 +613,7 @@ class RecordedCourse:
     back_azimuth_deg: float | None
     every_m: float | None
     note: str | None
+    call_note: str | None
 
 
 def course_call_text(course: Course) -> str:
@@ -695,9 +698,12 @@ def _check_record(doc: Document, file: str | None) -> list[DocumentError]:
                 problems.append(_locate(err, file, None, "record.declination"))
     if record.distance_unit is not None:
         try:
-            units.unit_name(record.distance_unit)
+            unit = units.unit_name(record.distance_unit)
         except LodelineError as err:
             problems.append(_locate(err, file, None, "record.distance_unit"))
+        else:
+            if unit == "vara" and record.vara_inches is None:
+                problems.append(DocumentError(_VARA_MISSING, file=file, field="record.vara_inches"))
     if record.vara_inches is not None:
         try:
             units.resolve_vara_inches(record.vara_inches)
@@ -742,6 +748,41 @@ def _parse_angle(value: float | str) -> tuple[float, float]:
     return degrees, precision
 
 
+def _course_distance(course: Course, ctx: dict[str, Any], file: str | None, index: int) -> Any:
+    """The ``distance`` [+ ``unit``] of a course without a call, parsed (errors at the key)."""
+    from geo import units
+    from geo.calls import parse_distance
+
+    unit = course.unit or ctx["default_unit"]
+    if course.unit is not None:
+        try:
+            units.unit_name(course.unit)
+        except LodelineError as err:
+            raise _locate(err, file, index, "unit") from None
+    if isinstance(course.distance, str):
+        text = course.distance
+    else:
+        if unit is None:
+            raise DocumentError(
+                "missing: give the unit here or set record.distance_unit",
+                file=file,
+                course=index,
+                field="unit",
+            )
+        if not course.distance > 0.0:
+            raise DocumentError(
+                f"must be a positive length, not {_plain(course.distance)}",
+                file=file,
+                course=index,
+                field="distance",
+            )
+        text = f"{_plain(course.distance)} {unit}"
+    try:
+        return parse_distance(text, **{**ctx, "default_unit": unit})
+    except LodelineError as err:
+        raise _locate(err, file, index, "distance") from None
+
+
 def _parse_course(
     course: Course,
     index: int,
@@ -755,7 +796,7 @@ def _parse_course(
     from geo.calls import parse_call, parse_distance
 
     where = {"file": file, "course": index}
-    note = course.note
+    call_note: str | None = None
     angle_deg: float | None = None
     if course.call is not None:
         try:
@@ -767,8 +808,7 @@ def _parse_course(
         if call.distance is None:
             raise DocumentError("gives no distance", field="call", **where)
         bearing, distance = call.bearing, call.distance
-        if note is None and call.note:
-            note = call.note
+        call_note = call.note or None
     else:
         bearing = None
         if course.bearing is not None:
@@ -790,25 +830,13 @@ def _parse_course(
                 )
         if bearing is None and previous_azimuth is None:
             raise DocumentError(
-                "the first course needs a bearing (angles are turned from it)",
-                field="bearing",
+                "the first course needs a bearing (angles are turned from it)"
+                if index == 1
+                else "the angle cannot be turned: the previous course has no azimuth",
+                field="bearing" if index == 1 else "angle",
                 **where,
             )
-        distance_field = "distance"
-        try:
-            if isinstance(course.distance, str):
-                distance = parse_distance(
-                    course.distance, **{**ctx, "default_unit": course.unit or ctx["default_unit"]}
-                )
-            else:
-                unit = course.unit or ctx["default_unit"]
-                if unit is None:
-                    distance_field = "unit"
-                    raise DocumentError("missing: give the unit here or set record.distance_unit")
-                distance_field = "unit" if course.unit else "distance"
-                distance = parse_distance(f"{_plain(course.distance)} {unit}", **ctx)
-        except LodelineError as err:
-            raise _locate(err, file, index, distance_field) from None
+        distance = _course_distance(course, ctx, file, index)
     if bearing is not None:
         azimuth, precision, bearing_text = bearing.azimuth_deg, bearing.precision_deg, bearing.text
     else:
@@ -848,7 +876,8 @@ def _parse_course(
         length_unit=str(distance.unit),
         back_azimuth_deg=None if back is None else float(back),
         every_m=every_m,
-        note=note,
+        note=course.note,
+        call_note=call_note,
     )
 
 
@@ -865,23 +894,7 @@ def parse_courses(doc: Document, *, file: str | None = None) -> tuple[RecordedCo
         parsed = _parse_course(course, i, previous, doc, ctx, file)
         out.append(parsed)
         previous = parsed.azimuth_deg
-    _check_varas(doc, out, file)
     return tuple(out)
-
-
-def _check_varas(doc: Document, courses: list[RecordedCourse], file: str | None) -> None:
-    if doc.record.vara_inches is not None:
-        return
-    if doc.record.distance_unit is not None:
-        from geo import units
-
-        if units.unit_name(doc.record.distance_unit) == "vara":
-            raise DocumentError(_VARA_MISSING, file=file, field="record.vara_inches")
-    for c in courses:
-        if c.length_unit == "vara":
-            raise DocumentError(
-                _VARA_MISSING, file=file, course=c.index, field="record.vara_inches"
-            )
 
 
 _VARA_MISSING = (
@@ -903,23 +916,14 @@ def document_problems(doc: Document, *, file: str | None = None) -> list[Documen
         problems.append(_locate(err, file, None, "record"))
         return problems
     previous: float | None = None
-    parsed: list[RecordedCourse] = []
     for i, course in enumerate(doc.course, start=1):
         try:
-            rc = _parse_course(course, i, previous, doc, ctx, file)
-        except DocumentError as err:
-            problems.append(err)
-            previous = None if course.bearing is None and course.call is None else previous
-            continue
+            previous = _parse_course(course, i, previous, doc, ctx, file).azimuth_deg
         except LodelineError as err:
-            problems.append(_locate(err, file, i, "call"))
-            continue
-        parsed.append(rc)
-        previous = rc.azimuth_deg
-    try:
-        _check_varas(doc, parsed, file)
-    except DocumentError as err:
-        problems.append(err)
+            problems.append(
+                err if isinstance(err, DocumentError) else _locate(err, file, i, "call")
+            )
+            previous = None
     return problems
 
 

@@ -1,0 +1,487 @@
+"""The traverse document: schema, one-line errors, round trips, atomic save, fuzzing."""
+
+from __future__ import annotations
+
+import contextlib
+import copy
+import json
+import tomllib
+from pathlib import Path
+
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from geo.document import (
+    Document,
+    check_document,
+    document_from_dict,
+    document_problems,
+    document_to_dict,
+    dumps_document,
+    load_document,
+    loads_document,
+    parse_courses,
+    save_document,
+)
+from geo.errors import DocumentError
+
+DEMOS = sorted((Path(__file__).parents[1] / "demo_traverses").glob("*.toml"))
+
+BASE = {
+    "format_version": 1,
+    "title": "test figure",
+    "closed": True,
+    "place": {"lat": 40.0, "lon": -77.0},
+    "record": {"reference": "magnetic", "date": "1925-06-01", "distance_unit": "chain"},
+    "course": [
+        {"call": "N 10 E 10 chains"},
+        {"bearing": "S 80 E", "distance": 10, "unit": "chain"},
+        {"call": "S 10 W 10"},
+        {"call": "N 80 W 10 chains to the beginning"},
+    ],
+}
+
+
+def variant(**changes):
+    """BASE with changes: keys like "record.date" or "course.2.bearing"; None deletes."""
+    data = copy.deepcopy(BASE)
+    for dotted, value in changes.items():
+        parts = dotted.split(".")
+        node = data
+        for p in parts[:-1]:
+            node = node[int(p) - 1] if isinstance(node, list) else node.setdefault(p, {})
+        key = parts[-1]
+        if isinstance(node, list):
+            node[int(key) - 1] = value
+        elif value is None:
+            node.pop(key, None)
+        else:
+            node[key] = value
+    return data
+
+
+# (case name, document dict, expected course, expected field, a word of the message)
+MALFORMED = [
+    ("no format version", variant(format_version=None), None, "format_version", "missing"),
+    ("future format", variant(format_version=2), None, "format_version", "format"),
+    ("unknown top key", variant(colour="red"), None, "colour", "unknown key"),
+    ("unknown record key", variant(**{"record.variation": 2}), None, "record.variation", "unknown"),
+    ("unknown course key", variant(**{"course.3.length": 2}), 3, "length", "unknown key"),
+    ("no place", variant(place=None), None, "place", "missing"),
+    ("place not a table", variant(place=3), None, "place", "table"),
+    ("lat without lon", variant(place={"lat": 40.0}), None, "place.lon", "together"),
+    ("lat out of range", variant(place={"lat": 95.0, "lon": 0.0}), None, "place.lat", "-90..90"),
+    ("lat is text", variant(place={"lat": "forty", "lon": 0.0}), None, "place.lat", "number"),
+    (
+        "both lat/lon and easting/northing",
+        variant(place={"lat": 40.0, "lon": -77.0, "easting": 1.0, "northing": 2.0}),
+        None,
+        "place.lat",
+        "not both",
+    ),
+    (
+        "easting without crs",
+        variant(place={"easting": 500000.0, "northing": 4400000.0}),
+        None,
+        "grid.crs",
+        "CRS",
+    ),
+    ("closed not boolean", variant(closed="yes"), None, "closed", "true or false"),
+    (
+        "bad reference",
+        variant(**{"record.reference": "compass"}),
+        None,
+        "record.reference",
+        "magnetic",
+    ),
+    ("magnetic without date", variant(**{"record.date": None}), None, "record.date", "date"),
+    ("date not a date", variant(**{"record.date": "May 1854"}), None, "record.date", "date"),
+    ("impossible date", variant(**{"record.date": "1854-02-30"}), None, "record.date", "calendar"),
+    (
+        "declination does not parse",
+        variant(**{"record.declination": "three degrees west"}),
+        None,
+        "record.declination",
+        "",
+    ),
+    ("unknown foot", variant(**{"record.foot": "survey"}), None, "record.foot", "international"),
+    (
+        "unknown unit",
+        variant(**{"record.distance_unit": "furlongs"}),
+        None,
+        "record.distance_unit",
+        "unit",
+    ),
+    ("course call not text", variant(**{"course.2": {"call": 12}}), 2, "call", "text"),
+    ("call and bearing", variant(**{"course.1.bearing": "N 10 E"}), 1, "bearing", "either"),
+    (
+        "bearing without distance",
+        variant(**{"course.2": {"bearing": "S 80 E"}}),
+        2,
+        "distance",
+        "missing",
+    ),
+    ("empty course", variant(**{"course.4": {}}), 4, "call", "missing"),
+    ("call does not parse", variant(**{"course.3": {"call": "S 10 Q 10 chains"}}), 3, "call", ""),
+    ("call without distance", variant(**{"course.3": {"call": "S 10 W"}}), 3, "call", "distance"),
+    ("bearing does not parse", variant(**{"course.2.bearing": "S 95 E"}), 2, "bearing", ""),
+    ("unit unknown on course", variant(**{"course.2.unit": "cubits"}), 2, "unit", "unit"),
+    ("negative distance", variant(**{"course.2.distance": -10}), 2, "distance", ""),
+    ("back does not parse", variant(**{"course.1.back": "backwards"}), 1, "back", ""),
+    ("found half", variant(**{"course.2.found": {"easting": 1.0}}), 2, "found.easting", "both"),
+    ("found extra", variant(**{"course.2.found": {"x": 1.0, "y": 2.0}}), 2, "found.x", "unknown"),
+    ("every does not parse", variant(**{"course.1.every": "often"}), 1, "every", ""),
+    ("every zero", variant(**{"course.1.every": "0 chains"}), 1, "every", ""),
+    (
+        "varas without vara_inches",
+        variant(**{"course.1": {"call": "N 10 E 100 varas"}}),
+        1,
+        "call",
+        "vara",
+    ),
+    (
+        "angle without record.angles",
+        variant(**{"course.2": {"angle": "90", "distance": 10}}),
+        None,
+        "record.angles",
+        "right",
+    ),
+    (
+        "first course by angle",
+        variant(**{"record.angles": "right", "course.1": {"angle": "90", "distance": 10}}),
+        1,
+        "bearing",
+        "first course",
+    ),
+    (
+        "angle that is a bearing",
+        variant(**{"record.angles": "right", "course.2": {"angle": "S 80 E", "distance": 10}}),
+        2,
+        "angle",
+        "bearing",
+    ),
+    ("course list not a list", variant(course="N 10 E"), None, "course", "list"),
+    ("target date bad", variant(target={"date": "tomorrow"}), None, "target.date", "date"),
+    ("target unknown key", variant(target={"when": "2025-01-01"}), None, "target.when", "unknown"),
+    (
+        "nan height",
+        variant(place={"lat": 40.0, "lon": -77.0, "height_m": float("nan")}),
+        None,
+        "place.height_m",
+        "finite",
+    ),
+]
+
+
+@pytest.mark.parametrize(
+    ("data", "course", "field", "word"),
+    [case[1:] for case in MALFORMED],
+    ids=[case[0] for case in MALFORMED],
+)
+def test_malformed_document_names_file_course_and_key(data, course, field, word):
+    with pytest.raises(DocumentError) as info:
+        document_from_dict(data, file="deed.toml")
+    err = info.value
+    assert err.file == "deed.toml"
+    assert err.course == course
+    assert err.field == field
+    text = str(err)
+    assert "\n" not in text
+    assert text.startswith("deed.toml: ")
+    if course is not None:
+        assert f"course {course}" in text
+    assert f"'{field}'" in text
+    assert word.lower() in text.lower()
+
+
+def test_malformed_table_is_large_enough():
+    assert len(MALFORMED) >= 20
+
+
+def test_toml_syntax_error_names_the_file(tmp_path):
+    p = tmp_path / "broken.toml"
+    p.write_text("format_version = 1\n[place\nlat = 1\n", encoding="utf-8")
+    with pytest.raises(DocumentError) as info:
+        load_document(p)
+    assert str(p) in str(info.value) and "TOML" in str(info.value)
+
+
+def test_json_syntax_error_names_file_and_line(tmp_path):
+    p = tmp_path / "broken.json"
+    p.write_text('{\n"format_version": 1,\n"place": {\n}}}', encoding="utf-8")
+    with pytest.raises(DocumentError) as info:
+        load_document(p)
+    assert info.value.line == 4
+
+
+def test_unknown_suffix_and_missing_file(tmp_path):
+    with pytest.raises(DocumentError, match="toml or .json"):
+        load_document(tmp_path / "deed.txt")
+    with pytest.raises(DocumentError, match="cannot be read"):
+        load_document(tmp_path / "absent.toml")
+
+
+def test_not_utf8(tmp_path):
+    p = tmp_path / "latin1.toml"
+    p.write_bytes('format_version = 1\ntitle = "Ste-Th\xe9r\xe8se"\n'.encode("latin-1"))
+    with pytest.raises(DocumentError, match="UTF-8"):
+        load_document(p)
+
+
+def test_schema_keys_are_those_of_format_version_1():
+    # The keys of the issue that introduced the format, plus target/angle/angles (documented).
+    assert list(Document.model_fields) == [
+        "format_version",
+        "title",
+        "closed",
+        "place",
+        "grid",
+        "record",
+        "target",
+        "course",
+    ]
+    from geo.document import Course, Found, Place, Record, Target
+
+    assert set(Place.model_fields) == {"lat", "lon", "easting", "northing", "height_m"}
+    assert set(Record.model_fields) == {
+        "reference",
+        "date",
+        "declination",
+        "model",
+        "distance_unit",
+        "foot",
+        "vara_inches",
+        "angles",
+    }
+    assert set(Target.model_fields) == {"date", "model"}
+    assert set(Course.model_fields) == {
+        "call",
+        "bearing",
+        "angle",
+        "distance",
+        "unit",
+        "back",
+        "found",
+        "every",
+        "note",
+    }
+    assert set(Found.model_fields) == {"easting", "northing", "lat", "lon"}
+
+
+def test_issue_example_document_loads():
+    text = """
+format_version = 1
+title = "Example"
+closed = true
+
+[place]
+lat = 40.0
+lon = -77.0
+height_m = 0.0
+
+[grid]
+crs = "EPSG:2271"
+
+[record]
+reference = "magnetic"
+date = "1854-05-12"
+declination = "3°10' W"
+model = "auto"
+distance_unit = "perch"
+foot = "us"
+vara_inches = 33.333333
+
+[[course]]
+call = "N 45 1/2 E 20 perches to a white oak"
+back = "S 45 15 W"
+found = { easting = 0.0, northing = 0.0 }
+every = "5 chains"
+note = "first corner"
+
+[[course]]
+bearing = "N 45 30 E"
+distance = 20
+unit = "perch"
+"""
+    doc = loads_document(text, file="example.toml")
+    courses = parse_courses(doc)
+    # Rod = perch = 16.5 US survey feet (DESIGN.md; US survey foot 1200/3937 m, NIST).
+    assert courses[0].length_m == pytest.approx(20 * 16.5 * 1200 / 3937, abs=1e-9)
+    assert courses[0].azimuth_deg == pytest.approx(45.5)
+    assert courses[0].back_azimuth_deg == pytest.approx(225.25)
+    assert courses[0].call_note == "to a white oak"
+    # 5 chains = 5 x 66 US survey feet.
+    assert courses[0].every_m == pytest.approx(5 * 66 * 1200 / 3937, abs=1e-9)
+    assert courses[1].text == "N 45 30 E 20 perch"
+    assert courses[1].precision_deg == pytest.approx(1 / 60)
+
+
+def test_toml_date_and_numbers_are_kept_as_written():
+    doc = loads_document(
+        "format_version = 1\n[place]\nlat = 40\nlon = -77\n[record]\ndate = 1925-06-01\n"
+        'distance_unit = "chain"\n[[course]]\nbearing = "N 1 E"\ndistance = 3\n'
+    )
+    assert doc.record.date == "1925-06-01"
+    assert doc.course[0].distance == 3.0
+    assert doc.place.lat == 40.0
+
+
+@pytest.mark.parametrize("demo", DEMOS, ids=[d.name for d in DEMOS])
+def test_demo_round_trip_toml(tmp_path, demo):
+    doc = load_document(demo)
+    out = tmp_path / "copy.toml"
+    save_document(doc, out)
+    again = load_document(out)
+    assert again == doc
+    first_text = out.read_text(encoding="utf-8")
+    save_document(again, out)
+    assert out.read_text(encoding="utf-8") == first_text
+    # the previous version is kept beside it
+    assert (tmp_path / "copy.toml.bak").read_text(encoding="utf-8") == first_text
+    # what is written is plain TOML of the same dict, and holds no derived numbers
+    assert tomllib.loads(first_text) == json.loads(json.dumps(document_to_dict(doc)))
+    assert "azimuth" not in first_text and "length_m" not in first_text
+
+
+@pytest.mark.parametrize("demo", DEMOS, ids=[d.name for d in DEMOS])
+def test_demo_round_trip_json(tmp_path, demo):
+    doc = load_document(demo)
+    out = tmp_path / "copy.json"
+    save_document(doc, out)
+    assert load_document(out) == doc
+    text = out.read_text(encoding="utf-8")
+    save_document(load_document(out), out)
+    assert out.read_text(encoding="utf-8") == text
+    assert json.loads(text)["format_version"] == 1
+
+
+def test_toml_and_json_give_the_same_document(tmp_path):
+    doc = document_from_dict(BASE)
+    save_document(doc, tmp_path / "a.toml")
+    save_document(doc, tmp_path / "a.json")
+    assert load_document(tmp_path / "a.toml") == load_document(tmp_path / "a.json") == doc
+
+
+def test_save_is_refused_for_unknown_suffix_and_leaves_no_file(tmp_path):
+    doc = document_from_dict(BASE)
+    with pytest.raises(DocumentError):
+        save_document(doc, tmp_path / "a.yaml")
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_dict_round_trip_keeps_order_and_drops_absent_keys():
+    doc = document_from_dict(BASE)
+    data = document_to_dict(doc)
+    assert list(data) == ["format_version", "title", "closed", "place", "record", "course"]
+    assert data["course"][0] == {"call": "N 10 E 10 chains"}
+    assert document_from_dict(data) == doc
+
+
+def test_unchecked_document_keeps_a_bad_call_and_lists_the_problem():
+    data = variant(**{"course.3": {"call": "S 10 Q 10 chains"}, "course.4.call": "N 80 W"})
+    with pytest.raises(DocumentError):
+        document_from_dict(data)
+    doc = document_from_dict(data, check=False)
+    assert doc.course[2].call == "S 10 Q 10 chains"
+    problems = document_problems(doc)
+    assert [(p.course, p.field) for p in problems] == [(3, "call"), (4, "call")]
+    assert dumps_document(doc).count("S 10 Q 10 chains") == 1
+
+
+def test_angles_right_and_left():
+    # A 10-chain square. Run counter-clockwise (N, W, S, E) its interior angles are angles
+    # turned to the right: az_i = az_(i-1) + 180 + 90 (common practice: angles right).
+    ccw = variant(
+        **{
+            "record.angles": "right",
+            "course.1": {"bearing": "N 0 E", "distance": 10, "angle": "90"},
+            "course.2": {"angle": "90", "distance": 10},
+            "course.3": {"angle": "90 00 00", "distance": 10},
+            "course.4": {"angle": 90.0, "distance": 10},
+        }
+    )
+    assert [c.azimuth_deg for c in parse_courses(document_from_dict(ccw))] == [0, 270, 180, 90]
+    cw = copy.deepcopy(ccw)
+    cw["record"]["angles"] = "left"
+    assert [c.azimuth_deg for c in parse_courses(document_from_dict(cw))] == [0, 90, 180, 270]
+
+
+def test_vara_inches_makes_varas_usable():
+    data = variant(**{"course.1": {"call": "N 10 E 100 varas"}, "record.vara_inches": 33.5})
+    doc = document_from_dict(data)
+    # A vara of 33 1/2 inches of the US survey foot: 100 x 33.5/12 x 1200/3937 m.
+    assert parse_courses(doc)[0].length_m == pytest.approx(100 * 33.5 / 12 * 1200 / 3937)
+    bad = variant(**{"record.distance_unit": "vara"})
+    with pytest.raises(DocumentError) as info:
+        check_document(document_from_dict(bad, check=False))
+    assert info.value.field == "record.vara_inches"
+
+
+def test_true_record_needs_no_date():
+    doc = document_from_dict(
+        variant(**{"record.reference": "true", "record.date": None, "record.foot": "us"})
+    )
+    assert len(parse_courses(doc)) == 4
+
+
+# ---------------------------------------------------------------- fuzzing
+
+_TOMLISH = st.text(
+    alphabet=st.sampled_from(list("[]{}=\".,\n #-+:0123456789etruflasnbvgcopixdm_TZ'\\")),
+    max_size=200,
+)
+_VALID = dumps_document(document_from_dict(BASE))
+
+
+@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.one_of(st.binary(max_size=200), _TOMLISH))
+def test_fuzz_random_text_only_raises_document_error(data):
+    for fmt in ("toml", "json"):
+        try:
+            loads_document(data, fmt, file="fuzz")
+        except DocumentError as err:
+            assert "\n" not in str(err)
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.integers(0, len(_VALID)), st.integers(0, 40), _TOMLISH)
+def test_fuzz_damaged_valid_document_only_raises_document_error(start, length, insert):
+    text = _VALID[:start] + insert + _VALID[start + length :]
+    try:
+        loads_document(text, "toml", file="fuzz.toml")
+    except DocumentError as err:
+        assert str(err).startswith("fuzz.toml")
+
+
+_JSONISH = st.recursive(
+    st.none() | st.booleans() | st.floats() | st.integers() | st.text(max_size=12),
+    lambda inner: (
+        st.lists(inner, max_size=4) | st.dictionaries(st.text(max_size=8), inner, max_size=4)
+    ),
+    max_leaves=20,
+)
+
+
+@settings(max_examples=300, deadline=None)
+@given(
+    st.dictionaries(
+        st.sampled_from(
+            [
+                "format_version",
+                "place",
+                "record",
+                "course",
+                "grid",
+                "target",
+                "title",
+                "closed",
+                "x",
+            ]
+        ),
+        _JSONISH,
+    )
+)
+def test_fuzz_random_structures_only_raise_document_error(data):
+    with contextlib.suppress(DocumentError):
+        document_from_dict(data, file="fuzz.json")
