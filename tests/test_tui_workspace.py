@@ -1,0 +1,137 @@
+"""The application's document state: edits, undo/redo, dirty tracking and recovery files.
+
+No Textual here: these are the plain-Python parts the desk drives.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from tui.app import parse_found
+from tui.workspace import (
+    Workspace,
+    discard_recovery,
+    is_blank_course,
+    read_recovery,
+    recovery_path,
+    saveable_document,
+    with_setting,
+    write_recovery,
+)
+
+
+@pytest.fixture(autouse=True)
+def _state(tmp_path, monkeypatch):
+    monkeypatch.setenv("LODELINE_STATE", str(tmp_path / "state"))
+
+
+def _doc() -> dict:
+    return {
+        "format_version": 1,
+        "title": "Test figure",
+        "place": {"lat": 40.0, "lon": -77.0},
+        "record": {"reference": "true", "distance_unit": "chain"},
+        "course": [{"call": "N 10 E 5 chains"}, {"call": "S 80 E 5 chains"}],
+    }
+
+
+def test_typing_in_one_field_is_one_undo_step():
+    ws = Workspace(doc=_doc())
+    original = ws.doc
+    for text in ("N", "N 1", "N 12", "N 12 E 5 chains"):
+        ws.set_course_field(0, "call", text, session=7)
+    assert ws.courses[0]["call"] == "N 12 E 5 chains"
+    assert len(ws.undo_stack) == 1
+    assert ws.undo() == "edit call of course 1"
+    assert ws.doc is original
+    assert not ws.dirty
+    ws.redo()
+    assert ws.courses[0]["call"] == "N 12 E 5 chains"
+    assert ws.dirty
+
+
+def test_a_new_session_is_a_new_undo_step():
+    ws = Workspace(doc=_doc())
+    ws.set_course_field(0, "call", "N 11 E 5 chains", session=1)
+    ws.set_course_field(0, "call", "N 12 E 5 chains", session=2)
+    assert len(ws.undo_stack) == 2
+    ws.undo()
+    assert ws.courses[0]["call"] == "N 11 E 5 chains"
+
+
+def test_structure_edits_undo_in_order():
+    ws = Workspace(doc=_doc())
+    original = ws.doc
+    ws.insert_course(1, {"call": "N 80 W 2 chains"})
+    assert [c["call"] for c in ws.courses] == [
+        "N 10 E 5 chains", "N 80 W 2 chains", "S 80 E 5 chains",
+    ]
+    assert ws.move_course(1, 1) == 2
+    assert ws.courses[2]["call"] == "N 80 W 2 chains"
+    ws.delete_course(0)
+    assert len(ws.courses) == 2
+    while ws.undo():
+        pass
+    assert ws.doc == original
+    assert not ws.dirty
+
+
+def test_edits_never_change_an_earlier_snapshot():
+    ws = Workspace(doc=_doc())
+    before = ws.doc
+    ws.set_setting("place.lat", 41.5)
+    ws.set_course_field(1, "back", "N 80 W")
+    assert before["place"]["lat"] == 40.0
+    assert "back" not in before["course"][1]
+
+
+def test_setting_removed_with_none_drops_empty_table():
+    doc = with_setting({"grid": {"crs": "EPSG:32618"}}, "grid.crs", None)
+    assert doc == {}
+
+
+def test_blank_courses_are_not_saved_but_typed_ones_are():
+    doc = {**_doc(), "course": [{"call": ""}, {"call": "N 95 E junk"}, {"call": "  "}]}
+    assert [is_blank_course(c) for c in doc["course"]] == [True, False, True]
+    assert saveable_document(doc)["course"] == [{"call": "N 95 E junk"}]
+
+
+def test_recovery_round_trip_and_discard(tmp_path: Path):
+    target = tmp_path / "farm.toml"
+    ws = Workspace(doc=_doc(), path=target)
+    ws.set_course_field(0, "call", "N 95 E this does not read")
+    write_recovery(ws)
+    found = read_recovery(target)
+    assert found is not None
+    assert found.doc == ws.doc
+    assert found.document_path == target.resolve()
+    assert read_recovery(tmp_path / "other.toml") is None
+    discard_recovery(target)
+    assert read_recovery(target) is None
+    assert not recovery_path(target).exists()
+
+
+def test_unreadable_recovery_file_is_ignored(tmp_path: Path):
+    target = tmp_path / "farm.toml"
+    file = recovery_path(target)
+    file.parent.mkdir(parents=True)
+    file.write_text("{not json", encoding="utf-8")
+    assert read_recovery(target) is None
+    assert file.exists()  # left in place for the user
+
+
+@pytest.mark.parametrize(
+    ("text", "expected"),
+    [
+        ("easting=1200.5, northing=880.25", {"easting": 1200.5, "northing": 880.25}),
+        ("E=10 N=20", {"easting": 10.0, "northing": 20.0}),
+        ("1200.5 880.25", {"easting": 1200.5, "northing": 880.25}),
+        ("lat=40.1, lon=-77.2", {"lat": 40.1, "lon": -77.2}),
+        ("", None),
+        ("near the old mill", "near the old mill"),  # kept as typed; the check names it
+    ],
+)
+def test_found_positions_read_or_kept(text, expected):
+    assert parse_found(text) == expected
