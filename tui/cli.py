@@ -20,6 +20,7 @@ SUBCOMMANDS: list[tuple[str, str]] = [
     ("field", "field"),
     ("models", "models"),
     ("open", "open"),
+    ("convert", "convert"),
 ]
 
 EPILOG = (

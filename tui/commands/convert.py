@@ -1,0 +1,173 @@
+"""``lodeline convert DOC``: every course of a traverse document in all four north references.
+
+Prints a table (course, call as written, distance in the document's unit and in metres, the
+magnetic (record date), true, grid and magnetic (target date) bearings, D at both dates, the
+grid convergence and the model's D uncertainty where one is published), or with ``--json``
+one object (see :meth:`geo.north.DocumentConversion.as_dict`). Nothing is written.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from typing import Any
+
+HELP = "convert the bearings of a traverse document between north references"
+
+
+def register(subparsers: Any) -> None:
+    """Add the ``convert`` subcommand."""
+    p = subparsers.add_parser(
+        "convert",
+        help=HELP,
+        description=(
+            "Convert each course of a traverse document (TOML or JSON) to magnetic north at "
+            "the record date, true north, grid north and magnetic north at a target date. "
+            "D and the grid convergence are evaluated at each course's starting station."
+        ),
+    )
+    p.add_argument("document", metavar="DOC", help="traverse document (.toml or .json)")
+    p.add_argument(
+        "--target-date",
+        metavar="YYYY-MM-DD",
+        help="date to convert to (default: the document's target.date, else today)",
+    )
+    p.add_argument(
+        "--model",
+        metavar="NAME|auto",
+        help="field model for the target date (default: the document's target.model, else auto)",
+    )
+    p.add_argument(
+        "--record-model",
+        metavar="NAME|auto",
+        help="field model for the record date (default: the document's record.model)",
+    )
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.set_defaults(func=run)
+
+
+def _deg(value: float | None, digits: int = 3) -> str:
+    return "-" if value is None else f"{value:+.{digits}f}"
+
+
+def _length(value: float) -> str:
+    return f"{value:.4f}".rstrip("0").rstrip(".")
+
+
+def _table(rows: list[list[str]], right: set[int]) -> list[str]:
+    widths = [max(len(r[i]) for r in rows) for i in range(len(rows[0]))]
+    out = []
+    for n, r in enumerate(rows):
+        cells = [
+            c.rjust(w) if i in right else c.ljust(w)
+            for i, (c, w) in enumerate(zip(r, widths, strict=True))
+        ]
+        out.append("  ".join(cells).rstrip())
+        if n == 0:
+            out.append("  ".join("-" * w for w in widths))
+    return out
+
+
+def render(conv: Any) -> str:
+    """The human-readable conversion (header, course table, warnings, caution)."""
+    from geo.cautions import SHORT_CAUTION
+
+    doc = conv.document
+    lines: list[str] = []
+    if doc.title:
+        lines.append(doc.title)
+    p0 = conv.stations[0]
+    lines.append(
+        f"point of beginning {p0.lat:.6f}, {p0.lon:.6f}  h {conv.height_m:g} m  "
+        f"grid {conv.crs} (E {p0.easting:.3f}, N {p0.northing:.3f})"
+    )
+    rec_when = (
+        conv.record_date.isoformat()
+        if conv.record_date
+        else (f"{conv.record_year:g}" if conv.record_year is not None else "none")
+    )
+    if conv.declination_source == "stated":
+        d1 = f"stated declination {conv.stated_declination_deg:+.4f} deg"
+    elif conv.declination_source == "model":
+        d1 = f"model {conv.record_model}"
+    else:
+        d1 = "no declination"
+    lines.append(f"record: {conv.reference} bearings, date {rec_when}, {d1}")
+    t_when = conv.target_date.isoformat() if conv.target_date else f"{conv.target_year:g}"
+    lines.append(f"target: magnetic at {t_when}, model {conv.target_model}")
+    lines.append("")
+    if not conv.courses:
+        lines.append("(no courses)")
+    else:
+        rows = [
+            [
+                "#",
+                "call as written",
+                "distance",
+                "metres",
+                "magnetic (record)",
+                "true",
+                "grid",
+                "magnetic (target)",
+                "D record",
+                "D target",
+                "gamma",
+                "D sigma",
+            ]
+        ]
+        for c in conv.courses:
+            unit = c.length_unit
+            rows.append(
+                [
+                    str(c.index),
+                    c.call,
+                    f"{_length(c.length_value)} {unit}",
+                    f"{c.length_m:.3f}",
+                    c.bearing.magnetic_record or "-",
+                    c.bearing.true,
+                    c.bearing.grid,
+                    c.bearing.magnetic_target,
+                    _deg(c.declination_record_deg),
+                    _deg(c.declination_target_deg),
+                    _deg(c.convergence_deg, 4),
+                    "none published"
+                    if c.declination_target_sigma_deg is None
+                    else f"{c.declination_target_sigma_deg:.3f}",
+                ]
+            )
+        lines += _table(rows, right={0, 2, 3, 8, 9, 10})
+        lines.append("")
+        lines.append(
+            "D east positive (true = magnetic + D); gamma: true north to grid north, clockwise "
+            "(grid = true - gamma); degrees. Combined factor at the point of beginning "
+            f"{conv.courses[0].combined_factor:.8f}."
+        )
+    notes = list(conv.warnings)
+    for c in conv.courses:
+        notes += [f"course {c.index}: {w}" for w in c.warnings]
+    for note in dict.fromkeys(notes):
+        lines.append(f"note: {note}")
+    lines.append(SHORT_CAUTION)
+    return "\n".join(lines) + "\n"
+
+
+def run(args: argparse.Namespace) -> int:
+    """Load the document, convert it and print the table or the JSON object."""
+    from geo.document import load_document
+    from geo.north import convert_document
+
+    from .common import print_json
+
+    doc = load_document(args.document)
+    conv = convert_document(
+        doc,
+        file=args.document,
+        target_date=args.target_date,
+        model=args.model,
+        record_model=args.record_model,
+    )
+    if args.json:
+        print_json(conv.as_dict())
+    else:
+        sys.stdout.write(render(conv))
+    return 0
