@@ -28,8 +28,11 @@ Errors
 Formatting
     ``precision`` is a step in degrees: :data:`DEGREE` (1), :data:`MINUTE` (1/60),
     :data:`SECOND` (1/3600), :data:`TENTH_SECOND` (1/36000), decimals of any of them
-    (0.1, 0.01, 0.1/60...), or 1/n of a degree (0.5, 0.25, 0.125 - written as fractions);
-    a parsed ``Bearing.precision_deg`` can be passed back as is. The strings ``'deg'``,
+    (0.1, 0.01, 0.1/60... down to 6 decimals), or 1/n of a degree for n = 2, 3, 4, 6, 8, 16
+    (0.5, 0.25, 0.125 - written as reduced fractions, 45½ rather than 45 2/4, so they read
+    back at the reduced step); any other positive step is shown at the coarsest of 1°,
+    1′, 1″, 0.1″... that is not coarser than it. A parsed ``Bearing.precision_deg`` can be
+    passed back as is. The strings ``'deg'``,
     ``'min'``, ``'sec'`` and ``'0.1sec'`` name the four usual steps. Rounding carries
     (``59′60″`` never appears). Unicode style: ``N 45°30′15″ E``; ASCII style:
     ``N 45-30-15 E``.
@@ -113,6 +116,7 @@ _VULGAR: dict[str, Fraction] = {
 }
 _VULGAR_TEXT = {v: k for k, v in _VULGAR.items()}
 _MAX_NUMBER_CHARS = 20
+_FRACTION_STEPS = (2, 3, 4, 6, 8, 16)
 # Letter pairs written straight after a number in compact bearings (``15sE``): mark + letter.
 _COMPACT_PAIRS = {m + d for m in "dms" for d in "nsew"}
 
@@ -153,6 +157,12 @@ def quote(text: str, position: int | None = None, width: int = 60) -> str:
     start = max(0, pos - width // 2)
     piece = " ".join(text[start : start + width].split())
     return f"'{'…' if start else ''}{piece}…'"
+
+
+def short(text: str, limit: int = 40) -> str:
+    """``text`` with runs of spaces closed up, cut to ``limit`` characters for a message."""
+    piece = " ".join(text.split())
+    return piece if len(piece) <= limit else piece[: limit - 1] + "…"
 
 
 def fail(text: str, position: int, message: str) -> ParseError:
@@ -308,6 +318,10 @@ class Reader:
             return ""
         return self.text[self.toks[i].start : self.toks[j - 1].end]
 
+    def show(self, i: int, j: int, limit: int = 40) -> str:
+        """Source text of tokens ``i..j-1`` for a message, shortened to ``limit`` characters."""
+        return short(self.span(i, j), limit)
+
     def is_number(self, i: int) -> bool:
         return self.kind(i) == NUM
 
@@ -424,12 +438,12 @@ def read_angle(
             if level == 0:
                 raise r.fail(
                     j,
-                    f"'{r.span(j, j + 1)}' after {_num(q.value)} marks {_LEVEL_NAMES[m]}, "
+                    f"'{r.show(j, j + 1)}' after {_num(q.value)} marks {_LEVEL_NAMES[m]}, "
                     "but the degrees come first",
                 )
             raise r.fail(
                 j,
-                f"'{r.span(j, j + 1)}' marks {_LEVEL_NAMES[m]} where "
+                f"'{r.show(j, j + 1)}' marks {_LEVEL_NAMES[m]} where "
                 f"{_LEVEL_NAMES[level]} were expected",
             )
         if level > 0 and q.value >= 60:
@@ -533,7 +547,7 @@ def read_bearing(
     if w in _INTERCARDINAL:
         raise r.fail(
             i,
-            f"'{r.span(i, i + 1)}' gives no angle: write a quadrant bearing such as N 45 E",
+            f"'{r.show(i, i + 1)}' gives no angle: write a quadrant bearing such as N 45 E",
         )
     if w in _NS:
         return _quadrant(r, i, stop_before_units)
@@ -541,23 +555,23 @@ def read_bearing(
         if r.is_number(i + 1) or r.is_negative(i + 1):
             raise r.fail(
                 i,
-                f"a quadrant bearing starts with N or S, not '{r.span(i, i + 1)}' "
+                f"a quadrant bearing starts with N or S, not '{r.show(i, i + 1)}' "
                 "(write it as N/S angle E/W)",
             )
         if r.word(i + 1) in _NS or r.word(i + 1) in _EW:
-            raise r.fail(i + 1, f"direction given twice: '{r.span(i, i + 2)}'")
+            raise r.fail(i + 1, f"direction given twice: '{r.show(i, i + 2)}'")
         return _cardinal(r, i, i), i + 1
     if w in _AZ_WORDS:
         if r.is_negative(i + 1) or (r.kind(i + 1) == DASH and r.is_number(i + 2)):
             raise r.fail(i + 1, "negative angle: an azimuth is written from 0 to 360")
         if not r.is_number(i + 1):
-            raise r.fail(i + 1, f"expected the azimuth angle after '{r.span(i, i + 1)}'")
+            raise r.fail(i + 1, f"expected the azimuth angle after '{r.show(i, i + 1)}'")
         return _azimuth(r, i, i + 1, south_azimuth, stop_before_units)
     if r.is_negative(i) or (t.kind == DASH and r.is_number(i + 1)):
         raise r.fail(i, "negative angle: bearings and azimuths are written without a sign")
     if t.kind == NUM:
         return _azimuth(r, i, i, south_azimuth, stop_before_units)
-    raise r.fail(i, f"'{r.span(i, i + 1)}' does not start a bearing (N/S, a cardinal or Az)")
+    raise r.fail(i, f"'{r.show(i, i + 1)}' does not start a bearing (N/S, a cardinal or Az)")
 
 
 def _cardinal(r: Reader, start: int, i: int) -> Bearing:
@@ -573,12 +587,12 @@ def _quadrant(r: Reader, i: int, stop_before_units) -> tuple[Bearing, int]:
     j = i + 1
     w2 = r.word(j)
     if w2 in _NS:
-        raise r.fail(j, f"N or S given twice: '{r.span(i, j + 1)}'")
+        raise r.fail(j, f"N or S given twice: '{r.show(i, j + 1)}'")
     if w2 in _EW:
         if r.is_number(j + 1):
-            raise r.fail(j, f"'{r.span(i, j + 1)}': the angle comes between N/S and E/W")
+            raise r.fail(j, f"'{r.show(i, j + 1)}': the angle comes between N/S and E/W")
         raise r.fail(
-            j, f"'{r.span(i, j + 1)}' gives no angle: write a quadrant bearing such as N 45 E"
+            j, f"'{r.show(i, j + 1)}' gives no angle: write a quadrant bearing such as N 45 E"
         )
     if r.kind(j) == DASH and r.is_number(j + 1):
         raise r.fail(j, "negative angle: a quadrant angle is written from 0 to 90")
@@ -594,14 +608,14 @@ def _quadrant(r: Reader, i: int, stop_before_units) -> tuple[Bearing, int]:
             raise r.fail(
                 k,
                 "N or S given twice: a quadrant bearing ends with E or W, "
-                f"not '{r.span(k, k + 1)}'",
+                f"not '{r.show(k, k + 1)}'",
             )
         if r.is_number(k):
-            raise r.fail(k, f"too many numbers in the angle of '{r.span(i, k + 1)}'")
-        raise r.fail(k, f"E or W missing after '{r.span(i, k)}'")
+            raise r.fail(k, f"too many numbers in the angle of '{r.show(i, k + 1)}'")
+        raise r.fail(k, f"E or W missing after '{r.show(i, k)}'")
     ew = _EW[ew_word]
     if r.word(k + 1) in _EW:
-        raise r.fail(k + 1, f"E or W given twice: '{r.span(i, k + 2)}'")
+        raise r.fail(k + 1, f"E or W given twice: '{r.show(i, k + 2)}'")
     if angle.value > 90:
         raise r.fail(j, f"quadrant angle {r.text[angle.start : angle.end]} is more than 90 degrees")
     a = angle.value
@@ -624,10 +638,10 @@ def _azimuth(
     w = r.word(k)
     if w in _EW:
         raise r.fail(
-            k, f"N or S missing before the angle: '{r.span(start, k + 1)}' is not a bearing"
+            k, f"N or S missing before the angle: '{r.show(start, k + 1)}' is not a bearing"
         )
     if w in _NS:
-        raise r.fail(k, f"'{r.span(start, k + 1)}': N or S comes before the angle")
+        raise r.fail(k, f"'{r.show(start, k + 1)}': N or S comes before the angle")
     reference: Literal["north", "south"] = "south" if south_azimuth else "north"
     end = k
     if w == "from":
@@ -689,9 +703,14 @@ def parse_bearing(text: str, *, south_azimuth: bool = False) -> Bearing:
     r = Reader(text)
     bearing, j = read_bearing(r, 0, south_azimuth=south_azimuth)
     if j < len(r.toks):
-        if looks_like_bearing(r, j):
-            raise r.fail(j, f"several bearings in one call: '{bearing.text}' and then more")
-        raise r.fail(j, f"unexpected '{r.span(j, j + 1)}' after the bearing '{bearing.text}'")
+        k = j
+        while r.kind(k) == COMMA:
+            k += 1
+        if looks_like_bearing(r, k):
+            message = f"several bearings in one call: '{short(bearing.text)}' and then more"
+            raise r.fail(k, message)
+        message = f"unexpected '{r.show(j, j + 1)}' after the bearing '{short(bearing.text)}'"
+        raise r.fail(j, message)
     return bearing
 
 
@@ -723,15 +742,17 @@ def _plan(precision: float | str) -> _Plan:
     for level, unit in enumerate((1.0, 60.0, 3600.0)):
         ratio = p * unit
         k = round(-math.log10(ratio))
-        if 0 <= k <= 4 and abs(ratio - 10.0**-k) <= 1e-9 * 10.0**-k:
+        if 0 <= k <= 6 and abs(ratio - 10.0**-k) <= 1e-9 * 10.0**-k:
             return _Plan(int(round(unit)) * 10**k, level, k)
     n = round(1.0 / p)
-    if 2 <= n <= 64 and abs(1.0 / p - n) <= 1e-9 * n:
+    if n in _FRACTION_STEPS and abs(1.0 / p - n) <= 1e-9 * n:
         return _Plan(n, -1, 0)
-    raise InputError(
-        f"precision {precision!r} is not supported: use 1°, 1′, 1″, 0.1″, a decimal of "
-        "them, or a fraction 1/n of a degree"
-    )
+    # Any other step: the coarsest usual step that is not coarser than it.
+    for level, unit in enumerate((1.0, 60.0, 3600.0)):
+        if unit * p >= 1.0 - 1e-12:
+            return _Plan(int(unit), level, 0)
+    k = min(6, math.ceil(-math.log10(p * 3600.0) - 1e-12))
+    return _Plan(3600 * 10**k, 2, k)
 
 
 def _counts(angle_deg: float, plan: _Plan) -> int:
@@ -877,7 +898,7 @@ def parse_declination(value: str | float | int) -> float:
         letter = _EW[r.word(j) or ""]
         j += 1
     if j < len(r.toks):
-        raise r.fail(j, f"unexpected '{r.span(j, j + 1)}' after the declination")
+        raise r.fail(j, f"unexpected '{r.show(j, j + 1)}' after the declination")
     if letter is not None and sign:
         raise r.fail(0, "give either a sign or E/W, not both")
     if angle.value > 180:

@@ -53,6 +53,7 @@ from geo.bearings import (
     finite_number,
     looks_like_bearing,
     read_bearing,
+    short,
     starts_bearing,
 )
 from geo.errors import InputError, LodelineError, ParseError
@@ -146,7 +147,7 @@ def read_distance(
         if t is not None and t.kind == WORD and t.word not in _NOTE_WORDS:
             raise r.fail(
                 j,
-                f"'{r.span(j, j + 1)}' after {r.text[q.start : q.end]} is not a length unit "
+                f"'{r.show(j, j + 1)}' after {r.text[q.start : q.end]} is not a length unit "
                 "(perch, rod, pole, chain, link, ft, in, m, vara, mile...)",
             )
         if t is not None and t.kind == DEG:
@@ -183,14 +184,14 @@ def read_distance(
             if nq.value * key[1] >= prev[1]:
                 raise r.fail(
                     k,
-                    f"{r.span(k, nk + 1)} is one {prev_unit} or more: "
+                    f"{r.show(k, nk + 1)} is one {prev_unit} or more: "
                     f"carry it into the {prev_unit}s",
                 )
             total += nq.value * key[1] / _size_key(first_unit)[1]  # type: ignore[index]
             prev, prev_unit = key, nunit
             end_tok = nk + 1
     if total <= 0:
-        raise r.fail(i, f"the distance {r.span(i, end_tok)} must be more than zero")
+        raise r.fail(i, f"the distance {r.show(i, end_tok)} must be more than zero")
     try:
         per = metres_per(first_unit, foot=foot, vara_inches=vara_inches)
     except InputError as exc:
@@ -228,7 +229,7 @@ def parse_distance(
     r = Reader(text)
     d, j = read_distance(r, 0, default_unit=default_unit, foot=foot, vara_inches=vara_inches)
     if j < len(r.toks):
-        raise r.fail(j, f"unexpected '{r.span(j, j + 1)}' after the distance '{d.text}'")
+        raise r.fail(j, f"unexpected '{r.show(j, j + 1)}' after the distance '{short(d.text)}'")
     return d
 
 
@@ -327,20 +328,19 @@ def parse_call(
             "call",
             r.fail(
                 i,
-                f"'{r.span(i, i + 1)}' starts neither a bearing (N 45 E, North, Az 225) "
+                f"'{r.show(i, i + 1)}' starts neither a bearing (N 45 E, North, Az 225) "
                 "nor a distance (20 perches)",
             ),
             text,
         )
     if i < len(r.toks):
         if bearing is not None and looks_like_bearing(r, i):
-            raise _part_error(
-                "call", r.fail(i, f"several bearings in one call: '{bearing.text}' and more"), text
-            )
+            message = f"several bearings in one call: '{short(bearing.text)}' and more"
+            raise _part_error("call", r.fail(i, message), text)
         if distance is not None and r.is_number(i) and _unit_at(r, i + 1) is not None:
             raise _part_error(
                 "call",
-                r.fail(i, f"several distances in one call: '{distance.text}' and more"),
+                r.fail(i, f"several distances in one call: '{short(distance.text)}' and more"),
                 text,
             )
     note = ""
