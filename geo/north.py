@@ -425,7 +425,8 @@ def convert_document(
         except LodelineError as err:
             raise err.located(file=file) from None
 
-    record_field = target_field_vec = None
+    record_field: _Split | None = None
+    target_field_vec: Any = None
     d1: np.ndarray | None = None
     record_usable = need_record_model
     for _pass in range(_MAX_PASSES):
@@ -435,18 +436,22 @@ def convert_document(
             raise err.located(file=file, field="grid.crs" if doc.grid else "place") from None
         gamma = np.asarray(factors.convergence_deg, dtype=float)
         combined = np.asarray(factors.combined_factor, dtype=float)
-        same = record_usable and record_model_name == target_model_name
-        if same:
-            both = evaluate(
-                "record",
-                record_model_name,
-                np.concatenate([np.full(n + 1, record_year), np.full(n + 1, tyear)]),
-                np.concatenate([lat, lat]),
-                np.concatenate([lon, lon]),
-            )
-            record_field = _Split(both, slice(0, n + 1))
-            target_field_vec = _Split(both, slice(n + 1, 2 * n + 2))
-        else:
+        record_field = None
+        if record_usable and record_model_name == target_model_name:
+            try:
+                both = field_at(
+                    lat=np.concatenate([lat, lat]),
+                    lon=np.concatenate([lon, lon]),
+                    year=np.concatenate([np.full(n + 1, record_year), np.full(n + 1, tyear)]),
+                    height_m=h,
+                    model=record_model_name,
+                )
+            except ModelRangeError:
+                both = None  # one of the dates is not covered: find out which, below
+            if both is not None:
+                record_field = _Split(both, slice(0, n + 1))
+                target_field_vec = _Split(both, slice(n + 1, 2 * n + 2))
+        if record_field is None:
             if record_usable:
                 try:
                     record_field = _Split(
@@ -456,7 +461,6 @@ def convert_document(
                     if magnetic:
                         raise
                     record_usable = False
-                    record_field = None
                     notes.append(
                         "no field model covers the record date: the magnetic bearings at the "
                         "record date are not given"
