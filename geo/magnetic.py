@@ -1,0 +1,235 @@
+"""The geomagnetic field at places and dates: the public face of the field engine.
+
+Conventions: declination D is the angle from true north to the horizontal field, east
+positive; inclination I is positive when the field points down; X north, Y east, Z down in
+the geodetic (WGS84) frame, in nT; rates are per year. Latitude and longitude are geodetic
+degrees (longitude east positive; 0..360 is accepted and brought to -180..180), heights are
+metres above the ellipsoid, dates are decimal years (see :mod:`geo.dates`).
+
+Uncertainty: the 1-sigma declination uncertainty is given only where the model's publisher
+publishes an error model: WMM2025 and WMMHR2025 (``declination_sigma_deg``; NaN otherwise).
+Compass warnings follow the WMM's published thresholds on the horizontal intensity H:
+below 6000 nT a caution zone, below 2000 nT the compass is unreliable. No model includes
+local crustal anomalies, which can reach several degrees (see :mod:`geo.cautions`).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from geo.errors import InputError
+from geo.models import load_model, require
+from geo.synthesis import synthesize
+
+#: Horizontal intensity below which compass readings need caution, nT (WMM caution zone).
+CAUTION_H_NT = 6000.0
+#: Horizontal intensity below which a compass is unreliable, nT (WMM blackout zone).
+UNRELIABLE_H_NT = 2000.0
+
+#: Published declination error models: sigma_D = sqrt(a^2 + (b / H)^2) degrees, H in nT.
+#: WMM2025: a = 0.26 deg, b = 5417 deg nT; WMMHR2025: a = 0.25 deg, b = 5205 deg nT.
+#: Source: NOAA NCEI & BGS, "The US/UK World Magnetic Model for 2025-2030: Technical
+#: Report" (error model table), and the WMMHR2025 release notes.
+DECLINATION_ERROR_MODELS: dict[str, tuple[float, float]] = {
+    "wmm2025": (0.26, 5417.0),
+    "wmmhr2025": (0.25, 5205.0),
+}
+
+LAT_LIMIT = 90.0
+HEIGHT_MIN_M = -1000.0
+HEIGHT_MAX_M = 100_000.0
+
+
+@dataclass(frozen=True)
+class FieldVector:
+    """The field and its yearly change at one or more points.
+
+    Every numeric attribute is a numpy array with the broadcast shape of the inputs (0-d for
+    scalar inputs). ``model`` is a ``str`` when every point used the same model, else a tuple
+    of model names, one per point in flattened (C) order. ``warnings`` is, for 0-d input, a
+    tuple of warning strings; otherwise a tuple (flattened order) of such tuples.
+    """
+
+    declination_deg: NDArray[np.float64]
+    inclination_deg: NDArray[np.float64]
+    horizontal_nT: NDArray[np.float64]
+    north_nT: NDArray[np.float64]
+    east_nT: NDArray[np.float64]
+    down_nT: NDArray[np.float64]
+    total_nT: NDArray[np.float64]
+    declination_rate_deg_per_year: NDArray[np.float64]
+    inclination_rate_deg_per_year: NDArray[np.float64]
+    horizontal_rate_nT_per_year: NDArray[np.float64]
+    north_rate_nT_per_year: NDArray[np.float64]
+    east_rate_nT_per_year: NDArray[np.float64]
+    down_rate_nT_per_year: NDArray[np.float64]
+    total_rate_nT_per_year: NDArray[np.float64]
+    declination_sigma_deg: NDArray[np.float64]
+    model: str | tuple[str, ...]
+    warnings: tuple
+
+    def model_of(self, index: int) -> str:
+        """Model name used at flat point ``index``."""
+        return self.model if isinstance(self.model, str) else self.model[index]
+
+    def warnings_of(self, index: int) -> tuple[str, ...]:
+        """Warnings at flat point ``index``."""
+        if np.ndim(self.declination_deg) == 0:
+            return self.warnings
+        return self.warnings[index]
+
+
+def _checked(value: ArrayLike, field: str) -> NDArray[np.float64]:
+    try:
+        arr = np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(f"{value!r} is not a number", field=field) from None
+    if np.isnan(arr).any():
+        raise InputError("is not a number (NaN)", field=field)
+    return arr
+
+
+def validate_position(
+    lat: ArrayLike, lon: ArrayLike, height_m: ArrayLike = 0.0
+) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]:
+    """Check latitude (-90..90), longitude (-180..360, brought to [-180, 180]) and height
+    (-1 km..+100 km). Returns float arrays; raises :class:`InputError` naming the field."""
+    la = _checked(lat, "lat")
+    lo = _checked(lon, "lon")
+    h = _checked(height_m, "height_m")
+    bad = np.abs(la) > LAT_LIMIT
+    if bad.any():
+        raise InputError(f"latitude {la[bad].flat[0]:g} is outside -90..90 degrees", field="lat")
+    bad = (lo < -180.0) | (lo > 360.0) | ~np.isfinite(lo)
+    if bad.any():
+        raise InputError(
+            f"longitude {lo[bad].flat[0]:g} is outside -180..180 (or 0..360) degrees", field="lon"
+        )
+    lo = np.where(lo > 180.0, lo - 360.0, lo)
+    bad = (h < HEIGHT_MIN_M) | (h > HEIGHT_MAX_M) | ~np.isfinite(h)
+    if bad.any():
+        raise InputError(
+            f"height {h[bad].flat[0]:g} m is outside -1000..100000 m above the ellipsoid",
+            field="height_m",
+        )
+    return la, lo, h
+
+
+def _checked_years(year: ArrayLike) -> NDArray[np.float64]:
+    yr = _checked(year, "date")
+    bad = ~np.isfinite(yr)
+    if bad.any():
+        raise InputError("date is not a finite decimal year", field="date")
+    return yr
+
+
+def field_at(
+    *,
+    lat: ArrayLike,
+    lon: ArrayLike,
+    year: ArrayLike,
+    height_m: ArrayLike = 0.0,
+    model: str = "auto",
+) -> FieldVector:
+    """Evaluate the main field at geodetic points and decimal years (each point its own date).
+
+    ``lat``/``lon`` in degrees (WGS84 geodetic, east positive), ``year`` a decimal year,
+    ``height_m`` metres above the ellipsoid; all broadcast together. ``model`` is a model name
+    (``igrf14``, ``wmm2025``, ``wmmhr2025`` or an installed one) or ``auto``.
+    Raises :class:`InputError` for out-of-range input and :class:`ModelRangeError` when a date
+    lies outside the model's interval (never extrapolates).
+    """
+    la, lo, h = validate_position(lat, lon, height_m)
+    yr = _checked_years(year)
+    la, lo, h, yr = np.broadcast_arrays(la, lo, h, yr)
+    shape = la.shape
+    flat = [a.ravel() for a in (la, lo, h, yr)]
+    names = require(model, flat[3])
+    unique = sorted(set(names.tolist()))
+    size = flat[0].size
+    comps = np.empty((6, size))
+    for name in unique:
+        sel = names == name if len(unique) > 1 else slice(None)
+        res = synthesize(
+            load_model(name),
+            lat_deg=flat[0][sel],
+            lon_deg=flat[1][sel],
+            height_m=flat[2][sel],
+            year=flat[3][sel],
+        )
+        for i, arr in enumerate(
+            (res.north, res.east, res.down, res.north_rate, res.east_rate, res.down_rate)
+        ):
+            comps[i, sel] = arr
+    x, y, z, dx, dy, dz = comps
+    hz = np.hypot(x, y)
+    f = np.hypot(hz, z)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        d = np.degrees(np.arctan2(y, x))
+        inc = np.degrees(np.arctan2(z, hz))
+        dh = (x * dx + y * dy) / hz
+        df = (x * dx + y * dy + z * dz) / f
+        dd = np.degrees((x * dy - y * dx) / (hz * hz))
+        di = np.degrees((hz * dz - z * dh) / (f * f))
+    sigma = np.full(size, np.nan)
+    for name, (a, b) in DECLINATION_ERROR_MODELS.items():
+        sel = names == name
+        if sel.any():
+            with np.errstate(divide="ignore"):
+                sigma[sel] = np.sqrt(a * a + (b / hz[sel]) ** 2)
+    warn = tuple(_warnings(value) for value in hz.tolist())
+    model_out: str | tuple[str, ...] = unique[0] if len(unique) == 1 else tuple(names.tolist())
+
+    def shaped(a: NDArray[np.float64]) -> NDArray[np.float64]:
+        return a.reshape(shape)
+
+    return FieldVector(
+        declination_deg=shaped(d),
+        inclination_deg=shaped(inc),
+        horizontal_nT=shaped(hz),
+        north_nT=shaped(x),
+        east_nT=shaped(y),
+        down_nT=shaped(z),
+        total_nT=shaped(f),
+        declination_rate_deg_per_year=shaped(dd),
+        inclination_rate_deg_per_year=shaped(di),
+        horizontal_rate_nT_per_year=shaped(dh),
+        north_rate_nT_per_year=shaped(dx),
+        east_rate_nT_per_year=shaped(dy),
+        down_rate_nT_per_year=shaped(dz),
+        total_rate_nT_per_year=shaped(df),
+        declination_sigma_deg=shaped(sigma),
+        model=model_out,
+        warnings=warn[0] if shape == () else warn,
+    )
+
+
+def _warnings(h_nt: float) -> tuple[str, ...]:
+    if not math.isfinite(h_nt) or h_nt < UNRELIABLE_H_NT:
+        return (
+            f"horizontal intensity {h_nt:.0f} nT is below {UNRELIABLE_H_NT:.0f} nT: "
+            "a compass is unreliable here",
+        )
+    if h_nt < CAUTION_H_NT:
+        return (
+            f"horizontal intensity {h_nt:.0f} nT is below {CAUTION_H_NT:.0f} nT: "
+            "caution, compass readings carry large uncertainty here",
+        )
+    return ()
+
+
+def declination_at(
+    *,
+    lat: ArrayLike,
+    lon: ArrayLike,
+    year: ArrayLike,
+    height_m: ArrayLike = 0.0,
+    model: str = "auto",
+) -> float | NDArray[np.float64]:
+    """Declination in degrees (east positive): a float for scalar input, else an array."""
+    d = field_at(lat=lat, lon=lon, year=year, height_m=height_m, model=model).declination_deg
+    return float(d) if np.ndim(d) == 0 else d

@@ -1,0 +1,243 @@
+"""The registry of field models: the shipped ones, the user's installed ones, and ``auto``.
+
+Shipped (package data, see ``geo/data/SOURCES.md``): ``igrf14`` (IGRF-14, 1900.0-2030.0),
+``wmm2025`` and ``wmmhr2025`` (2025.0-2030.0). User models live in the user data directory:
+``$LODELINE_DATA``, else ``$XDG_DATA_HOME/lodeline``, else ``~/.local/share/lodeline``; each is
+one file ``models/NAME.FORMAT`` (FORMAT one of ``shc``, ``cof``, ``gufm``) kept byte for byte
+as the user gave it.
+
+Validity intervals are used half-open, ``[start, end)``: IGRF-14 covers 1900-01-01 up to and
+including 2029-12-31. ``auto`` picks IGRF-14 inside its interval and, for earlier dates, an
+installed user model covering the date (``gufm1`` first if installed). Nothing is ever
+extrapolated: a date outside the chosen model raises :class:`ModelRangeError` naming the
+interval and the remedies.
+"""
+
+from __future__ import annotations
+
+import functools
+import os
+import re
+from dataclasses import dataclass
+from importlib import resources
+from pathlib import Path
+
+import numpy as np
+
+from geo.errors import InputError, ModelFileError, ModelRangeError
+from geo.synthesis import SphericalHarmonicModel
+
+#: Name meaning "choose by date".
+AUTO = "auto"
+#: The model ``auto`` uses from 1900 on.
+DEFAULT_MODEL = "igrf14"
+#: The historical model ``auto`` prefers before 1900 when installed.
+PREFERRED_HISTORICAL = "gufm1"
+
+_NAME = re.compile(r"^[a-z][a-z0-9_-]{0,31}$")
+
+REMEDIES = (
+    "install a historical model with 'lodeline models add FILE' (for example gufm1, "
+    "1590-1990), give the declination by hand in the document, or fit it from found "
+    "monuments with 'lodeline fit'"
+)
+
+
+@dataclass(frozen=True)
+class ModelInfo:
+    """What the registry knows about a model without necessarily loading it."""
+
+    name: str
+    title: str
+    fmt: str  # 'shc' | 'cof' | 'gufm'
+    path: Path
+    shipped: bool
+    publisher: str = ""
+
+
+_SHIPPED = (
+    ModelInfo("igrf14", "IGRF-14", "shc", Path("IGRF14.shc"), True, "IAGA Working Group V-MOD"),
+    ModelInfo("wmm2025", "WMM2025", "cof", Path("WMM_2025.COF"), True, "NOAA NCEI and BGS"),
+    ModelInfo("wmmhr2025", "WMMHR2025", "cof", Path("WMMHR_2025.COF"), True, "NOAA NCEI and BGS"),
+)
+
+
+def data_dir() -> Path:
+    """The user data directory of lodeline (not created here)."""
+    env = os.environ.get("LODELINE_DATA")
+    if env:
+        return Path(env)
+    xdg = os.environ.get("XDG_DATA_HOME")
+    if xdg:
+        return Path(xdg) / "lodeline"
+    return Path.home() / ".local" / "share" / "lodeline"
+
+
+def user_model_dir() -> Path:
+    """Folder holding the user's installed model files."""
+    return data_dir() / "models"
+
+
+def shipped_path(info: ModelInfo) -> Path:
+    """Absolute path of a shipped model's data file."""
+    return Path(str(resources.files("geo.data").joinpath(str(info.path))))
+
+
+def shipped_models() -> tuple[ModelInfo, ...]:
+    """The models that come with the package."""
+    return tuple(
+        ModelInfo(i.name, i.title, i.fmt, shipped_path(i), True, i.publisher) for i in _SHIPPED
+    )
+
+
+def user_models() -> tuple[ModelInfo, ...]:
+    """The models installed in the user data directory, sorted by name."""
+    folder = user_model_dir()
+    if not folder.is_dir():
+        return ()
+    found = []
+    for path in sorted(folder.iterdir()):
+        stem, dot, fmt = path.name.rpartition(".")
+        if dot and fmt in ("shc", "cof", "gufm") and _NAME.match(stem) and path.is_file():
+            found.append(ModelInfo(stem, stem, fmt, path, False, "user file"))
+    return tuple(found)
+
+
+def available_models() -> tuple[ModelInfo, ...]:
+    """Shipped models first, then user models."""
+    return shipped_models() + user_models()
+
+
+def find_model(name: str) -> ModelInfo:
+    """The model registered under ``name`` (case-insensitive); ModelRangeError if unknown."""
+    key = name.strip().lower()
+    for info in available_models():
+        if info.name == key:
+            return info
+    names = ", ".join(i.name for i in available_models())
+    raise ModelRangeError(
+        f"unknown field model '{name}' (available: {names}, or 'auto')", field="model"
+    )
+
+
+@functools.lru_cache(maxsize=32)
+def _load(path: str, fmt: str, name: str, title: str, mtime_ns: int, size: int):
+    from geo.model_files import read_model_file
+
+    return read_model_file(path, name=name, title=title, fmt=fmt)
+
+
+def load_model(name_or_info: str | ModelInfo) -> SphericalHarmonicModel:
+    """Parse (once; cached while the file is unchanged) and return a model."""
+    info = name_or_info if isinstance(name_or_info, ModelInfo) else find_model(name_or_info)
+    try:
+        st = info.path.stat()
+    except OSError as exc:
+        raise ModelFileError(
+            f"cannot read model file ({exc.strerror})", file=str(info.path)
+        ) from None
+    return _load(str(info.path), info.fmt, info.name, info.title, st.st_mtime_ns, st.st_size)
+
+
+def _range_error(year: float, what: str, index: int | None) -> ModelRangeError:
+    sep = " " if what.endswith(" or") else "; "
+    err = ModelRangeError(f"date {year:.4f} is outside {what}{sep}{REMEDIES}", field="date")
+    err.index = index
+    return err
+
+
+def resolve(name: str, years: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Choose a model for every decimal year.
+
+    Returns ``(names, ok)``: an array of model names (``''`` where none covers the date) and a
+    boolean mask of the years that are covered. ``name`` is a model name or ``auto``.
+    """
+    yrs = np.asarray(years, dtype=float)
+    names = np.full(yrs.shape, "", dtype=object)
+    if name.strip().lower() != AUTO:
+        info = find_model(name)
+        model = load_model(info)
+        ok = (yrs >= model.start) & (yrs < model.end)
+        names[ok] = info.name
+        return names, ok
+    ok = np.zeros(yrs.shape, dtype=bool)
+    default = load_model(DEFAULT_MODEL)
+    inside = (yrs >= default.start) & (yrs < default.end)
+    names[inside] = DEFAULT_MODEL
+    ok |= inside
+    if not ok.all():
+        users = sorted(user_models(), key=lambda i: (i.name != PREFERRED_HISTORICAL, i.name))
+        for info in users:
+            model = load_model(info)
+            take = ~ok & (yrs >= model.start) & (yrs < model.end) & (yrs < default.start)
+            names[take] = info.name
+            ok |= take
+    return names, ok
+
+
+def require(name: str, years: np.ndarray) -> np.ndarray:
+    """Like :func:`resolve` but raise :class:`ModelRangeError` for the first uncovered year.
+
+    The error names the interval(s) available and the remedies; its attribute ``index`` is
+    the flat index of the offending point.
+    """
+    names, ok = resolve(name, years)
+    if not ok.all():
+        flat = np.flatnonzero(~np.ravel(ok))
+        i = int(flat[0])
+        year = float(np.ravel(years)[i])
+        if name.strip().lower() == AUTO:
+            parts = []
+            for info in available_models():
+                if info.shipped and info.name != DEFAULT_MODEL:
+                    continue
+                m = load_model(info)
+                parts.append(f"{info.name} {m.start:.1f}-{m.end:.1f}")
+            what = "every model 'auto' can use (" + ", ".join(parts) + ")"
+        else:
+            m = load_model(name)
+            what = (
+                f"the interval of {m.name}, {m.start:.1f} to {m.end:.1f}; choose a model that "
+                "covers it (see 'lodeline models'), or"
+            )
+        raise _range_error(year, what, i)
+    return names
+
+
+def install_model(path: str | os.PathLike[str], *, name: str | None = None) -> ModelInfo:
+    """Validate a model file and copy it, unchanged, into the user model folder.
+
+    Raises :class:`ModelFileError` for a malformed file and :class:`InputError` for a bad or
+    taken name. Returns the installed model's info.
+    """
+    from geo.atomic import write_atomic
+    from geo.model_files import default_name, detect_format, read_model_file
+
+    src = Path(path)
+    fmt = detect_format(src)
+    ident = (name or default_name(src)).strip().lower()
+    if not _NAME.match(ident):
+        raise InputError(
+            f"model name '{ident}' must start with a letter and hold only a-z, 0-9, '_' or "
+            "'-' (at most 32 characters)",
+            field="--name",
+        )
+    if ident == AUTO or any(i.name == ident for i in shipped_models()):
+        raise InputError(f"'{ident}' is the name of a shipped model; choose another --name")
+    for info in user_models():
+        if info.name == ident:
+            raise InputError(
+                f"a model named '{ident}' is installed already ({info.path}); delete that file "
+                "or choose another --name",
+                field="--name",
+            )
+    read_model_file(src, name=ident, fmt=fmt)  # validates the whole file
+    folder = user_model_dir()
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+        data = src.read_bytes()
+    except OSError as exc:
+        raise InputError(f"cannot install into {folder}: {exc.strerror}") from None
+    target = folder / f"{ident}.{fmt}"
+    write_atomic(target, data, overwrite=False)
+    return ModelInfo(ident, ident, fmt, target, False, "user file")

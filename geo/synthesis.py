@@ -1,0 +1,400 @@
+"""Spherical-harmonic synthesis of the geomagnetic main field (one engine for every model).
+
+The internal potential is
+
+    V = a * sum_n (a/r)^(n+1) * sum_m (g_nm cos(m*lon) + h_nm sin(m*lon)) * P_nm(cos theta)
+
+with the reference radius a = 6371.2 km, Gauss coefficients g, h in nT and P_nm the Schmidt
+semi-normalised associated Legendre functions (no Condon-Shortley phase). B = -grad V.
+
+Positions are geodetic (WGS84): latitude and longitude in degrees (east positive), height in
+metres above the ellipsoid. They are converted to geocentric spherical coordinates, the field
+is synthesised there, and the vector is rotated back to the geodetic north/east/down frame.
+Results are X (north), Y (east), Z (down) in nT and their rates in nT/yr; rates come
+analytically from the time derivative of the coefficients, never from differencing.
+
+Vectorisation. Every point carries its own date. A model's time dependence is held in
+piecewise-polynomial form (see :class:`SphericalHarmonicModel`); points are grouped by time
+segment and processed in chunks. Inside a chunk the loop runs over order m and degree n only;
+every operation works on all points of the chunk at once. The Legendre functions are built by
+the standard stable three-term recursion in n for each m, seeded by the sectoral recursion in
+m. Functions with m >= 1 are carried divided by sin(theta) (finite at the geographic poles) and
+with the radial factor (a/r)^(n+2) folded in; the per-point factors sin, cos and a/r and the
+derivative dP/dtheta are moved past the coefficient sums, so that the inner sums are one
+matrix product per order m.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+#: Reference radius of the spherical-harmonic expansion, km (IGRF, WMM, gufm1).
+REFERENCE_RADIUS_KM = 6371.2
+#: WGS84 semi-major axis, km.
+WGS84_A_KM = 6378.137
+#: WGS84 flattening.
+WGS84_F = 1.0 / 298.257223563
+#: WGS84 first eccentricity squared.
+WGS84_E2 = WGS84_F * (2.0 - WGS84_F)
+
+
+def coefficient_count(nmax: int) -> int:
+    """Number of Gauss coefficients g_nm, h_nm for degrees 1..nmax: nmax * (nmax + 2)."""
+    return nmax * (nmax + 2)
+
+
+def coefficient_index(n: int, m: int, kind: str) -> int:
+    """Position of g_nm (``kind='g'``) or h_nm (``kind='h'``, m >= 1) in the flat ordering.
+
+    The ordering is the usual one: g10, g11, h11, g20, g21, h21, g22, h22, g30 ...
+    """
+    base = n * n - 1
+    if m == 0:
+        if kind != "g":
+            raise ValueError("h_n0 does not exist")
+        return base
+    return base + 2 * m - (1 if kind == "g" else 0)
+
+
+@dataclass(frozen=True, eq=False)
+class SphericalHarmonicModel:
+    """A main-field model in piecewise-polynomial time form.
+
+    Attributes
+    ----------
+    name:
+        Short identifier (``igrf14``).
+    title:
+        Human-readable name (``IGRF-14``).
+    nmax:
+        Maximum spherical-harmonic degree.
+    breaks:
+        Segment boundaries in decimal years, shape (S + 1,), strictly increasing. The model is
+        valid on ``[breaks[0], breaks[-1]]``.
+    coeffs:
+        Shape (S, P + 1, K) with K = nmax (nmax + 2): on segment j the coefficient vector is
+        ``sum_p coeffs[j, p] * (t - breaks[j]) ** p`` (nT, t in decimal years).
+    source:
+        Where the coefficients come from (file path or publication).
+    """
+
+    name: str
+    title: str
+    nmax: int
+    breaks: NDArray[np.float64]
+    coeffs: NDArray[np.float64]
+    source: str = ""
+    meta: dict = field(default_factory=dict)
+    _cache: dict = field(default_factory=dict, repr=False, compare=False)
+
+    def __post_init__(self) -> None:
+        if self.coeffs.ndim != 3 or self.coeffs.shape[2] != coefficient_count(self.nmax):
+            raise ValueError("coeffs must have shape (segments, order + 1, nmax * (nmax + 2))")
+        if self.breaks.shape != (self.coeffs.shape[0] + 1,):
+            raise ValueError("breaks must have one more entry than there are segments")
+        if not np.all(np.diff(self.breaks) > 0):
+            raise ValueError("breaks must increase strictly")
+
+    @property
+    def start(self) -> float:
+        """First decimal year of validity."""
+        return float(self.breaks[0])
+
+    @property
+    def end(self) -> float:
+        """Last decimal year of validity (the interval is used half-open, [start, end))."""
+        return float(self.breaks[-1])
+
+    def segment_of(self, year: ArrayLike) -> NDArray[np.intp]:
+        """Index of the time segment holding each decimal year (clipped to the valid range)."""
+        seg = np.searchsorted(self.breaks, np.asarray(year, dtype=float), side="right") - 1
+        return np.clip(seg, 0, self.coeffs.shape[0] - 1)
+
+    def coefficients_at(self, year: float) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+        """Gauss coefficients (nT) and their rates (nT/yr) at one decimal year, flat ordering."""
+        j = int(self.segment_of(year))
+        tau = float(year) - self.breaks[j]
+        c = self.coeffs[j]
+        powers = tau ** np.arange(c.shape[0])
+        dpowers = np.concatenate([[0.0], np.arange(1, c.shape[0]) * powers[:-1]])
+        return powers @ c, dpowers @ c
+
+
+@dataclass(frozen=True)
+class FieldComponents:
+    """Field vector in the geodetic frame: X north, Y east, Z down (nT) and rates (nT/yr)."""
+
+    north: NDArray[np.float64]
+    east: NDArray[np.float64]
+    down: NDArray[np.float64]
+    north_rate: NDArray[np.float64]
+    east_rate: NDArray[np.float64]
+    down_rate: NDArray[np.float64]
+
+
+def geodetic_to_geocentric(
+    lat_deg: ArrayLike, height_m: ArrayLike
+) -> tuple[NDArray[np.float64], ...]:
+    """Convert WGS84 geodetic latitude (degrees) and ellipsoidal height (m).
+
+    Returns ``(r_km, cos_theta, sin_theta, cos_psi, sin_psi)``: the geocentric radius in km,
+    cosine and sine of the geocentric colatitude theta, and of psi = geodetic latitude minus
+    geocentric latitude (the angle that rotates geocentric components to geodetic ones).
+    """
+    lat = np.radians(np.asarray(lat_deg, dtype=float))
+    h = np.asarray(height_m, dtype=float) / 1000.0
+    sin_lat = np.sin(lat)
+    cos_lat = np.cos(lat)
+    n_radius = WGS84_A_KM / np.sqrt(1.0 - WGS84_E2 * sin_lat * sin_lat)
+    p = (n_radius + h) * cos_lat
+    z = (n_radius * (1.0 - WGS84_E2) + h) * sin_lat
+    r = np.hypot(p, z)
+    cos_theta = z / r  # sine of the geocentric latitude
+    sin_theta = p / r  # cosine of the geocentric latitude
+    cos_psi = cos_lat * sin_theta + sin_lat * cos_theta
+    sin_psi = sin_lat * sin_theta - cos_lat * cos_theta
+    return r, cos_theta, sin_theta, cos_psi, sin_psi
+
+
+@dataclass(frozen=True)
+class _Recursion:
+    """Constants of the scaled Legendre recursion for one maximum degree.
+
+    For each order m the table rows n = m..nmax hold T_n with K_n T_n = (a/r)^(n+2) P_nm
+    (m = 0) or (a/r)^(n+2) P_nm / sin(theta) (m >= 1), where K_n = prod alpha and
+    T_n = u T_(n-1) - b_n v T_(n-2), u = cos(theta) a/r, v = (a/r)^2.
+    """
+
+    b_coef: tuple[NDArray[np.float64], ...]  # per m, indexed by row n - m
+    scale: tuple[NDArray[np.float64], ...]  # K_n per m, indexed by row n - m
+
+
+@functools.lru_cache(maxsize=16)
+def _recursion(nmax: int) -> _Recursion:
+    b_all, s_all = [], []
+    for m in range(nmax + 1):
+        n = np.arange(m, nmax + 1, dtype=float)
+        # Schmidt recursion: P_n = alpha_n c P_(n-1) - beta_n P_(n-2) with
+        # alpha_n = (2n-1)/sqrt(n^2-m^2), beta_n = sqrt((n-1)^2-m^2)/sqrt(n^2-m^2).
+        alpha = np.ones_like(n)
+        beta = np.zeros_like(n)
+        for k in range(1, len(n)):
+            den = math.sqrt(n[k] ** 2 - m * m)
+            alpha[k] = (2 * n[k] - 1) / den
+            beta[k] = math.sqrt(max((n[k] - 1) ** 2 - m * m, 0.0)) / den
+        scale = np.cumprod(alpha)
+        b = np.zeros_like(n)
+        b[2:] = beta[2:] * scale[:-2] / scale[2:]
+        b_all.append(b)
+        s_all.append(scale)
+    return _Recursion(tuple(b_all), tuple(s_all))
+
+
+def _weights(model: SphericalHarmonicModel, segment: int) -> tuple[NDArray[np.float64], ...]:
+    """Per-order coefficient matrices of one time segment against the scaled table.
+
+    Entry m = 0: shape (P1, nmax) on rows n = 1..nmax, giving Z' (m = 0 part).
+    Entry m >= 1: shape (8 P1 [+ P1 for m = 1], nmax + 1 - m); the first 4 P1 rows are taken
+    times cos(m lon), the next 4 P1 rows times sin(m lon), for the output groups
+    0 Z' [times sin theta], 1 X' [times cos theta], 2 X' [times a/r], 3 Y' [times 1];
+    for m = 1 the last P1 rows give the m = 0 derivative part of X' [times sin theta].
+    Signs are folded in so that every group is added.
+    """
+    cache = model._cache
+    key = ("weights", segment)
+    if key in cache:
+        return cache[key]
+    nmax = model.nmax
+    rec = _recursion(nmax)
+    coef = model.coeffs[segment]  # (P1, K)
+    out = []
+    for m in range(nmax + 1):
+        n = np.arange(max(m, 1), nmax + 1)
+        scale = rec.scale[m]
+        gi = np.array([coefficient_index(int(k), m, "g") for k in n], dtype=np.intp)
+        if m == 0:
+            # Z' = -Br = -(n+1) g_n0 (a/r)^(n+2) P_n0
+            out.append(np.ascontiguousarray(-coef[:, gi] * ((n + 1) * scale[1:])))
+            continue
+        hi = gi + 1
+        g = coef[:, gi] * scale
+        h = coef[:, hi] * scale
+        # (a/r)^(n+2) dP_nm/dtheta = n cos(theta) Q~_n - sqrt(n^2-m^2) (a/r) Q~_(n-1):
+        # the second part puts gamma_(n+1) [g,h]_(n+1) on row n.
+        gamma_next = np.sqrt((n[:-1] + 1.0) ** 2 - m * m) * scale[:-1]
+        gs = np.zeros_like(g)
+        hs = np.zeros_like(h)
+        gs[:, :-1] = coef[:, gi[1:]] * gamma_next
+        hs[:, :-1] = coef[:, hi[1:]] * gamma_next
+        blocks = [-g * (n + 1), g * n, -gs, -h * m, -h * (n + 1), h * n, -hs, g * m]
+        if m == 1:
+            g0 = np.array([coefficient_index(int(k), 0, "g") for k in n], dtype=np.intp)
+            # dP_n0/dtheta = -sqrt(n(n+1)/2) sin(theta) Q_n1
+            blocks.append(-coef[:, g0] * (np.sqrt(n * (n + 1) / 2.0) * scale))
+        out.append(np.ascontiguousarray(np.concatenate(blocks)))
+    result = tuple(out)
+    cache[key] = result
+    return result
+
+
+def _chunk_size(nmax: int) -> int:
+    return 16384
+
+
+def _synth_chunk(
+    model: SphericalHarmonicModel,
+    segment: int,
+    cos_t: NDArray[np.float64],
+    sin_t: NDArray[np.float64],
+    rho: NDArray[np.float64],
+    cos_lon: NDArray[np.float64],
+    sin_lon: NDArray[np.float64],
+) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]:
+    """Geocentric north, east, down components of one chunk as polynomials in time.
+
+    Returns three arrays of shape (P1, C): the time-polynomial coefficients (powers of the
+    time since the segment start) of X' (north), Y' (east), Z' (down) in nT.
+    """
+    nmax = model.nmax
+    rec = _recursion(nmax)
+    weights = _weights(model, segment)
+    p1 = model.coeffs.shape[1]
+    half = 4 * p1
+    c_pts = cos_t.shape[0]
+    table = np.empty((nmax + 1, c_pts))
+    tmp = np.empty(c_pts)
+    u = cos_t * rho
+    v = rho * rho
+    acc = np.zeros((half, c_pts))  # groups 0..3 of the weights
+    z0 = None
+    xs = None
+    sectoral = np.empty(c_pts)
+    cos_m = np.ones(c_pts)
+    sin_m = np.zeros(c_pts)
+    for m in range(nmax + 1):
+        b = rec.b_coef[m]
+        length = nmax + 1 - m
+        t = table[:length]
+        if m == 0:
+            np.copyto(t[0], v)  # (a/r)^2 P_00
+        elif m == 1:
+            np.multiply(rho, v, out=sectoral)  # (a/r)^3 P_11 / sin(theta)
+            t[0] = sectoral
+        else:
+            sectoral *= sin_t
+            sectoral *= rho
+            sectoral *= math.sqrt((2 * m - 1) / (2 * m))
+            t[0] = sectoral
+        if length > 1:
+            np.multiply(u, t[0], out=t[1])
+        for k in range(2, length):
+            np.multiply(u, t[k - 1], out=t[k])
+            np.multiply(v, t[k - 2], out=tmp)
+            tmp *= b[k]
+            t[k] -= tmp
+        if m == 0:
+            z0 = weights[0] @ t[1:]
+            continue
+        res = weights[m] @ t
+        if m == 1:
+            xs = res[2 * half :]
+        cos_m, sin_m = cos_m * cos_lon - sin_m * sin_lon, sin_m * cos_lon + cos_m * sin_lon
+        part = res[:half]
+        part *= cos_m
+        acc += part
+        part = res[half : 2 * half]
+        part *= sin_m
+        acc += part
+    acc = acc.reshape(4, p1, c_pts)
+    if xs is None:  # nmax = 0 cannot occur; keeps the types simple
+        xs = np.zeros((p1, c_pts))
+    north = acc[1] * cos_t + acc[2] * rho + xs * sin_t
+    down = acc[0] * sin_t + z0
+    return north, acc[3], down
+
+
+def synthesize(
+    model: SphericalHarmonicModel,
+    *,
+    lat_deg: ArrayLike,
+    lon_deg: ArrayLike,
+    height_m: ArrayLike,
+    year: ArrayLike,
+    chunk_size: int | None = None,
+) -> FieldComponents:
+    """Evaluate ``model`` at geodetic points, each with its own decimal year.
+
+    ``lat_deg`` (geodetic, WGS84), ``lon_deg`` (east positive), ``height_m`` (above the
+    ellipsoid) and ``year`` (decimal year) broadcast together. Returns X north, Y east,
+    Z down in nT and their yearly rates in nT/yr, in the geodetic frame, with the broadcast
+    shape. No range checking: years outside the model are evaluated on the nearest segment's
+    polynomial (callers check the interval; see :mod:`geo.magnetic`).
+    """
+    lat, lon, hgt, yr = np.broadcast_arrays(
+        np.asarray(lat_deg, dtype=float),
+        np.asarray(lon_deg, dtype=float),
+        np.asarray(height_m, dtype=float),
+        np.asarray(year, dtype=float),
+    )
+    shape = lat.shape
+    lat, lon, hgt, yr = (a.ravel() for a in (lat, lon, hgt, yr))
+    npts = lat.size
+    r, cos_t, sin_t, cos_psi, sin_psi = geodetic_to_geocentric(lat, hgt)
+    rho = REFERENCE_RADIUS_KM / r
+    lon_rad = np.radians(lon)
+    cos_lon = np.cos(lon_rad)
+    sin_lon = np.sin(lon_rad)
+    seg = model.segment_of(yr)
+    tau = yr - model.breaks[seg]
+    out = np.empty((3, npts))
+    out_rate = np.empty((3, npts))
+    size = chunk_size or _chunk_size(model.nmax)
+    p1 = model.coeffs.shape[1]
+    if npts and np.all(seg == seg[0]):
+        groups = [(int(seg[0]), np.arange(npts))]
+    else:
+        order = np.argsort(seg, kind="stable")
+        bounds = np.flatnonzero(np.diff(seg[order])) + 1
+        groups = [(int(seg[idx[0]]), idx) for idx in np.split(order, bounds) if idx.size]
+    for j, idx in groups:
+        for start in range(0, idx.size, size):
+            sel = idx[start : start + size]
+            contiguous = sel.size == npts
+            pick = slice(None) if contiguous else sel
+            comps = _synth_chunk(
+                model,
+                j,
+                cos_t[pick],
+                sin_t[pick],
+                rho[pick],
+                cos_lon[pick],
+                sin_lon[pick],
+            )
+            ta = tau[pick]
+            for i, poly in enumerate(comps):
+                value = poly[p1 - 1].copy()
+                rate = np.zeros_like(value)
+                for p in range(p1 - 2, -1, -1):  # Horner for value and derivative
+                    rate = rate * ta + value
+                    value = value * ta + poly[p]
+                out[i, pick] = value
+                out_rate[i, pick] = rate
+    x_c, y_c, z_c = out
+    dx_c, dy_c, dz_c = out_rate
+    north = x_c * cos_psi + z_c * sin_psi
+    down = -x_c * sin_psi + z_c * cos_psi
+    north_rate = dx_c * cos_psi + dz_c * sin_psi
+    down_rate = -dx_c * sin_psi + dz_c * cos_psi
+    return FieldComponents(
+        north=north.reshape(shape),
+        east=y_c.reshape(shape),
+        down=down.reshape(shape),
+        north_rate=north_rate.reshape(shape),
+        east_rate=dy_c.reshape(shape),
+        down_rate=down_rate.reshape(shape),
+    )
