@@ -552,6 +552,9 @@ def read_bearing(
     if w in _NS:
         return _quadrant(r, i, stop_before_units)
     if w in _EW:
+        got = r.quantity(i + 1) if r.is_number(i + 1) else None
+        if got is not None and r.word(got[1]) in stop_before_units:
+            return _cardinal(r, i, i), i + 1  # "West 40 poles": a cardinal call and a distance
         if r.is_number(i + 1) or r.is_negative(i + 1):
             raise r.fail(
                 i,

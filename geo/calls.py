@@ -144,7 +144,12 @@ def read_distance(
     total = q.value
     if unit is None:
         t = r.tok(j)
-        if t is not None and t.kind == WORD and t.word not in _NOTE_WORDS:
+        if (
+            t is not None
+            and t.kind == WORD
+            and t.word not in _NOTE_WORDS
+            and not starts_bearing(r, j)
+        ):
             raise r.fail(
                 j,
                 f"'{r.show(j, j + 1)}' after {r.text[q.start : q.end]} is not a length unit "
@@ -254,6 +259,10 @@ def _leading_number_is_azimuth(r: Reader, i: int) -> bool:
         return True
     if t.kind == WORD and t.word == "from":
         return True
+    if t.kind == WORD and t.word in ("e", "w", "east", "west"):
+        # "45 E 20 ch" is a quadrant bearing without its N/S (reported as such), while
+        # "20 East to a stone" is a distance and a cardinal call.
+        return r.tok(j + 1) is None or r.is_number(j + 1)
     return t.kind == NUM
 
 
