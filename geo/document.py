@@ -616,14 +616,16 @@ class RecordedCourse:
     call_note: str | None
 
 
-def course_call_text(course: Course) -> str:
-    """The call as written: ``call`` itself, or its parts joined ("N 45 30 E 20 perch")."""
+def course_call_text(course: Course, default_unit: str | None = None) -> str:
+    """The call as written: ``call`` itself, or its parts joined ("N 45 30 E 20 perch",
+    "angle 98 16, 1547 vara"); ``default_unit`` (record.distance_unit) names a unit left out."""
     if course.call is not None:
         return course.call
-    head = course.bearing if course.bearing is not None else f"angle {_plain(course.angle)}"
-    parts = [head, _plain(course.distance)]
-    if course.unit:
-        parts.append(course.unit)
+    parts = [course.bearing if course.bearing is not None else f"angle {_plain(course.angle)},"]
+    parts.append(_plain(course.distance))
+    unit = course.unit or (default_unit if not isinstance(course.distance, str) else None)
+    if unit:
+        parts.append(unit)
     return " ".join(p for p in parts if p)
 
 
@@ -866,7 +868,7 @@ def _parse_course(
             raise DocumentError("must be a positive distance", field="every", **where)
     return RecordedCourse(
         index=index,
-        text=course_call_text(course),
+        text=course_call_text(course, doc.record.distance_unit),
         azimuth_deg=float(azimuth),
         precision_deg=float(precision),
         bearing_text=bearing_text,

@@ -301,7 +301,7 @@ def _stated_declination(doc: Document, file: str | None) -> float | None:
         value = parse_declination(record.declination)
     except LodelineError as err:
         raise DocumentError(err.message, file=file, field="record.declination") from None
-    return float(getattr(value, "declination_deg", value))
+    return float(value)
 
 
 def _date(value: Any, *, file: str | None, field: str) -> tuple[_dt.date | None, float]:
@@ -373,7 +373,7 @@ def convert_document(
     if target_date is None and doc.target is not None and doc.target.date is not None:
         target_date = doc.target.date
     elif target_date is not None:
-        target_field = "target date"
+        target_field = "--target-date"
     if target_date is None:
         target_date = _dt.date.today()
     tday, tyear = _date(target_date, file=file, field=target_field)
@@ -494,6 +494,16 @@ def convert_document(
         if moved <= _CONVERGED_M:
             break
 
+    if (
+        record_field is not None
+        and stated is None
+        and record_field.model_name != target_field_vec.model_name
+    ):
+        notes.append(
+            f"the record date uses {record_field.model_name} and the target date "
+            f"{target_field_vec.model_name}: the change of D between them includes the "
+            "difference of the two models, not only the change of the field"
+        )
     stations = tuple(
         Station(i, float(lat[i]), float(lon[i]), float(east[i]), float(north[i]))
         for i in range(n + 1)

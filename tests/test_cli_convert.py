@@ -121,7 +121,7 @@ def test_bad_document_exits_2_with_one_line_and_writes_nothing(capsys, tmp_path,
 
 def test_bad_target_date_option(capsys):
     status, _, err = run(capsys, WOODLOT, "--target-date", "2025-13-01")
-    assert status == 2 and "target date" in err and err.count("\n") == 1
+    assert status == 2 and "--target-date" in err and err.count("\n") == 1
 
 
 def test_console_script_does_not_import_textual(tmp_path):

@@ -61,7 +61,9 @@ def test_worked_conversion_magnetic_1925_to_2024_against_ppigrf():
     assert c.azimuth.magnetic_record == pytest.approx(30.0)
     assert c.azimuth.magnetic_target == pytest.approx((30.0 + d1 - d2) % 360, abs=1e-3)
     assert c.azimuth.true == pytest.approx((30.0 + d1) % 360, abs=1e-3)
-    assert c.azimuth.grid == pytest.approx((30.0 + d1 - c.convergence_deg) % 360, abs=1e-12)
+    assert c.azimuth.grid == pytest.approx(
+        (30.0 + c.declination_record_deg - c.convergence_deg) % 360, abs=1e-12
+    )
 
 
 @pytest.mark.reference
