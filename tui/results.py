@@ -226,7 +226,7 @@ def _field_panel(conv: Any) -> PanelText:
     target_model = doc.target.model if doc.target is not None else "auto"
     dates.append((f"target {conv.target_date or conv.target_year}", conv.target_year, target_model))
     if conv.declination_source == "stated":
-        lines.append(f"record: D stated {_deg(conv.stated_declination_deg)} (no model used)")
+        lines.append(f"record: D {_deg(conv.stated_declination_deg)} stated")
     for label, year, model in dates:
         try:
             f = field_at(lat=pob.lat, lon=pob.lon, year=year, height_m=conv.height_m, model=model)
@@ -236,23 +236,24 @@ def _field_panel(conv: Any) -> PanelText:
         name = f.model if isinstance(f.model, str) else ", ".join(dict.fromkeys(f.model))
         d = float(np.asarray(f.declination_deg))
         sigma = float(np.asarray(f.declination_sigma_deg))
-        sig = f" ±{sigma:.2f}° (1σ)" if math.isfinite(sigma) else " (no error model published)"
+        sig = f"±{sigma:.2f}° 1σ" if math.isfinite(sigma) else "(no σ published)"
         rate = float(np.asarray(f.declination_rate_deg_per_year)) * 60.0
         lines.append(f"{label} · {name}")
-        lines.append(f"  D {_deg(d)}{sig}   dD/dt {rate:+.1f}′/yr")
+        lines.append(f"  D {_deg(d)} {sig}")
+        lines.append(f"  dD/dt {rate:+.1f}′/yr")
         lines.append(
-            f"  I {float(np.asarray(f.inclination_deg)):+.2f}°  "
-            f"H {float(np.asarray(f.horizontal_nT)):,.0f} nT"
+            f"  I {float(np.asarray(f.inclination_deg)):+.2f}°"
+            f"  H {float(np.asarray(f.horizontal_nT)):,.0f} nT"
         )
         lines.append(
-            f"  Z {float(np.asarray(f.down_nT)):,.0f} nT  F {float(np.asarray(f.total_nT)):,.0f} nT"
+            f"  Z {float(np.asarray(f.down_nT)):,.0f}  F {float(np.asarray(f.total_nT)):,.0f} nT"
         )
         warns = f.warnings if isinstance(f.warnings, tuple | list) else ()
         flat = [w for w in warns if isinstance(w, str)] or [
             w for item in warns if isinstance(item, tuple | list) for w in item
         ]
         lines += [f"  ! {w}" for w in flat]
-    lines.append("Models omit local anomalies (can be several degrees).")
+    lines.append("Models omit local anomalies.")
     return PanelText(tuple(lines))
 
 
@@ -264,34 +265,91 @@ def _grid_panel(conv: Any) -> PanelText:
     return PanelText(
         (
             f"{conv.crs}",
-            f"γ {_deg(c.convergence_deg, 1.0 / 3600.0)} (grid = true − γ)",
-            f"k {c.scale_factor:.7f}  elev. {c.elevation_factor:.7f}",
+            f"γ {_deg(c.convergence_deg, 1.0 / 3600.0)}",
+            "  (grid = true − γ)",
+            f"k {c.scale_factor:.7f}",
+            f"elevation {c.elevation_factor:.7f}",
             f"combined {c.combined_factor:.7f}",
         )
     )
 
 
-def _closure_panel(conv: Any) -> PanelText:
-    from geo import close as _close  # provided by the closure owner
+def _courses_true(conv: Any) -> tuple[np.ndarray, np.ndarray]:
+    az = np.array([c.azimuth.true for c in conv.courses], dtype=float)
+    length = np.array([c.length_m for c in conv.courses], dtype=float)
+    return az, length
 
-    result = _close.close_conversion(conv)
-    return PanelText(tuple(result.summary_lines()))
+
+def _closure_panel(conv: Any) -> PanelText:
+    """Misclosure, precision and compass-rule area (geo.traverse)."""
+    from geo.bearings import format_bearing
+    from geo.traverse import adjust, figure_area
+
+    if not conv.document.closed:
+        return _idle("open traverse (closed = false): no misclosure or area")
+    if not conv.courses:
+        return _idle("no courses yet")
+    az, length = _courses_true(conv)
+    adj = adjust(az, length, method="compass")
+    clo = adj.closure
+    lines = [f"perimeter {clo.perimeter_m:,.2f} m"]
+    if clo.misclosure_azimuth_deg is None:
+        lines.append("misclosure 0 m (closes exactly)")
+    else:
+        lines.append(f"misclosure {clo.misclosure_m:,.3f} m")
+        lines.append(
+            f"  toward {format_bearing(clo.misclosure_azimuth_deg, precision=1.0 / 60.0)} true"
+        )
+        lines.append(f"precision 1:{clo.precision:,.0f}")
+    foot = conv.document.record.foot or "us"
+    try:
+        area = figure_area(adj.north_m, adj.east_m, foot=foot)
+    except LodelineError as err:
+        lines.append(f"area: ⚠ {err.message}")
+    else:
+        lines.append(f"area {area.acres:,.3f} acres")
+        lines.append(f"  {area.hectares:,.4f} ha, {area.area_m2:,.1f} m²")
+        lines.append("  ground area, compass rule")
+    return PanelText(tuple(lines))
 
 
 def _attraction_panel(conv: Any) -> PanelText:
-    if not any(c.recorded.back_azimuth_deg is not None for c in conv.courses):
-        return _idle("no back bearings in the document")
-    from geo import close as _close
+    """Fore and back bearings compared at each station (geo.traverse.local_attraction)."""
+    from geo.bearings import format_declination
+    from geo.traverse import local_attraction
 
-    return PanelText(tuple(_close.attraction_lines(conv)))
+    backs = [c.recorded.back_azimuth_deg for c in conv.courses]
+    if all(b is None for b in backs):
+        return _idle("no back bearings in the document")
+    fore = np.array([c.recorded.azimuth_deg for c in conv.courses], dtype=float)
+    back = np.array([np.nan if b is None else b for b in backs], dtype=float)
+    tolerance = max(c.recorded.precision_deg for c in conv.courses)
+    la = local_attraction(fore, back, closed=bool(conv.document.closed), tolerance_deg=tolerance)
+    lines = [f"course {la.start_course} agrees best (free)"]
+    for station, corr in zip(la.stations, la.correction_deg, strict=True):
+        if station in la.disturbed_stations and math.isfinite(corr):
+            lines.append(
+                f"! station {station} disturbed:"
+                f" add {format_declination(float(corr), precision=1.0 / 60.0)}"
+            )
+    if not la.disturbed_stations:
+        lines.append(f"no station off by > {tolerance * 60:.0f}′")
+    unreached = [
+        s for s, c in zip(la.stations, la.correction_deg, strict=True) if not math.isfinite(c)
+    ]
+    if unreached:
+        lines.append(f"not reached: station {', '.join(map(str, unreached))}")
+    return PanelText(tuple(lines))
 
 
 def _fit_panel(conv: Any) -> PanelText:
-    if sum(1 for c in conv.courses if c.found is not None) < 2 and not conv.place_by_grid:
-        return _idle("needs found positions on two or more stations")
-    from geo import close as _close
+    """The record-to-found fit (waits for found positions)."""
+    found = sum(1 for c in conv.courses if c.found is not None) + int(conv.place_by_grid)
+    if found < 2:
+        return _idle(f"needs found positions on two or more stations ({found} given)")
+    from geo import retrace
 
-    return PanelText(tuple(_close.fit_lines(conv)))
+    return PanelText(tuple(retrace.fit_lines(conv)))
 
 
 # -- sketch ----------------------------------------------------------------------------------
@@ -308,19 +366,14 @@ def _sketch(conv: Any) -> tuple[SketchFigure | None, str]:
     first = conv.courses[0]
     gamma = first.convergence_deg
     norths = [
-        NorthMark("G", "grid north", 0.0),
-        NorthMark("T", f"true north (γ {_deg(gamma)})", -gamma),
+        NorthMark("G", "grid north (up)", 0.0),
+        NorthMark("T", f"true north, γ {_deg(gamma)}", -gamma),
     ]
     if first.declination_record_deg is not None:
         d1 = first.declination_record_deg
-        when = conv.record_date or conv.record_year
-        norths.append(NorthMark("M", f"magnetic {when} (D {_deg(d1)})", d1 - gamma))
+        when = conv.record_date.year if conv.record_date else f"{conv.record_year:.1f}"
+        norths.append(NorthMark("M", f"magnetic {when}, D {_deg(d1)}", d1 - gamma))
     d2 = first.declination_target_deg
-    when2 = conv.target_date or conv.target_year
-    norths.append(NorthMark("m", f"magnetic {when2} (D {_deg(d2)})", d2 - gamma))
-    closed = bool(conv.document.closed)
-    gap = float(math.hypot(east[-1], north[-1])) if closed else 0.0
-    return (
-        SketchFigure(east, north, closed, tuple(norths), gap_label=f"misclosure gap {gap:.2f} m"),
-        "",
-    )
+    when2 = conv.target_date.year if conv.target_date else f"{conv.target_year:.1f}"
+    norths.append(NorthMark("m", f"magnetic {when2}, D {_deg(d2)}", d2 - gamma))
+    return SketchFigure(east, north, bool(conv.document.closed), tuple(norths)), ""

@@ -1,9 +1,14 @@
 """The desk: the main screen, with the job form, the call table and the findings.
 
-Panes by terminal width: 150 columns and more show the job, the calls and the findings side
-by side; from 100 columns the calls stay and the side pane shows either the findings or the
-job; below 100 columns one pane fills the screen. F2, F3 and F4 bring the job, the calls and
-the findings forward at any width.
+The arrangement follows the terminal (see :func:`arrangement`):
+
+- ``wide`` (200 columns or more): job | calls | findings, side by side;
+- ``side`` (150-199): calls | findings, the job taking the findings' place on F2;
+- ``stacked`` (100-149 columns and 30 rows or more): calls above, the findings below in three
+  columns (field and grid | closure, attraction, fit | sketch); F2 adds the job on the left;
+- ``single`` (smaller, e.g. 80x24): one pane fills the screen; F2, F3, F4 switch.
+
+F2, F3 and F4 bring the job, the calls and the findings forward in every arrangement.
 """
 
 from __future__ import annotations
@@ -40,6 +45,17 @@ PANELS = (
 )
 
 
+def arrangement(width: int, height: int) -> str:
+    """The arrangement of the desk for a terminal of ``width`` x ``height`` cells."""
+    if width >= 200:
+        return "wide"
+    if width >= 150:
+        return "side"
+    if width >= 100 and height >= 30:
+        return "stacked"
+    return "single"
+
+
 class Desk(Screen):
     """The main screen: job form, call table with its editor, findings and sketch."""
 
@@ -53,24 +69,21 @@ class Desk(Screen):
     Desk #docbar { height: 1; padding: 0 1; background: $panel; }
     Desk #panes { height: 1fr; }
     Desk #job { width: 34; border: round $foreground 30%; }
-    Desk #calls { width: 1fr; }
+    Desk #main { width: 1fr; }
+    Desk #calls { width: 1fr; height: 1fr; }
     Desk #calls CallTable { height: 1fr; }
-    Desk #findings { width: 56; }
+    Desk #findings { width: 52; height: 1fr; }
+    Desk #findings > Vertical { height: auto; }
     Desk #findings TraverseSketch { height: 22; border: round $foreground 30%; }
-    Desk.-medium #job { display: none; }
-    Desk.-medium.-side-job #job { display: block; }
-    Desk.-medium.-side-job #findings { display: none; }
-    Desk.-narrow #job, Desk.-narrow #findings, Desk.-narrow #calls { display: none; width: 1fr; }
-    Desk.-narrow.-pane-job #job { display: block; }
-    Desk.-narrow.-pane-calls #calls { display: block; }
-    Desk.-narrow.-pane-findings #findings { display: block; }
-    Desk.-narrow #findings TraverseSketch { height: 18; }
+    Desk #sketch-key { height: auto; padding: 0 1; color: $text-muted; }
     """
 
     #: The pane brought forward last: "job", "calls" or "findings".
     pane = reactive("calls")
     #: The side pane shown beside the calls at medium width: "findings" or "job".
     side = reactive("findings")
+    #: The arrangement for the terminal size: "wide", "side", "stacked" or "single".
+    mode = "wide"
 
     def __init__(self) -> None:
         super().__init__()
@@ -87,37 +100,72 @@ class Desk(Screen):
         yield Static("", id="docbar")
         with Horizontal(id="panes"):
             yield JobForm(id="job")
-            with Vertical(id="calls"):
-                yield CallTable(id="table")
-                yield CallEditor(id="editor")
-            with VerticalScroll(id="findings"):
-                for key, title in PANELS:
-                    yield FindingsPanel(title, id=f"panel-{key}")
-                sketch = TraverseSketch(id="sketch")
-                sketch.border_title = "Sketch (to scale)"
-                yield sketch
+            with Horizontal(id="main"):
+                with Vertical(id="calls"):
+                    yield CallTable(id="table")
+                    yield CallEditor(id="editor")
+                with VerticalScroll(id="findings"):
+                    with Vertical(id="findings-a"):
+                        for key, title in PANELS[:2]:
+                            yield FindingsPanel(title, id=f"panel-{key}")
+                    with Vertical(id="findings-b"):
+                        for key, title in PANELS[2:]:
+                            yield FindingsPanel(title, id=f"panel-{key}")
+                    with Vertical(id="findings-c"):
+                        sketch = TraverseSketch(id="sketch")
+                        sketch.border_title = "Sketch (to scale, grid north up)"
+                        yield sketch
+                        yield Static("", id="sketch-key")
         yield Footer()
 
     def on_mount(self) -> None:
         self.reload()
         self.query_one(CallTable).focus()
-        self._layout_for(self.size.width)
+        self._arrange()
 
-    def on_resize(self, event) -> None:
-        self._layout_for(event.size.width)
+    def on_resize(self, _event) -> None:
+        self._arrange()
 
-    def _layout_for(self, width: int) -> None:
-        self.set_class(width >= 150, "-wide")
-        self.set_class(100 <= width < 150, "-medium")
-        self.set_class(width < 100, "-narrow")
+    def watch_pane(self) -> None:
+        self._arrange()
 
-    def watch_pane(self, old: str, new: str) -> None:
-        self.remove_class(f"-pane-{old}")
-        self.add_class(f"-pane-{new}")
+    def watch_side(self) -> None:
+        self._arrange()
 
-    def watch_side(self, old: str, new: str) -> None:
-        self.remove_class(f"-side-{old}")
-        self.add_class(f"-side-{new}")
+    def _arrange(self) -> None:
+        """Show and lay out the panes for the terminal size.
+
+        Sets styles on a few containers directly: a class on the screen would restyle every
+        widget of the desk, which is slow enough to feel on a pane switch.
+        """
+        mode = arrangement(self.size.width, self.size.height)
+        self.mode = mode
+        if mode == "wide":
+            shown = {"job", "calls", "findings"}
+        elif mode == "side":
+            shown = {"calls", self.side}
+        elif mode == "stacked":
+            shown = {"calls", "findings"} | ({"job"} if self.side == "job" else set())
+        else:
+            shown = {self.pane}
+        for name in ("job", "calls", "findings"):
+            pane = self.query_one(f"#{name}")
+            pane.display = name in shown
+        stacked = mode == "stacked"
+        main = self.query_one("#main")
+        findings = self.query_one("#findings")
+        main.styles.layout = "vertical" if stacked else "horizontal"
+        findings.styles.layout = "horizontal" if stacked else "vertical"
+        findings.styles.width = "1fr" if mode in ("stacked", "single") else 52
+        findings.styles.height = max(16, self.size.height // 2 - 2) if stacked else "1fr"
+        for column in findings.query("#findings > Vertical"):
+            wide_column = column.id == "findings-c"
+            column.styles.width = ("1fr" if wide_column else 32) if stacked else "100%"
+            column.styles.height = "100%" if stacked else "auto"
+            column.styles.overflow_y = "auto" if stacked else "hidden"
+        sketch = self.query_one(TraverseSketch)
+        sketch.styles.height = "1fr" if stacked else 22
+        self.query_one("#job").styles.width = "1fr" if mode == "single" else 34
 
     # -- data flow -----------------------------------------------------------------------
     def reload(self) -> None:
@@ -160,6 +208,8 @@ class Desk(Screen):
             panel.show(outcome.lines, error=outcome.error, idle=outcome.idle)
         sketch = self.query_one(TraverseSketch)
         sketch.show_figure(results.sketch, results.sketch_message)
+        key = TraverseSketch.key_text(results.sketch) if results.sketch else ""
+        self.query_one("#sketch-key", Static).update(key)
         form = self.query_one(JobForm)
         form.mark_invalid(results.invalid_settings)
         form.show_crs_hint(results.crs_hint)

@@ -41,8 +41,12 @@ def _pretty(key: str) -> str:
     }
     if key in names:
         return names[key]
-    parts = key.split("+")
-    return "+".join(p.capitalize() if len(p) > 1 else p for p in parts)
+    *mods, last = key.split("+")
+    if mods and len(last) == 1:
+        last = last.upper()
+    elif len(last) > 1:
+        last = last.capitalize()
+    return "+".join([*(m.capitalize() for m in mods), last])
 
 
 class KeyGuide(ModalScreen[None]):

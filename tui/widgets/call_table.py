@@ -33,6 +33,9 @@ COLUMNS: tuple[tuple[str, str], ...] = (
     ("back", "Back"),
 )
 
+#: Characters of the call shown in the table (the editor shows all of it).
+CALL_WIDTH = 30
+
 #: Names of the course fields the editor can edit, as the user sees them.
 FIELD_TITLES = {
     "call": "call",
@@ -58,10 +61,11 @@ class CallRow:
     message: str = ""
 
     def cells(self, number: int) -> tuple[str, ...]:
+        call = self.call if len(self.call) <= CALL_WIDTH else self.call[: CALL_WIDTH - 1] + "…"
         return (
             str(number),
             self.mark,
-            self.call,
+            call,
             self.length,
             self.mag_record,
             self.true,

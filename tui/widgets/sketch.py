@@ -8,7 +8,7 @@ Zooming in and out scales both axes together; "fit" frames the whole figure agai
 
 Meaning never rests on colour alone: every north indicator ends in its letter (T, G, M, m),
 the point of beginning is drawn as ``◎``, stations as ``•``, the gap's far end as ``×``, and
-the legend names each mark.
+the key under the sketch names each mark (an in-plot legend would hide the figure).
 """
 
 from __future__ import annotations
@@ -18,11 +18,17 @@ from dataclasses import dataclass
 
 import numpy as np
 from textual.binding import Binding
+from textual.events import Resize
+from textual.geometry import Size
 from textual_hires_canvas import HiResMode
 from textual_plot import PlotWidget
 
 #: Height of a terminal cell divided by its width (most monospace fonts: about 2).
 CELL_ASPECT = 2.0
+#: Styles that read on light and dark backgrounds alike (meaning is also in the marks).
+LINE_STYLE = "bold #3b82c4"
+GAP_STYLE = "#c2410c"
+NORTH_STYLE = "#6b7280"
 
 
 @dataclass(frozen=True)
@@ -43,7 +49,7 @@ class SketchFigure:
     north: np.ndarray
     closed: bool
     norths: tuple[NorthMark, ...]
-    gap_label: str = "misclosure gap"
+    gap_label: str = "misclosure"
 
 
 def equal_axes_limits(
@@ -85,6 +91,8 @@ class TraverseSketch(PlotWidget):
         super().__init__(id=id, allow_pan_and_zoom=True)
         self._figure: SketchFigure | None = None
         self._message = "no figure yet"
+        self._drawing = False
+        self._fit_size = Size(0, 0)
 
     def on_mount(self) -> None:
         super().on_mount()
@@ -92,7 +100,7 @@ class TraverseSketch(PlotWidget):
         self.margin_bottom = 2
         self.margin_top = 1
         self.set_xlabel("east (m)")
-        self.show_legend(is_visible=True)
+        self.show_legend(is_visible=False)
 
     # -- public --------------------------------------------------------------------------
     def show_figure(self, figure: SketchFigure | None, message: str = "") -> None:
@@ -106,6 +114,15 @@ class TraverseSketch(PlotWidget):
         self._message = message
         self.border_subtitle = message if figure is None else ""
         self._draw(refit=not same_extent)
+
+    @staticmethod
+    def key_text(figure: SketchFigure) -> str:
+        """The key of the marks, shown under the sketch (letters and symbols, not colours)."""
+        parts = ["◎ beginning", "• station"]
+        if figure.closed:
+            parts.append(f"× {figure.gap_label}")
+        parts += [f"{m.letter} {m.label}" for m in figure.norths]
+        return "  ".join(parts)
 
     def action_fit(self) -> None:
         """Frame the whole figure again."""
@@ -123,27 +140,31 @@ class TraverseSketch(PlotWidget):
     def action_zoom_y_out(self) -> None:
         self.action_zoom_out()
 
-    def on_resize(self) -> None:
-        self.call_after_refresh(self._fit)
+    def on_resize(self, event: Resize) -> None:
+        self._fit(event.size)
 
     # -- drawing -------------------------------------------------------------------------
-    def _area(self) -> tuple[int, int]:
-        width = self.size.width - self.margin_left - 2
-        height = self.size.height - self.margin_top - self.margin_bottom - 2
+    def _area(self, size: Size) -> tuple[int, int]:
+        """The drawing area in cells (inside the axes) for a widget of ``size``."""
+        width = size.width - self.margin_left - 2
+        height = size.height - self.margin_top - self.margin_bottom - 2
         return width, height
 
-    def _fit(self) -> None:
+    def _fit(self, size: Size | None = None) -> None:
         fig = self._figure
         if fig is None or fig.east.size == 0:
             return
         xs, ys = self._extent_points(fig)
-        x0, x1, y0, y1 = equal_axes_limits(xs, ys, *self._area())
+        self._fit_size = size or self.content_size
+        x0, x1, y0, y1 = equal_axes_limits(xs, ys, *self._area(self._fit_size))
         self.set_xlimits(x0, x1)
         self.set_ylimits(y0, y1)
+        if not self._drawing:  # the letters' places depend on the scale
+            self._draw(refit=False)
 
     def _arrow_length(self, fig: SketchFigure) -> float:
         span = max(float(np.ptp(fig.east)), float(np.ptp(fig.north)), 1.0)
-        return 0.22 * span
+        return 0.3 * span
 
     def _extent_points(self, fig: SketchFigure) -> tuple[np.ndarray, np.ndarray]:
         length = self._arrow_length(fig)
@@ -156,30 +177,54 @@ class TraverseSketch(PlotWidget):
         return np.concatenate(ex), np.concatenate(ny)
 
     def _draw(self, *, refit: bool) -> None:
+        self._drawing = True
+        try:
+            self._draw_figure(refit=refit)
+        finally:
+            self._drawing = False
+
+    def _draw_figure(self, *, refit: bool) -> None:
         self.clear()
         fig = self._figure
         if fig is None or fig.east.size == 0:
             return
+        if refit:
+            self._fit()
         self.plot(
             fig.east,
             fig.north,
-            line_style="bold",
+            line_style=LINE_STYLE,
             hires_mode=HiResMode.BRAILLE,
-            label="courses as recorded",
+            label="record",
         )
         if fig.east.size > 1:
-            self.scatter(fig.east[1:], fig.north[1:], marker="•", label="station")
-        self.scatter(fig.east[:1], fig.north[:1], marker="◎", label="point of beginning")
+            self.scatter(fig.east[1:], fig.north[1:], marker="•", marker_style=LINE_STYLE)
         if fig.closed and fig.east.size > 1:
             gx = np.array([fig.east[-1], fig.east[0]])
             gy = np.array([fig.north[-1], fig.north[0]])
-            self.plot(gx, gy, line_style="italic", hires_mode=HiResMode.QUADRANT)
-            self.scatter(gx[:1], gy[:1], marker="×", label=fig.gap_label)
+            self.plot(gx, gy, line_style=GAP_STYLE, hires_mode=HiResMode.QUADRANT)
+            self.scatter(gx[:1], gy[:1], marker="×", marker_style=f"bold {GAP_STYLE}")
         length = self._arrow_length(fig)
+        width, height = self._area(self._fit_size)
+        per_col = (self._x_max - self._x_min) / max(width, 1)
+        per_row = (self._y_max - self._y_min) / max(height, 1)
+        taken: set[tuple[int, int]] = set()
+        letters = []
         for mark in fig.norths:
             a = math.radians(mark.azimuth_deg)
             tip_x, tip_y = length * math.sin(a), length * math.cos(a)
-            self.plot([0.0, tip_x * 0.9], [0.0, tip_y * 0.9], hires_mode=HiResMode.BRAILLE)
-            self.scatter([tip_x], [tip_y], marker=mark.letter, label=mark.label)
-        if refit:
-            self._fit()
+            self.plot(
+                [0.0, tip_x], [0.0, tip_y], hires_mode=HiResMode.BRAILLE, line_style=NORTH_STYLE
+            )
+            # the letter sits just beyond the tip; close norths share a cell, so it moves
+            # sideways to the next free cell (the key gives each angle)
+            x, y = tip_x + per_col * math.sin(a), tip_y + per_row * math.cos(a)
+            cell = (round(x / per_col), round(y / per_row)) if per_col and per_row else (0, 0)
+            while cell in taken:
+                cell = (cell[0] + 1, cell[1])
+                x += per_col
+            taken.add(cell)
+            letters.append((x, y, mark.letter))
+        for x, y, letter in letters:  # letters last, so no line covers them
+            self.scatter([x], [y], marker=letter, marker_style="bold")
+        self.scatter(fig.east[:1], fig.north[:1], marker="◎", marker_style="bold")

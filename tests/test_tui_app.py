@@ -1,0 +1,362 @@
+"""The terminal application driven headless with Textual's pilot.
+
+Type a call and see the bearings change, undo, save, reopen and compare the file; calls that
+do not read are kept and marked; the quit question; the recovery offer after a crash; file
+prompts that never overwrite silently; the layout at 80x24.
+
+Expected bearings are those of ``geo.bearings.format_bearing`` for the azimuth typed: the
+record here is in true bearings, so the true column repeats the call (common practice: a
+record in true bearings needs no declination).
+"""
+
+from __future__ import annotations
+
+import asyncio
+import functools
+from pathlib import Path
+
+import pytest
+
+from geo.document import document_to_dict, load_document
+from tui.app import LodelineApp, load_workspace
+from tui.dialogs.choice import ChoiceDialog
+from tui.dialogs.file_prompt import FileNamePrompt
+from tui.screens.key_guide import KeyGuide
+from tui.widgets.call_table import CallEditor, CallTable
+from tui.workspace import read_recovery, write_recovery
+
+DOC = """\
+format_version = 1
+title = "Test square, Marrow Creek"
+closed = true
+
+[place]
+lat = 40.0
+lon = -77.0
+
+[record]
+reference = "true"
+distance_unit = "chain"
+foot = "us"
+
+[target]
+date = "2025-06-01"
+
+[[course]]
+call = "N 10 E 10 chains to a stone"
+
+[[course]]
+call = "S 80 E 10 chains"
+
+[[course]]
+call = "S 10 W 10 chains"
+
+[[course]]
+call = "N 80 W 10 chains to the beginning"
+"""
+
+
+def sync(test):
+    """Run an async pilot test with asyncio (no async plugin needed)."""
+
+    @functools.wraps(test)
+    def run(*args, **kwargs):
+        asyncio.run(test(*args, **kwargs))
+
+    return run
+
+
+@pytest.fixture(autouse=True)
+def _state(tmp_path, monkeypatch):
+    monkeypatch.setenv("LODELINE_STATE", str(tmp_path / "state"))
+
+
+@pytest.fixture
+def doc_path(tmp_path: Path) -> Path:
+    path = tmp_path / "square.toml"
+    path.write_text(DOC, encoding="utf-8")
+    return path
+
+
+async def _settle(pilot, seconds: float = 0.15) -> None:
+    await pilot.pause(seconds)
+    await pilot.app.workers.wait_for_complete()
+    await pilot.pause()
+
+
+async def _retype(pilot, text: str) -> None:
+    """Replace the editor's text with ``text`` as a user would (clear, then type)."""
+    await pilot.press("ctrl+u")
+    await pilot.press(*list(text))
+
+
+@sync
+async def test_type_a_call_undo_save_reopen(doc_path: Path):
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(160, 45)) as pilot:
+        await _settle(pilot)
+        desk = app.desk
+        before = desk.results.rows[0]
+        assert before.true.startswith("N 10")
+        assert before.mark == ""
+        await pilot.press("enter")  # edit the call of course 1
+        assert isinstance(app.focused.parent.parent, CallEditor)
+        await _retype(pilot, "N 20 E 10 chains")
+        await _settle(pilot)
+        after = desk.results.rows[0]
+        assert after.true.startswith("N 20")
+        assert after.true != before.true
+        assert after.grid != before.grid
+        table = desk.query_one(CallTable)
+        assert table.get_row_at(0)[5] == after.true  # the table shows it
+        assert app.workspace.dirty
+        await pilot.press("enter")  # back to the table
+        await pilot.press("ctrl+z")  # the whole typed call is one step
+        await _settle(pilot)
+        assert app.workspace.courses[0]["call"] == "N 10 E 10 chains to a stone"
+        assert desk.results.rows[0].true == before.true
+        assert not app.workspace.dirty
+        await pilot.press("ctrl+y")
+        await _settle(pilot)
+        assert app.workspace.courses[0]["call"] == "N 20 E 10 chains"
+        await pilot.press("ctrl+s")
+        await _settle(pilot)
+        assert not app.workspace.dirty
+        shown = app.workspace.doc
+    saved = document_to_dict(load_document(doc_path))
+    assert saved["course"][0]["call"] == "N 20 E 10 chains"
+    assert saved == document_to_dict(load_document(doc_path, check=False))
+    assert saved["course"] == shown["course"]
+    assert (doc_path.parent / "square.toml.bak").read_text(encoding="utf-8") == DOC
+    assert read_recovery(doc_path) is None
+    # reopen: the same document comes back
+    again = load_workspace(doc_path)
+    assert again.doc == saved
+
+
+@sync
+async def test_call_that_does_not_read_is_kept_and_marked(doc_path: Path):
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(160, 45)) as pilot:
+        await _settle(pilot)
+        await pilot.press("down", "enter")
+        await _retype(pilot, "N 95 E 10 chains")
+        await _settle(pilot)
+        row = app.desk.results.rows[1]
+        assert row.mark == "✗"
+        assert row.call == "N 95 E 10 chains"
+        assert row.message.startswith("✗")
+        message = str(app.desk.query_one("#editor-message").render())
+        assert row.message.lstrip("✗ ") in message
+        # the courses before it still convert; the closure waits
+        assert app.desk.results.rows[0].true.startswith("N 10")
+        assert "does not read" in " ".join(app.desk.results.panels["closure"].lines)
+        await pilot.press("enter", "ctrl+s")
+        await _settle(pilot)
+    text = doc_path.read_text(encoding="utf-8")
+    assert 'call = "N 95 E 10 chains"' in text  # saved as typed, never lost
+    reopened = load_workspace(doc_path)
+    assert reopened.courses[1]["call"] == "N 95 E 10 chains"
+
+
+@sync
+async def test_add_insert_delete_move_and_undo_all(doc_path: Path):
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(160, 45)) as pilot:
+        await _settle(pilot)
+        original = app.workspace.doc
+        await pilot.press("a")  # add after course 1 and edit it
+        await pilot.press(*list("S 45 E 1 chain"), "enter")
+        await _settle(pilot)
+        assert [c["call"] for c in app.workspace.courses][1] == "S 45 E 1 chain"
+        await pilot.press("right_square_bracket")  # move it down
+        await _settle(pilot)
+        assert app.workspace.courses[2]["call"] == "S 45 E 1 chain"
+        await pilot.press("x")  # delete it
+        await _settle(pilot)
+        assert len(app.workspace.courses) == 4
+        for _ in range(4):
+            await pilot.press("ctrl+z")
+        await _settle(pilot)
+        assert app.workspace.doc == original
+        assert len(app.desk.results.rows) == 4
+
+
+@sync
+async def test_quit_asks_when_there_are_unsaved_changes(doc_path: Path):
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(160, 45)) as pilot:
+        await _settle(pilot)
+        await pilot.press("enter")
+        await pilot.press(*list(" and more"), "enter")
+        await _settle(pilot)
+        await pilot.press("ctrl+q")
+        await pilot.pause()
+        assert isinstance(app.screen, ChoiceDialog)
+        await pilot.press("c")  # cancel: keep working
+        await pilot.pause()
+        assert not isinstance(app.screen, ChoiceDialog)
+        assert app.is_running
+        await pilot.press("ctrl+q")
+        await pilot.pause()
+        await pilot.press("d")  # discard and quit
+        await pilot.pause()
+    assert doc_path.read_text(encoding="utf-8") == DOC
+    assert read_recovery(doc_path) is None
+
+
+@sync
+async def test_recovery_is_offered_after_a_crash(doc_path: Path):
+    crashed = load_workspace(doc_path)
+    crashed.set_course_field(0, "call", "N 12 E 10 chains (typed before the crash)")
+    write_recovery(crashed)  # what the desk keeps while editing; then the process died
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(160, 45)) as pilot:
+        await _settle(pilot)
+        assert isinstance(app.screen, ChoiceDialog)
+        await pilot.press("r")  # restore them
+        await _settle(pilot)
+        assert app.workspace.courses[0]["call"].startswith("N 12 E 10 chains")
+        assert app.workspace.dirty
+        assert app.desk.results.rows[0].true.startswith("N 12")
+
+
+@sync
+async def test_export_prompt_never_overwrites_silently(doc_path: Path):
+    existing = doc_path.with_suffix(".csv")
+    existing.write_text("kept\n", encoding="utf-8")
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(160, 45)) as pilot:
+        await _settle(pilot)
+        await pilot.press("f7")
+        await pilot.pause()
+        assert isinstance(app.screen, FileNamePrompt)
+        await pilot.press("enter")  # suggested name square.csv exists
+        await pilot.pause()
+        assert isinstance(app.screen, ChoiceDialog)
+        await pilot.press("k")  # keep it
+        await pilot.pause()
+        assert isinstance(app.screen, FileNamePrompt)
+        assert "kept" in str(app.screen.query_one("#prompt-message").render())
+        await pilot.press("escape")
+    assert existing.read_text(encoding="utf-8") == "kept\n"
+
+
+@sync
+async def test_save_as_refuses_other_suffixes_and_asks_before_replacing(doc_path: Path):
+    other = doc_path.parent / "copy.toml"
+    other.write_text("old\n", encoding="utf-8")
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(160, 45)) as pilot:
+        await _settle(pilot)
+        await pilot.press("f9")
+        await pilot.pause()
+        await pilot.press("ctrl+u", *list(str(doc_path.parent / "copy.txt")), "enter")
+        await pilot.pause()
+        assert ".toml or .json" in str(app.screen.query_one("#prompt-message").render())
+        await pilot.press("ctrl+u", *list(str(other)), "enter")
+        await pilot.pause()
+        await pilot.press("r")  # replace
+        await _settle(pilot)
+        assert app.workspace.path == other
+    assert load_document(other).title == "Test square, Marrow Creek"
+    assert (doc_path.parent / "copy.toml.bak").read_text(encoding="utf-8") == "old\n"
+
+
+@sync
+async def test_key_guide_lists_every_key_and_the_cautions(doc_path: Path):
+    from geo.cautions import CAUTIONS
+
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await _settle(pilot)
+        await pilot.press("f1")
+        await pilot.pause()
+        assert isinstance(app.screen, KeyGuide)
+        keys = {k for _where, k, _what in app.screen._rows}
+        for needed in (
+            "F1",
+            "Ctrl+S",
+            "F9",
+            "Ctrl+Z",
+            "Ctrl+Y",
+            "Ctrl+Q",
+            "F6",
+            "F7",
+            "F8",
+            "Enter",
+            "a",
+            "i",
+            "Delete, x",
+            "Ctrl+P",
+            "F2",
+            "F3",
+            "F4",
+            "0",
+        ):
+            assert needed in keys, needed
+        text = str(app.screen.query_one("#cautions").render())
+        assert CAUTIONS[:60] in text.replace("\n", " ")
+
+
+@sync
+async def test_every_action_is_in_the_command_palette(doc_path: Path):
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await _settle(pilot)
+        titles = {c.title for c in app.get_system_commands(app.screen)}
+    for needed in (
+        "Save",
+        "Save as…",
+        "Undo",
+        "Redo",
+        "Export GeoJSON…",
+        "Export CSV…",
+        "Write report…",
+        "Key guide",
+        "Add course",
+        "Delete course",
+        "Edit call",
+        "Edit back bearing",
+        "Edit found position",
+        "Fit sketch",
+        "Quit",
+    ):
+        assert needed in titles, needed
+
+
+@sync
+async def test_small_terminal_shows_one_pane_at_a_time(doc_path: Path):
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await _settle(pilot)
+        desk = app.desk
+        assert desk.query_one("#calls").display
+        assert not desk.query_one("#findings").display
+        await pilot.press("f4")
+        await _settle(pilot)
+        assert desk.query_one("#findings").display
+        assert not desk.query_one("#calls").display
+        await pilot.press("f2")
+        await _settle(pilot)
+        assert desk.query_one("#job").display
+        await pilot.press("f3")
+        await _settle(pilot)
+        assert desk.query_one("#calls").display
+
+
+@sync
+async def test_job_setting_edit_is_undoable(doc_path: Path):
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(160, 45)) as pilot:
+        await _settle(pilot)
+        desk = app.desk
+        field = desk.query_one("#set-place--lat")
+        field.focus()
+        await pilot.press("ctrl+u", *list("41.5"))
+        await _settle(pilot)
+        assert app.workspace.doc["place"]["lat"] == 41.5
+        await pilot.press("ctrl+z")
+        await _settle(pilot)
+        assert app.workspace.doc["place"]["lat"] == 40.0
+        assert field.value == "40.0"
