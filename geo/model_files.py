@@ -354,41 +354,44 @@ def read_gufm(
     if not lines or not lines[0].strip():
         raise _fail(p, 1, "line 1 must hold the model title")
     head_title = lines[0].strip()
-    values: list[float] = []
-    where: list[int] = []  # line number of each value
-    for j in range(1, len(lines)):
-        for tok in lines[j].split():
-            values.append(_number(p, j + 1, tok, "value"))
-            where.append(j + 1)
+    counts = [len(text.split()) for text in lines[1:]]
+    where = np.repeat(np.arange(2, len(lines) + 1), counts)  # line number of each value
+    try:
+        values = np.array(" ".join(lines[1:]).split(), dtype=float)
+    except ValueError:
+        values = None
+    if values is None or not np.isfinite(values).all():
+        for j in range(1, len(lines)):  # find and name the offending line
+            for tok in lines[j].split():
+                _number(p, j + 1, tok, "value")
+        values = np.array(" ".join(lines[1:]).replace("D", "E").split(), dtype=float)
     if len(values) < 2:
         raise _fail(p, 2, "line 2 must start with nmax and the number of B-splines")
     nmax_f, nspl_f = values[0], values[1]
     if nmax_f != int(nmax_f) or not 1 <= nmax_f <= 200:
-        raise _fail(p, where[0], f"nmax {nmax_f:g} must be an integer in 1..200")
+        raise _fail(p, int(where[0]), f"nmax {nmax_f:g} must be an integer in 1..200")
     if nspl_f != int(nspl_f) or nspl_f < 4:
-        raise _fail(p, where[1], f"number of B-splines {nspl_f:g} must be an integer >= 4")
+        raise _fail(p, int(where[1]), f"number of B-splines {nspl_f:g} must be an integer >= 4")
     nmax, nspl = int(nmax_f), int(nspl_f)
     order = 4
     nknots = nspl + order
     kcount = coefficient_count(nmax)
     expected = 2 + nknots + nspl * kcount
     if len(values) != expected:
-        line = where[-1] if len(values) > expected else len(lines)
-        if len(values) > expected:
-            line = where[expected]
+        line = int(where[expected]) if len(values) > expected else len(lines)
         raise _fail(
             p,
             line,
             f"expected {nknots} knots and {nspl}x{kcount} coefficients "
             f"({expected - 2} numbers after nmax and N), found {len(values) - 2}",
         )
-    knots = np.array(values[2 : 2 + nknots])
+    knots = values[2 : 2 + nknots].copy()
     bad = np.flatnonzero(np.diff(knots) < 0)
     if bad.size:
-        raise _fail(p, where[2 + bad[0] + 1], "knot epochs must not decrease")
+        raise _fail(p, int(where[2 + bad[0] + 1]), "knot epochs must not decrease")
     if not knots[order - 1] < knots[nspl]:
-        raise _fail(p, where[2], "the knots give an empty interval of validity")
-    spl = np.array(values[2 + nknots :]).reshape(nspl, kcount)
+        raise _fail(p, int(where[2]), "the knots give an empty interval of validity")
+    spl = values[2 + nknots :].reshape(nspl, kcount)
     breaks, pp = bspline_to_piecewise(knots, order, spl)
     ident = name or default_name(p)
     head = head_title.split()

@@ -1,0 +1,340 @@
+"""``lodeline field``: the geomagnetic field at a place and date, or for every row of a CSV.
+
+One point::
+
+    lodeline field --lat 41.2 --lon -77.9 --date 1931-07-04 [--height M] [--model NAME|auto]
+                   [--json]
+
+A batch::
+
+    lodeline field --csv IN.csv [--out OUT.csv] [--model NAME|auto] [--force] [--skip-bad]
+
+The CSV needs a header with ``lat``, ``lon``, ``date`` and optionally ``height_m`` (any
+order). The output repeats the input columns and adds the result columns (``RESULT_KEYS``
+from ``model`` on). A bad row stops the run (exit 2, nothing written) unless ``--skip-bad``
+is given, which writes the good rows and lists the bad ones on stderr.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+#: Keys of the ``--json`` object, in order (also the CSV result columns from ``model`` on).
+RESULT_KEYS = (
+    "lat",
+    "lon",
+    "date",
+    "height_m",
+    "model",
+    "declination_deg",
+    "inclination_deg",
+    "horizontal_nT",
+    "north_nT",
+    "east_nT",
+    "down_nT",
+    "total_nT",
+    "declination_rate_deg_per_year",
+    "inclination_rate_deg_per_year",
+    "total_rate_nT_per_year",
+    "declination_sigma_deg",
+    "warnings",
+)
+CSV_INPUT = ("lat", "lon", "date")
+CSV_OPTIONAL = ("height_m",)
+
+
+def register(subparsers: argparse._SubParsersAction) -> None:
+    """Add the ``field`` subcommand."""
+    p = subparsers.add_parser(
+        "field",
+        help="geomagnetic field (declination, inclination, intensities) at a place and date",
+        description=(
+            "Print the main geomagnetic field at a place and date from a field model: "
+            "declination D and inclination I, the components, their yearly change, the "
+            "model used and the declination uncertainty where one is published. Dates are "
+            "ISO calendar dates (1931-07-04) or decimal years (2025.5)."
+        ),
+    )
+    p.add_argument("--lat", type=str, help="geodetic latitude, degrees (north positive)")
+    p.add_argument("--lon", type=str, help="longitude, degrees (east positive; 0..360 accepted)")
+    p.add_argument("--date", type=str, help="ISO date YYYY-MM-DD or decimal year")
+    p.add_argument(
+        "--height", type=str, default="0", help="height above the ellipsoid, metres (default 0)"
+    )
+    p.add_argument(
+        "--model", default="auto", help="model name (see 'lodeline models') or auto (default)"
+    )
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.add_argument(
+        "--csv", metavar="IN", help="read points from a CSV file (lat,lon,date[,height_m])"
+    )
+    p.add_argument("--out", metavar="OUT", help="write the CSV result here (default stdout)")
+    p.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
+    p.add_argument(
+        "--skip-bad", action="store_true", help="write the good CSV rows, list bad ones on stderr"
+    )
+    p.set_defaults(func=run)
+
+
+def _number(text: str, field: str, **where) -> float:
+    import math
+
+    from geo.errors import InputError
+
+    try:
+        value = float(text)
+    except (TypeError, ValueError):
+        raise InputError(f"'{text}' is not a number", field=field, **where) from None
+    if not math.isfinite(value):
+        raise InputError(f"'{text}' is not a finite number", field=field, **where)
+    return value
+
+
+def _date(text: str, **where):
+    from geo.dates import parse_date
+    from geo.errors import LodelineError
+
+    try:
+        day, year = parse_date(text)
+    except LodelineError as err:
+        raise err.located(field="date", **where) from None
+    label = day.isoformat() if day is not None else text.strip()
+    return label, year
+
+
+def _dm(value: float, *, signed: bool = True) -> str:
+    """Degrees and decimal minutes, e.g. -6° 44.5'."""
+    import math
+
+    if not math.isfinite(value):
+        return "undefined"
+    sign = "-" if value < 0 else ("+" if signed else "")
+    total = round(abs(value) * 60.0, 1)
+    deg, minutes = divmod(total, 60.0)
+    return f"{sign}{int(deg)}° {minutes:04.1f}'"
+
+
+def _record(result, i: int, lat: float, lon: float, label: str, height: float) -> dict:
+    def val(name: str) -> float:
+        return float(getattr(result, name).ravel()[i])
+
+    rec = {"lat": lat, "lon": lon, "date": label, "height_m": height, "model": result.model_of(i)}
+    for key in RESULT_KEYS[5:-1]:
+        rec[key] = val(key)
+    import math
+
+    if not math.isfinite(rec["declination_sigma_deg"]):
+        rec["declination_sigma_deg"] = None
+    rec["warnings"] = list(result.warnings_of(i))
+    return rec
+
+
+def _human(rec: dict, year: float) -> str:
+    from geo.cautions import SHORT_CAUTION
+
+    d = rec["declination_deg"]
+    inc = rec["inclination_deg"]
+    side = "E" if d > 0 else ("W" if d < 0 else "")
+    lat = rec["lat"]
+    lon = rec["lon"]
+    place = (
+        f"{abs(lat):.4f}° {'N' if lat >= 0 else 'S'}, {abs(lon):.4f}° {'E' if lon >= 0 else 'W'}"
+    )
+    sigma = rec["declination_sigma_deg"]
+    sigma_text = (
+        f"±{sigma:.2f}° (1σ, published error model of {rec['model']})"
+        if sigma is not None
+        else f"none published for {rec['model']}"
+    )
+
+    def nt(key: str) -> str:
+        return f"{rec[key]:12.1f} nT"
+
+    def rate_dm(key: str) -> str:
+        v = rec[key]
+        return f"{_dm(v)}/yr ({v:+.4f}°/yr)"
+
+    lines = [
+        f"Field at {place}, height {rec['height_m']:g} m, date {rec['date']} "
+        f"(decimal year {year:.4f})",
+        f"  model              {rec['model']}",
+        f"  declination D      {_dm(abs(d), signed=False)} {side}  ({d:+.4f}°)   "
+        f"change {rate_dm('declination_rate_deg_per_year')}",
+        f"  inclination I      {_dm(inc)}  ({inc:+.4f}°)   "
+        f"change {rate_dm('inclination_rate_deg_per_year')}",
+        f"  horizontal H  {nt('horizontal_nT')}",
+        f"  north X       {nt('north_nT')}",
+        f"  east Y        {nt('east_nT')}",
+        f"  down Z        {nt('down_nT')}",
+        f"  total F       {nt('total_nT')}   change {rec['total_rate_nT_per_year']:+.1f} nT/yr",
+        f"  D uncertainty      {sigma_text}",
+        "  warnings           " + ("; ".join(rec["warnings"]) if rec["warnings"] else "none"),
+        f"Caution: {SHORT_CAUTION}",
+    ]
+    return "\n".join(lines) + "\n"
+
+
+def _single(args) -> int:
+    from geo.errors import InputError
+    from geo.magnetic import field_at, validate_position
+
+    missing = [name for name in ("lat", "lon", "date") if getattr(args, name) is None]
+    if missing:
+        raise InputError(
+            "give --lat, --lon and --date (or --csv FILE); missing: "
+            + ", ".join("--" + m for m in missing)
+        )
+    lat = _number(args.lat, "--lat")
+    lon = _number(args.lon, "--lon")
+    height = _number(args.height, "--height")
+    label, year = _date(args.date)
+    lat_a, lon_a, _h = validate_position(lat, lon, height)
+    result = field_at(lat=lat, lon=lon, year=year, height_m=height, model=args.model)
+    rec = _record(result, 0, float(lat_a), float(lon_a), label, height)
+    if args.json:
+        from tui.commands.common import print_json
+
+        print_json(rec)
+    else:
+        sys.stdout.write(_human(rec, year))
+    return 0
+
+
+def _csv_value(value) -> str:
+    if value is None:
+        return ""
+    if isinstance(value, list):
+        return "; ".join(value)
+    if isinstance(value, float):
+        return repr(value)
+    return str(value)
+
+
+def _batch(args) -> int:
+    import csv
+    import io
+    from pathlib import Path
+
+    import numpy as np
+
+    from geo.errors import InputError, LodelineError
+    from geo.magnetic import field_at, validate_position
+    from geo.models import resolve
+
+    path = args.csv
+    try:
+        text = Path(path).read_text(encoding="utf-8-sig")
+    except OSError as exc:
+        raise InputError(f"cannot read ({exc.strerror})", file=path) from None
+    except UnicodeDecodeError:
+        raise InputError("is not UTF-8 text", file=path) from None
+    reader = csv.reader(io.StringIO(text, newline=""))
+    try:
+        header = next(reader)
+    except StopIteration:
+        raise InputError("empty file: a header with lat,lon,date is required", file=path) from None
+    except csv.Error as exc:
+        raise InputError(f"malformed CSV ({exc})", file=path, line=1) from None
+    header = [h.strip() for h in header]
+    for name in CSV_INPUT:
+        if name not in header:
+            raise InputError(
+                "header must name the columns lat, lon, date (height_m optional)",
+                file=path,
+                field=name,
+                line=1,
+            )
+    if len(set(header)) != len(header):
+        raise InputError("header repeats a column name", file=path, line=1)
+    clash = [k for k in RESULT_KEYS[4:] if k in header]
+    if clash:
+        raise InputError(
+            "input column would clash with a result column", file=path, field=clash[0], line=1
+        )
+    col = {name: header.index(name) for name in header}
+    good: list[tuple[int, list[str], float, float, float, float]] = []
+    bad: list[LodelineError] = []
+    try:
+        for row in reader:
+            line = reader.line_num
+            if not row or all(not cell.strip() for cell in row):
+                continue
+            try:
+                if len(row) != len(header):
+                    raise InputError(
+                        f"has {len(row)} fields, the header has {len(header)}", file=path, line=line
+                    )
+                where = {"file": path, "line": line}
+                lat = _number(row[col["lat"]].strip(), "lat", **where)
+                lon = _number(row[col["lon"]].strip(), "lon", **where)
+                hcell = row[col["height_m"]].strip() if "height_m" in col else ""
+                height = _number(hcell, "height_m", **where) if hcell else 0.0
+                _label, year = _date(row[col["date"]], **where)
+                try:
+                    validate_position(lat, lon, height)
+                except LodelineError as err:
+                    raise err.located(**where) from None
+                good.append((line, row, lat, lon, height, year))
+            except LodelineError as err:
+                if not args.skip_bad:
+                    raise
+                bad.append(err)
+    except csv.Error as exc:
+        raise InputError(f"malformed CSV ({exc})", file=path, line=reader.line_num) from None
+    if good:
+        years = np.array([g[5] for g in good])
+        names, ok = resolve(args.model, years)
+        if not ok.all():
+            from geo.models import require
+
+            for k in np.flatnonzero(~ok):
+                try:
+                    require(args.model, years[k : k + 1])
+                except LodelineError as err:
+                    err.located(file=path, line=good[k][0])
+                    if not args.skip_bad:
+                        raise
+                    bad.append(err)
+            good = [g for g, keep in zip(good, ok.tolist(), strict=True) if keep]
+    out = io.StringIO()
+    writer = csv.writer(out, lineterminator="\n")
+    writer.writerow(header + list(RESULT_KEYS[4:]))
+    if good:
+        result = field_at(
+            lat=np.array([g[2] for g in good]),
+            lon=np.array([g[3] for g in good]),
+            year=np.array([g[5] for g in good]),
+            height_m=np.array([g[4] for g in good]),
+            model=args.model,
+        )
+        for i, (_line, row, lat, lon, height, _year) in enumerate(good):
+            rec = _record(result, i, lat, lon, "", height)
+            writer.writerow(row + [_csv_value(rec[k]) for k in RESULT_KEYS[4:]])
+    from tui.commands.common import write_output
+
+    write_output(args.out, out.getvalue(), force=args.force)
+    if bad:
+        bad.sort(key=lambda e: e.line or 0)
+        for err in bad:
+            print(f"lodeline field: skipped {err}", file=sys.stderr)
+        print(
+            f"lodeline field: {len(bad)} bad row(s) skipped, {len(good)} written", file=sys.stderr
+        )
+    return 0
+
+
+def run(args) -> int:
+    """Run ``lodeline field``; returns the exit status (errors raise LodelineError)."""
+    from geo.errors import InputError
+
+    if args.csv is not None:
+        if args.json:
+            raise InputError("--json applies to one point; the batch writes CSV", field="--json")
+        stray = [n for n in ("lat", "lon", "date") if getattr(args, n) is not None]
+        if stray:
+            raise InputError("--csv reads lat, lon and date from the file", field="--" + stray[0])
+        return _batch(args)
+    if args.out is not None or args.skip_bad:
+        raise InputError("--out and --skip-bad go with --csv", field="--out")
+    return _single(args)
