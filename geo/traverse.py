@@ -559,6 +559,8 @@ def local_attraction(
     if not (math.isfinite(tolerance_deg) and tolerance_deg >= 0.0):
         raise InputError(f"tolerance {tolerance_deg!r} deg must be a non-negative number")
     n = fore.size
+    if closed and n < 3:
+        raise TraverseError("a closed traverse needs at least three courses")
     has_back = ~np.isnan(back)
     if not np.any(has_back):
         raise TraverseError("no course has a back bearing: local attraction cannot be judged")

@@ -495,6 +495,11 @@ def test_local_attraction_missing_back_bearing_leaves_stations_undetermined():
 def test_local_attraction_without_back_bearings_is_an_error():
     with pytest.raises(TraverseError, match="back bearing"):
         local_attraction([10.0, 20.0], [float("nan")] * 2, closed=False)
+    with pytest.raises(TraverseError, match="three courses"):
+        local_attraction([10.0, 190.0], [190.0, 10.0], closed=True)
+    with pytest.raises(InputError) as err:
+        local_attraction([10.0, float("nan")], [190.0, 10.0], closed=False)
+    assert err.value.course == 2
 
 
 @settings(max_examples=100, deadline=None)
