@@ -21,6 +21,8 @@ SUBCOMMANDS: list[tuple[str, str]] = [
     ("models", "models"),
     ("open", "open"),
     ("convert", "convert"),
+    ("close", "close"),
+    ("fit", "fit"),
 ]
 
 EPILOG = (

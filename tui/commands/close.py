@@ -1,0 +1,185 @@
+"""``lodeline close DOC``: latitudes and departures, misclosure, adjustment, area, local attraction.
+
+Every figure comes from :func:`geo.survey.close_document` (see its module docstring for the
+method and sign conventions); this module only formats. ``--json`` prints
+:meth:`geo.survey.SurveyClosure.as_dict`. Nothing is written.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from typing import Any
+
+HELP = "misclosure, adjustment, area and local attraction of a traverse document"
+
+
+def register(subparsers: Any) -> None:
+    """Add the ``close`` subcommand."""
+    p = subparsers.add_parser(
+        "close",
+        help=HELP,
+        description=(
+            "Latitudes and departures of each course, the misclosure and its direction, the "
+            "precision, the compass- or transit-rule adjustment, the ground and grid area, the "
+            "angular misclosure where angles are recorded and local attraction where back "
+            "bearings are. Choosing another north turns the figure; no closure figure changes."
+        ),
+    )
+    p.add_argument("document", metavar="DOC", help="traverse document (.toml or .json)")
+    p.add_argument(
+        "--adjust",
+        choices=("compass", "transit", "none"),
+        help="adjustment rule (default: compass for a closed traverse, none for an open one)",
+    )
+    p.add_argument(
+        "--north",
+        choices=("true", "grid", "magnetic"),
+        default="true",
+        help="north of the latitudes, departures and bearings (default true; magnetic = at the "
+        "record date)",
+    )
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.set_defaults(func=run)
+
+
+def _m(value: float, digits: int = 3) -> str:
+    return f"{value:,.{digits}f}"
+
+
+def _deg(value: float | None, digits: int = 4) -> str:
+    return "-" if value is None else f"{value:+.{digits}f}"
+
+
+def render(result: Any, title: str | None = None) -> str:
+    """The human-readable closure of a :class:`geo.survey.SurveyClosure`."""
+    from .convert import _table as table
+
+    lines: list[str] = []
+    if title:
+        lines.append(title)
+    lines.append(
+        f"north: {result.north} (recorded azimuths turned {result.rotation_deg:+.4f} deg); "
+        f"adjustment: {result.adjustment}; lengths are recorded ground lengths, metres"
+    )
+    lines.append("")
+    rows = [["#", "bearing", "length", "latitude", "departure", "corr lat", "corr dep"]]
+    for c in result.courses:
+        rows.append(
+            [
+                str(c.index),
+                c.bearing,
+                _m(c.length_m),
+                _m(c.latitude_m),
+                _m(c.departure_m),
+                _m(c.latitude_correction_m),
+                _m(c.departure_correction_m),
+            ]
+        )
+    lines += table(rows, right={0, 2, 3, 4, 5, 6})
+    lines.append(f"perimeter {_m(result.perimeter_m)} m")
+    if result.closed:
+        if result.misclosure_bearing is None:
+            lines.append("misclosure 0 m: the figure closes exactly")
+        else:
+            lines.append(
+                f"misclosure {_m(result.misclosure_m)} m toward {result.misclosure_bearing} "
+                f"(azimuth {result.misclosure_azimuth_deg:.4f}); precision 1:"
+                f"{result.precision:,.0f}"
+            )
+    lines.append("")
+    lines.append(f"stations ({result.adjustment} adjustment), metres from the point of beginning")
+    rows = [["station", "north", "east", "adjusted bearing", "adjusted length"]]
+    for s in result.stations:
+        course = result.courses[s.index - 1] if s.index else None
+        rows.append(
+            [
+                str(s.index),
+                _m(s.north_m),
+                _m(s.east_m),
+                course.adjusted_bearing if course else "",
+                _m(course.adjusted_length_m) if course else "",
+            ]
+        )
+    lines += table(rows, right={0, 1, 2, 4})
+    area = result.area
+    if area is not None:
+        lines.append(
+            f"ground area {area.ground_m2:,.2f} m2 = {area.hectares:,.4f} ha = "
+            f"{area.acres:,.4f} acres ({area.foot} foot acre); grid area {area.grid_m2:,.2f} m2 "
+            f"(combined factor {area.combined_factor:.8f})"
+        )
+    ang = result.angles
+    if ang is not None:
+        lines.append(
+            f"angular misclosure: {ang.kind} angles sum {ang.measured_sum_deg:.4f} against "
+            f"{ang.expected_sum_deg:.0f} deg: {ang.misclosure_deg:+.4f} deg, "
+            f"{ang.correction_per_angle_deg:+.5f} deg to each angle"
+        )
+    att = result.attraction
+    if att is not None:
+        lines.append("")
+        lines.append(
+            f"local attraction (fore and back bearings; course {att.start_course} taken as free, "
+            f"tolerance {att.tolerance_deg * 60:.1f} min)"
+        )
+        rows = [["station", "correction deg", "state"]]
+        for s in att.stations:
+            state = (
+                "not reached"
+                if s.correction_deg is None
+                else ("disturbed" if s.disturbed else "free")
+            )
+            rows.append([str(s.station), _deg(s.correction_deg), state])
+        lines += table(rows, right={0, 1})
+        rows = [["course", "back - fore - 180", "corrected bearing (recorded north)"]]
+        for c, d, b in zip(result.courses, att.discrepancy_deg, att.corrected_bearing, strict=True):
+            rows.append([str(c.index), _deg(d), b or "-"])
+        lines += table(rows, right={0, 1})
+    if result.budget:
+        last = result.budget[-1]
+        lines.append(
+            f"error budget: bearings +-{result.bearing_sigma_deg:.3f} deg"
+            + (
+                f", declination +-{result.declination_sigma_deg:.3f} deg"
+                if result.declination_sigma_deg is not None
+                else ", declination uncertainty: none published"
+            )
+            + f"; last station +-{last.total_m:.2f} m (1 sigma)"
+        )
+    return finish(lines, result.notes)
+
+
+def finish(lines: list[str], notes: tuple[str, ...]) -> str:
+    """Close a human-readable output: its notes, then the one-line caution."""
+    from geo.cautions import SHORT_CAUTION
+
+    lines += [f"note: {note}" for note in notes]
+    lines.append(SHORT_CAUTION)
+    return "\n".join(lines) + "\n"
+
+
+def emit(args: argparse.Namespace, compute: Any, render_result: Any) -> int:
+    """Load and convert ``args.document``, compute a result from the conversion and print it
+    (``--json``: its ``as_dict()``; else ``render_result(result, title)``)."""
+    from geo.document import load_document
+    from geo.north import convert_document
+
+    from .common import print_json
+
+    doc = load_document(args.document)
+    result = compute(convert_document(doc, file=args.document))
+    if args.json:
+        print_json(result.as_dict())
+    else:
+        sys.stdout.write(render_result(result, doc.title))
+    return 0
+
+
+def run(args: argparse.Namespace) -> int:
+    """Load, convert and close the document; print the closure or its JSON object."""
+    from geo.survey import close_document
+
+    return emit(
+        args, lambda conv: close_document(conv, adjust=args.adjust, north=args.north), render
+    )
