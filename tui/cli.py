@@ -21,6 +21,7 @@ SUBCOMMANDS: list[tuple[str, str]] = [
     ("models", "models"),
     ("open", "open"),
     ("convert", "convert"),
+    ("report", "report"),
     ("close", "close"),
     ("fit", "fit"),
 ]
