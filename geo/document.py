@@ -76,7 +76,8 @@ import math
 import os
 import tomllib
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
+from functools import lru_cache
 from pathlib import Path
 from typing import Annotated, Any, Literal
 
@@ -793,18 +794,46 @@ def _parse_course(
     ctx: dict[str, Any],
     file: str | None,
 ) -> RecordedCourse:
+    """Parse one course (cached on the course's keys and context: an editor re-parses a whole
+    document on every keystroke, and only the edited course is new)."""
+    try:
+        rc = _parse_course_cached(
+            course,
+            index == 1,
+            previous_azimuth if course.bearing is None and course.call is None else None,
+            doc.record.angles,
+            doc.record.distance_unit,
+            tuple(ctx.items()),
+        )
+    except LodelineError as err:
+        if (err.field or "").startswith("record."):
+            raise err.located(file=file) from None
+        raise err.located(file=file, course=index) from None
+    return replace(rc, index=index)
+
+
+@lru_cache(maxsize=50_000)
+def _parse_course_cached(
+    course: Course,
+    first: bool,
+    previous_azimuth: float | None,
+    angles: str | None,
+    distance_unit: str | None,
+    ctx_items: tuple[tuple[str, Any], ...],
+) -> RecordedCourse:
+    ctx = dict(ctx_items)
     from geo.angles import normalize_azimuth
     from geo.bearings import parse_bearing
     from geo.calls import parse_call, parse_distance
 
-    where = {"file": file, "course": index}
+    where: dict[str, Any] = {}
     call_note: str | None = None
     angle_deg: float | None = None
     if course.call is not None:
         try:
             call = parse_call(course.call, **ctx)
         except LodelineError as err:
-            raise _locate(err, file, index, "call") from None
+            raise _locate(err, None, None, "call") from None
         if call.bearing is None:
             raise DocumentError("gives no bearing", field="call", **where)
         if call.distance is None:
@@ -817,32 +846,31 @@ def _parse_course(
             try:
                 bearing = parse_bearing(course.bearing)
             except LodelineError as err:
-                raise _locate(err, file, index, "bearing") from None
+                raise _locate(err, None, None, "bearing") from None
         if course.angle is not None:
             try:
                 angle_deg, angle_precision = _parse_angle(course.angle)
             except LodelineError as err:
-                raise _locate(err, file, index, "angle") from None
-            if doc.record.angles is None:
+                raise _locate(err, None, None, "angle") from None
+            if angles is None:
                 raise DocumentError(
                     "courses give angles: say in record.angles whether they were turned to the "
                     "right (clockwise) or to the left",
-                    file=file,
                     field="record.angles",
                 )
         if bearing is None and previous_azimuth is None:
             raise DocumentError(
                 "the first course needs a bearing (angles are turned from it)"
-                if index == 1
+                if first
                 else "the angle cannot be turned: the previous course has no azimuth",
-                field="bearing" if index == 1 else "angle",
+                field="bearing" if first else "angle",
                 **where,
             )
-        distance = _course_distance(course, ctx, file, index)
+        distance = _course_distance(course, ctx, None, None)
     if bearing is not None:
         azimuth, precision, bearing_text = bearing.azimuth_deg, bearing.precision_deg, bearing.text
     else:
-        sign = 1.0 if doc.record.angles == "right" else -1.0
+        sign = 1.0 if angles == "right" else -1.0
         azimuth = float(normalize_azimuth(previous_azimuth + 180.0 + sign * angle_deg))
         precision, bearing_text = angle_precision, None
     if not (distance.metres > 0.0 and math.isfinite(distance.metres)):
@@ -856,19 +884,19 @@ def _parse_course(
         try:
             back = parse_bearing(course.back).azimuth_deg
         except LodelineError as err:
-            raise _locate(err, file, index, "back") from None
+            raise _locate(err, None, None, "back") from None
     every_m = None
     if course.every is not None:
         every_text = course.every if isinstance(course.every, str) else _plain(course.every)
         try:
             every_m = parse_distance(every_text, **ctx).metres
         except LodelineError as err:
-            raise _locate(err, file, index, "every") from None
+            raise _locate(err, None, None, "every") from None
         if not every_m > 0.0:
             raise DocumentError("must be a positive distance", field="every", **where)
     return RecordedCourse(
-        index=index,
-        text=course_call_text(course, doc.record.distance_unit),
+        index=0,
+        text=course_call_text(course, distance_unit),
         azimuth_deg=float(azimuth),
         precision_deg=float(precision),
         bearing_text=bearing_text,

@@ -18,7 +18,8 @@ Stations
     of a course are those of its starting station. Because the stations depend on D and gamma
     and those depend on the stations, the march is repeated (each pass one vectorised field
     evaluation of every station at both dates and one vectorised grid-factor evaluation) until
-    no station moves by more than 0.1 mm; two or three passes suffice. The closure, export,
+    no station moves by more than 1 mm (the first pass uses the values at the point of
+    beginning for every course; two or three more passes suffice). The closure, export,
     report and terminal application all take their stations and per-course figures from here.
 
 Declinations
@@ -55,7 +56,7 @@ __all__ = [
 ]
 
 #: Stop re-marching when no station moves by more than this (metres).
-_CONVERGED_M = 1e-4
+_CONVERGED_M = 1e-3
 _MAX_PASSES = 8
 #: The coarsest precision of a derived (converted) bearing: one minute of arc.
 _DERIVED_PRECISION_DEG = 1.0 / 60.0
@@ -430,32 +431,35 @@ def convert_document(
     d1: np.ndarray | None = None
     record_usable = need_record_model
     for _pass in range(_MAX_PASSES):
+        # The first pass evaluates at the point of beginning only (every station starts there).
+        m = 1 if _pass == 0 else n + 1
+        at_lat, at_lon = lat[:m], lon[:m]
         try:
-            factors = _grid.grid_factors(crs, lat=lat, lon=lon, height_m=h)
+            factors = _grid.grid_factors(crs, lat=at_lat, lon=at_lon, height_m=h)
         except LodelineError as err:
             raise err.located(file=file, field="grid.crs" if doc.grid else "place") from None
-        gamma = np.asarray(factors.convergence_deg, dtype=float)
-        combined = np.asarray(factors.combined_factor, dtype=float)
+        gamma = np.broadcast_to(np.asarray(factors.convergence_deg, dtype=float), (n + 1,))
+        combined = np.broadcast_to(np.asarray(factors.combined_factor, dtype=float), (n + 1,))
         record_field = None
         if record_usable and record_model_name == target_model_name:
-            try:
+            try:  # both dates at every station in one evaluation
                 both = field_at(
-                    lat=np.concatenate([lat, lat]),
-                    lon=np.concatenate([lon, lon]),
-                    year=np.concatenate([np.full(n + 1, record_year), np.full(n + 1, tyear)]),
+                    lat=np.concatenate([at_lat, at_lat]),
+                    lon=np.concatenate([at_lon, at_lon]),
+                    year=np.concatenate([np.full(m, record_year), np.full(m, tyear)]),
                     height_m=h,
                     model=record_model_name,
                 )
             except ModelRangeError:
                 both = None  # one of the dates is not covered: find out which, below
             if both is not None:
-                record_field = _Split(both, slice(0, n + 1))
-                target_field_vec = _Split(both, slice(n + 1, 2 * n + 2))
+                record_field = _Split(both, slice(0, m))
+                target_field_vec = _Split(both, slice(m, 2 * m))
         if record_field is None:
             if record_usable:
                 try:
                     record_field = _Split(
-                        evaluate("record", record_model_name, record_year, lat, lon), None
+                        evaluate("record", record_model_name, record_year, at_lat, at_lon), None
                     )
                 except ModelRangeError:
                     if magnetic:
@@ -465,11 +469,13 @@ def convert_document(
                         "no field model covers the record date: the magnetic bearings at the "
                         "record date are not given"
                     )
-            target_field_vec = _Split(evaluate("target", target_model_name, tyear, lat, lon), None)
+            target_field_vec = _Split(
+                evaluate("target", target_model_name, tyear, at_lat, at_lon), None
+            )
         if stated is not None:
             d1 = np.full(n + 1, stated)
         elif record_field is not None:
-            d1 = np.asarray(record_field.declination_deg, dtype=float)
+            d1 = np.broadcast_to(np.asarray(record_field.declination_deg, dtype=float), (n + 1,))
         else:
             d1 = None
         if record.reference == "magnetic":
@@ -491,7 +497,7 @@ def convert_document(
                 raise err.located(file=file, field="grid.crs" if doc.grid else "place") from None
             lat, lon = np.asarray(lat, dtype=float), np.asarray(lon, dtype=float)
             lat[0], lon[0] = lat0, lon0
-        if moved <= _CONVERGED_M:
+        if m == n + 1 and moved <= _CONVERGED_M:
             break
 
     if (
