@@ -18,6 +18,9 @@ attraction_tolerance_deg=None) -> SurveyClosure``
 ``fit_document(conv, *, with_scale=True) -> SurveyFit``
     The record-to-found similarity fit, empirical declination, model declination and
     record-length factor. ``SurveyFit.as_dict()`` is the ``lodeline fit --json`` object.
+``resolve_adjustment(conv, adjust) -> str``
+    The rule applied for ``adjust`` (``None``: compass when closed, none when open); raises
+    for an adjustment of an open traverse. The export uses it too.
 ``found_count(conv) -> int``
     How many stations have measured positions (the point of beginning counts when placed by
     grid coordinates); the fit needs two.
@@ -117,6 +120,7 @@ __all__ = [
     "fit_document",
     "found_count",
     "record_figure",
+    "resolve_adjustment",
 ]
 
 North = Literal["true", "grid", "magnetic"]
@@ -563,6 +567,28 @@ def _attraction(
     )
 
 
+def resolve_adjustment(conv: DocumentConversion, adjust: str | None) -> str:
+    """The adjustment rule to apply: ``adjust``, or by default compass for a closed traverse and
+    none for an open one. Raises InputError for an unknown rule and TraverseError for a compass
+    or transit adjustment asked of an open traverse (it has no misclosure and no area)."""
+    if adjust is not None and adjust not in ADJUSTMENTS:
+        raise InputError(
+            f"unknown adjustment {adjust!r}: use compass, transit or none", field="adjust"
+        )
+    closed = bool(conv.document.closed)
+    if adjust is None:
+        return "compass" if closed else "none"
+    if not closed and adjust != "none":
+        raise TraverseError(
+            f"the traverse is open (closed = false): it has no misclosure to adjust by the "
+            f"{adjust} rule and no area (use --adjust none, or set closed = true if the calls "
+            "return to the point of beginning)",
+            file=conv.file,
+            field="closed",
+        )
+    return adjust
+
+
 def close_document(
     conv: DocumentConversion,
     *,
@@ -606,21 +632,8 @@ def close_document(
         from geo.errors import DocumentError
 
         raise DocumentError("has no courses: nothing to close", file=conv.file, field="course")
-    if adjust is not None and adjust not in ADJUSTMENTS:
-        raise InputError(
-            f"unknown adjustment {adjust!r}: use compass, transit or none", field="adjust"
-        )
     closed = bool(doc.closed)
-    if adjust is None:
-        adjust = "compass" if closed else "none"
-    if not closed and adjust != "none":
-        raise TraverseError(
-            f"the traverse is open (closed = false): it has no misclosure to adjust by the "
-            f"{adjust} rule and no area (use --adjust none, or set closed = true if the calls "
-            "return to the point of beginning)",
-            file=conv.file,
-            field="closed",
-        )
+    adjust = resolve_adjustment(conv, adjust)
     figure = record_figure(conv)
     rotation = _north_rotation(conv, north)
     notes: list[str] = []

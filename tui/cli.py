@@ -24,6 +24,7 @@ SUBCOMMANDS: list[tuple[str, str]] = [
     ("report", "report"),
     ("close", "close"),
     ("fit", "fit"),
+    ("export", "export"),
 ]
 
 EPILOG = (

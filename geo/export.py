@@ -1,0 +1,517 @@
+"""Positions of a traverse in the grid CRS and WGS84, and their GeoJSON and CSV files.
+
+Public API
+----------
+``positions(conv, *, adjust=None) -> Positions``
+    Station and intermediate-point positions: easting/northing in the grid CRS and WGS84
+    latitude/longitude.
+``geojson_collection(conv, *, adjust=None, positions=None, closure=None) -> dict``
+    An RFC 7946 FeatureCollection (plain JSON values).
+``geojson_text(collection) -> str``
+    The collection as UTF-8 JSON text.
+``points_csv(positions) -> str`` and ``courses_csv(conv, positions) -> str``
+    The two RFC 4180 CSV tables.
+``courses_csv_path(path) -> Path``
+    Where the course table goes beside a points CSV: ``NAME-courses.csv``.
+``write_exports(conv, *, geojson=None, csv=None, adjust=None, force=False) -> list[Path]``
+    Write the requested files atomically; refuses to replace any existing one (before writing
+    anything) unless ``force``.
+
+Positions
+    Each course runs from its (adjusted) starting station along its **grid** azimuth for its
+    grid length (ground length x combined factor at the course's starting station), as in
+    :mod:`geo.north`; a closed traverse is adjusted in the grid plane by the compass (default)
+    or transit rule (:func:`geo.traverse.adjust`), an open one is marched as recorded (the
+    default ``"none"``; an open traverse cannot be adjusted). Angles balanced by
+    :func:`geo.survey.record_figure` turn the grid azimuths by the same amount. Easting and
+    northing are in the CRS's unit; latitude/longitude come from the inverse projection
+    (:func:`geo.grid.to_geographic`). With ``adjust="none"`` the stations are exactly those of
+    the conversion. Intermediate points (``every``) lie on their course at every multiple of
+    the spacing (ground distance from the course's start) short of the course's end, placed
+    proportionally along the adjusted course.
+
+GeoJSON (RFC 7946)
+    A FeatureCollection of: the figure (a Polygon for a closed traverse, exterior ring
+    counter-clockwise in longitude/latitude and closed, its vertices stations 0..n-1; otherwise a
+    LineString through every station), one Point per station (for an adjusted closed traverse the
+    last station is the point of beginning and is not repeated) and one Point per intermediate
+    point. Coordinates are [longitude, latitude], WGS84, rounded to 8 decimals (about 1 mm).
+    The figure's properties hold one object per course (call as written; magnetic (record),
+    true, grid and magnetic (target) bearings and azimuths; length in the document's unit and
+    in metres; grid length; adjusted grid azimuth and length). The collection's ``properties``
+    (a foreign member, RFC 7946 section 6.1) hold the title, record and target dates, models,
+    declinations at the point of beginning, CRS, the closure figures of
+    :func:`geo.survey.close_document` (ground plane: misclosure, precision, adjustment, area) and
+    the cautions text.
+
+CSV (RFC 4180, UTF-8, CRLF line ends, a header row)
+    ``OUT.csv``: one row per station and intermediate point, columns ``index, kind, course,
+    along_m, easting, northing, latitude, longitude``; ``kind`` is ``station`` (``index`` the
+    station number, ``course`` the course it ends, empty for the point of beginning) or
+    ``point`` (``index`` numbers the points from 1, ``course`` the course it lies on,
+    ``along_m`` its ground distance from the course's start). ``OUT-courses.csv``: one row per
+    course with every bearing and length (see :data:`COURSE_COLUMNS`).
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import math
+from dataclasses import dataclass
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+from geo.errors import InputError, LodelineError, OutputExistsError
+
+if TYPE_CHECKING:
+    from geo.north import DocumentConversion
+    from geo.survey import SurveyClosure
+
+__all__ = [
+    "COURSE_COLUMNS",
+    "POINT_COLUMNS",
+    "Positions",
+    "Position",
+    "courses_csv",
+    "courses_csv_path",
+    "geojson_collection",
+    "geojson_text",
+    "points_csv",
+    "positions",
+    "write_exports",
+]
+
+
+#: Decimal places of exported longitude/latitude (1e-8 deg is about 1 mm).
+COORD_DECIMALS = 8
+
+POINT_COLUMNS = ("index", "kind", "course", "along_m", "easting", "northing", "latitude",
+                 "longitude")  # fmt: skip
+COURSE_COLUMNS = (
+    "index",
+    "call",
+    "length",
+    "unit",
+    "length_m",
+    "grid_length_m",
+    "magnetic_record_bearing",
+    "magnetic_record_azimuth_deg",
+    "true_bearing",
+    "true_azimuth_deg",
+    "grid_bearing",
+    "grid_azimuth_deg",
+    "magnetic_target_bearing",
+    "magnetic_target_azimuth_deg",
+    "declination_record_deg",
+    "declination_target_deg",
+    "convergence_deg",
+    "combined_factor",
+    "adjusted_grid_azimuth_deg",
+    "adjusted_grid_length_m",
+)
+
+
+@dataclass(frozen=True)
+class Position:
+    """One exported point.
+
+    ``kind`` is ``"station"`` or ``"point"`` (intermediate); ``index`` the station number, or
+    the intermediate point's number from 1; ``course`` the course a station ends (``None`` for
+    the point of beginning) or a point lies on; ``along_m`` a point's ground distance from its
+    course's start (``None`` for a station). ``easting``/``northing`` in the CRS's unit,
+    ``lat``/``lon`` WGS84 degrees.
+    """
+
+    kind: str
+    index: int
+    course: int | None
+    along_m: float | None
+    easting: float
+    northing: float
+    lat: float
+    lon: float
+
+
+@dataclass(frozen=True)
+class Positions:
+    """Positions of a traverse (see the module docstring).
+
+    ``stations`` are the n + 1 stations (station 0 = point of beginning), ``points`` the
+    intermediate points in course order. ``grid_azimuth_deg``/``grid_length_m``: per course,
+    after adjustment (grid north, metres). ``grid_misclosure_m``: the misclosure in the grid
+    plane before adjustment (``None`` for an open traverse).
+    """
+
+    crs: str
+    grid_unit_m: float
+    closed: bool
+    adjustment: str
+    stations: tuple[Position, ...]
+    points: tuple[Position, ...]
+    grid_azimuth_deg: tuple[float, ...]
+    grid_length_m: tuple[float, ...]
+    grid_misclosure_m: float | None
+
+
+def positions(conv: DocumentConversion, *, adjust: str | None = None) -> Positions:
+    """Station and intermediate-point positions of a converted document.
+
+    ``adjust``: ``"compass"``, ``"transit"`` or ``"none"`` (default compass for a closed
+    traverse, none for an open one). Raises DocumentError for a document without courses,
+    TraverseError for an adjustment asked of an open traverse, GridError from the projection.
+    """
+    from geo import grid as _grid
+    from geo import traverse as tv
+    from geo.angles import normalize_azimuth
+    from geo.survey import record_figure, resolve_adjustment
+
+    if not conv.courses:
+        from geo.errors import DocumentError
+
+        raise DocumentError("has no courses: nothing to export", file=conv.file, field="course")
+    method = resolve_adjustment(conv, adjust)
+    figure = record_figure(conv)
+    balance = np.asarray(figure.azimuth_deg) - np.asarray(figure.recorded_azimuth_deg)
+    grid_az = np.asarray(
+        normalize_azimuth(np.array([c.azimuth.grid for c in conv.courses]) + balance), dtype=float
+    )
+    grid_len = np.array([c.grid_length_m for c in conv.courses], dtype=float)
+    closed = bool(conv.document.closed)
+    try:
+        if closed:
+            adj = tv.adjust(grid_az, grid_len, method=method)
+            north_m, east_m = adj.north_m, adj.east_m
+            out_az, out_len = adj.azimuth_deg, adj.length_m
+            mis: float | None = adj.closure.misclosure_m
+            if method == "none":
+                out_az, out_len = grid_az, grid_len
+        else:
+            st = tv.march(grid_az, grid_len)
+            north_m, east_m = st.north_m, st.east_m
+            out_az, out_len, mis = grid_az, grid_len, None
+    except LodelineError as err:
+        raise err.located(file=conv.file) from None
+    unit = conv.grid_unit_m
+    p0 = conv.stations[0]
+    e_st = p0.easting + east_m / unit
+    n_st = p0.northing + north_m / unit
+
+    # Intermediate points: fractions along each adjusted course.
+    pts: list[tuple[int, float, float, float]] = []  # course, along_m, easting, northing
+    for i, c in enumerate(conv.courses):
+        spacing = c.recorded.every_m
+        if not spacing:
+            continue
+        count = math.ceil(c.length_m / spacing - 1e-9) - 1
+        for k in range(1, count + 1):
+            along = k * spacing
+            f = along / c.length_m
+            pts.append(
+                (
+                    c.index,
+                    along,
+                    e_st[i] + f * (e_st[i + 1] - e_st[i]),
+                    n_st[i] + f * (n_st[i + 1] - n_st[i]),
+                )
+            )
+    all_e = np.concatenate([e_st, [p[2] for p in pts]])
+    all_n = np.concatenate([n_st, [p[3] for p in pts]])
+    try:
+        lat, lon = _grid.to_geographic(conv.crs, easting=all_e, northing=all_n)
+    except LodelineError as err:
+        raise err.located(file=conv.file, field="grid.crs") from None
+    lat = np.atleast_1d(np.asarray(lat, dtype=float))
+    lon = np.atleast_1d(np.asarray(lon, dtype=float))
+    lat[0], lon[0] = p0.lat, p0.lon
+    n = len(conv.courses)
+    if method == "none":  # exactly the conversion's stations
+        for s in conv.stations:
+            lat[s.index], lon[s.index] = s.lat, s.lon
+    stations = tuple(
+        Position(
+            "station",
+            i,
+            None if i == 0 else i,
+            None,
+            float(e_st[i]),
+            float(n_st[i]),
+            float(lat[i]),
+            float(lon[i]),
+        )
+        for i in range(n + 1)
+    )
+    points = tuple(
+        Position(
+            "point",
+            k + 1,
+            p[0],
+            float(p[1]),
+            float(p[2]),
+            float(p[3]),
+            float(lat[n + 1 + k]),
+            float(lon[n + 1 + k]),
+        )
+        for k, p in enumerate(pts)
+    )
+    return Positions(
+        crs=conv.crs,
+        grid_unit_m=unit,
+        closed=closed,
+        adjustment=method,
+        stations=stations,
+        points=points,
+        grid_azimuth_deg=tuple(float(a) for a in out_az),
+        grid_length_m=tuple(float(x) for x in out_len),
+        grid_misclosure_m=mis,
+    )
+
+
+# --------------------------------------------------------------------------------------------
+# GeoJSON
+# --------------------------------------------------------------------------------------------
+
+
+def _lonlat(p: Position) -> list[float]:
+    return [round(p.lon, COORD_DECIMALS), round(p.lat, COORD_DECIMALS)]
+
+
+def _ring(stations: tuple[Position, ...]) -> list[list[float]]:
+    """Closed exterior ring through stations 0..n-1, counter-clockwise in lon/lat."""
+    ring = [_lonlat(p) for p in stations[:-1]]
+    x = np.array([c[0] for c in ring])
+    y = np.array([c[1] for c in ring])
+    signed = float(np.sum(x * np.roll(y, -1) - np.roll(x, -1) * y))
+    if signed < 0.0:
+        ring = [ring[0], *reversed(ring[1:])]
+    return [*ring, ring[0]]
+
+
+def _course_properties(conv: DocumentConversion, pos: Positions) -> list[dict[str, Any]]:
+    out = []
+    for i, c in enumerate(conv.courses):
+        out.append(
+            {
+                "index": c.index,
+                "call": c.call,
+                "length": c.length_value,
+                "unit": c.length_unit,
+                "length_m": c.length_m,
+                "grid_length_m": c.grid_length_m,
+                "bearing": c.bearing.as_dict(),
+                "azimuth": c.azimuth.as_dict("_deg"),
+                "declination_record_deg": c.declination_record_deg,
+                "declination_target_deg": c.declination_target_deg,
+                "convergence_deg": c.convergence_deg,
+                "combined_factor": c.combined_factor,
+                "adjusted_grid_azimuth_deg": pos.grid_azimuth_deg[i],
+                "adjusted_grid_length_m": pos.grid_length_m[i],
+                "note": c.recorded.note,
+            }
+        )
+    return out
+
+
+def _when(day: Any, year: float | None) -> Any:
+    return day.isoformat() if day is not None else year
+
+
+def geojson_collection(
+    conv: DocumentConversion,
+    *,
+    adjust: str | None = None,
+    positions_: Positions | None = None,
+    closure: SurveyClosure | None = None,
+) -> dict[str, Any]:
+    """The RFC 7946 FeatureCollection of a converted document (see the module docstring).
+
+    ``positions_``/``closure`` may be passed when already computed (same ``adjust``).
+    """
+    from geo.cautions import CAUTIONS
+    from geo.survey import close_document
+
+    pos = positions_ if positions_ is not None else positions(conv, adjust=adjust)
+    clo = closure if closure is not None else close_document(conv, adjust=pos.adjustment)
+    doc = conv.document
+    first = conv.courses[0]
+    if pos.closed:
+        geometry = {"type": "Polygon", "coordinates": [_ring(pos.stations)]}
+    else:
+        geometry = {"type": "LineString", "coordinates": [_lonlat(p) for p in pos.stations]}
+    features: list[dict[str, Any]] = [
+        {
+            "type": "Feature",
+            "geometry": geometry,
+            "properties": {
+                "kind": "figure",
+                "title": doc.title,
+                "closed": pos.closed,
+                "adjustment": pos.adjustment,
+                "courses": _course_properties(conv, pos),
+            },
+        }
+    ]
+    shown = pos.stations[:-1] if pos.closed and pos.adjustment != "none" else pos.stations
+    for p in (*shown, *pos.points):
+        features.append(
+            {
+                "type": "Feature",
+                "geometry": {"type": "Point", "coordinates": _lonlat(p)},
+                "properties": {
+                    "kind": p.kind,
+                    "index": p.index,
+                    "course": p.course,
+                    "along_m": p.along_m,
+                    "easting": p.easting,
+                    "northing": p.northing,
+                    "note": None
+                    if p.kind != "station" or p.index == 0
+                    else conv.courses[p.index - 1].recorded.call_note,
+                },
+            }
+        )
+    area = clo.area
+    properties = {
+        "title": doc.title,
+        "record_date": _when(conv.record_date, conv.record_year),
+        "target_date": _when(conv.target_date, conv.target_year),
+        "reference": conv.reference,
+        "model": conv.model_label,
+        "declination_source": conv.declination_source,
+        "declination_record_deg": first.declination_record_deg,
+        "declination_target_deg": first.declination_target_deg,
+        "convergence_deg": first.convergence_deg,
+        "crs": conv.crs,
+        "adjustment": pos.adjustment,
+        "misclosure_m": clo.misclosure_m,
+        "misclosure_azimuth_deg": clo.misclosure_azimuth_deg,
+        "precision": clo.precision,
+        "area_m2": None if area is None else area.ground_m2,
+        "area_hectares": None if area is None else area.hectares,
+        "area_acres": None if area is None else area.acres,
+        "grid_area_m2": None if area is None else area.grid_m2,
+        "crossing_courses": None if clo.crossing is None else list(clo.crossing),
+        "notes": [*conv.warnings, *clo.notes],
+        "cautions": CAUTIONS,
+    }
+    return {"type": "FeatureCollection", "properties": properties, "features": features}
+
+
+def geojson_text(collection: dict[str, Any]) -> str:
+    """The collection as JSON text (UTF-8 characters kept, NaN refused, trailing newline)."""
+    return json.dumps(collection, ensure_ascii=False, allow_nan=False, indent=1) + "\n"
+
+
+# --------------------------------------------------------------------------------------------
+# CSV
+# --------------------------------------------------------------------------------------------
+
+
+def _csv(header: tuple[str, ...], rows: list[list[Any]]) -> str:
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\r\n")
+    writer.writerow(header)
+    for row in rows:
+        writer.writerow(["" if v is None else (repr(v) if isinstance(v, float) else v)
+                         for v in row])  # fmt: skip
+    return buffer.getvalue()
+
+
+def points_csv(pos: Positions) -> str:
+    """One row per station and intermediate point (columns :data:`POINT_COLUMNS`)."""
+    rows = [
+        [p.index, p.kind, p.course, p.along_m, p.easting, p.northing, p.lat, p.lon]
+        for p in (*pos.stations, *pos.points)
+    ]
+    return _csv(POINT_COLUMNS, rows)
+
+
+def courses_csv(conv: DocumentConversion, pos: Positions) -> str:
+    """One row per course with every bearing and length (columns :data:`COURSE_COLUMNS`)."""
+    rows = []
+    for i, c in enumerate(conv.courses):
+        b, a = c.bearing, c.azimuth
+        rows.append(
+            [
+                c.index,
+                c.call,
+                c.length_value,
+                c.length_unit,
+                c.length_m,
+                c.grid_length_m,
+                b.magnetic_record,
+                a.magnetic_record,
+                b.true,
+                a.true,
+                b.grid,
+                a.grid,
+                b.magnetic_target,
+                a.magnetic_target,
+                c.declination_record_deg,
+                c.declination_target_deg,
+                c.convergence_deg,
+                c.combined_factor,
+                pos.grid_azimuth_deg[i],
+                pos.grid_length_m[i],
+            ]
+        )
+    return _csv(COURSE_COLUMNS, rows)
+
+
+def courses_csv_path(path: str | Path) -> Path:
+    """The course table's file beside the points CSV ``path``: ``NAME-courses.csv``."""
+    p = Path(path)
+    return p.with_name(f"{p.stem}-courses{p.suffix or '.csv'}")
+
+
+# --------------------------------------------------------------------------------------------
+# Files
+# --------------------------------------------------------------------------------------------
+
+
+def write_exports(
+    conv: DocumentConversion,
+    *,
+    geojson: str | Path | None = None,
+    csv_path: str | Path | None = None,
+    adjust: str | None = None,
+    force: bool = False,
+) -> list[Path]:
+    """Write the GeoJSON and/or the two CSV files; return the paths written.
+
+    Every file is generated first and every target checked before anything is written: without
+    ``force`` an existing target raises :class:`OutputExistsError` and nothing is touched. Each
+    file is written atomically (:func:`geo.atomic.write_atomic`).
+    """
+    from geo.atomic import write_atomic
+
+    if geojson is None and csv_path is None:
+        raise InputError("nothing to export: name a GeoJSON and/or a CSV file", field="output")
+    pos = positions(conv, adjust=adjust)
+    outputs: list[tuple[Path, str]] = []
+    if geojson is not None:
+        outputs.append((Path(geojson), geojson_text(geojson_collection(conv, positions_=pos))))
+    if csv_path is not None:
+        outputs.append((Path(csv_path), points_csv(pos)))
+        outputs.append((courses_csv_path(csv_path), courses_csv(conv, pos)))
+    targets = [p for p, _ in outputs]
+    if len({t.resolve() for t in targets}) != len(targets):
+        raise InputError("two outputs name the same file", file=str(targets[0]), field="output")
+    if not force:
+        for target in targets:
+            if target.exists():
+                raise OutputExistsError(
+                    "exists; not overwritten (give --force to replace it)", file=str(target)
+                )
+    written = []
+    for target, text in outputs:
+        try:
+            written.append(write_atomic(target, text, overwrite=force))
+        except OSError as exc:
+            raise LodelineError(
+                f"cannot be written: {exc.strerror or exc}", file=str(target)
+            ) from None
+    return written

@@ -1,0 +1,61 @@
+"""``lodeline export DOC --geojson OUT.geojson [--csv OUT.csv]``: files for GIS and GNSS receivers.
+
+The positions, GeoJSON and CSV come from :mod:`geo.export` (see its module docstring for the
+method and the file layouts); the CSV course table goes to ``OUT-courses.csv`` beside
+``OUT.csv``. Files are written atomically and never replaced without ``--force``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from typing import Any
+
+HELP = "write the traverse as GeoJSON (RFC 7946) and/or CSV"
+
+
+def register(subparsers: Any) -> None:
+    """Add the ``export`` subcommand."""
+    p = subparsers.add_parser(
+        "export",
+        help=HELP,
+        description=(
+            "Write station positions (grid CRS and WGS84), intermediate points and every "
+            "course's bearings as a GeoJSON FeatureCollection and/or CSV (OUT.csv for the "
+            "points, OUT-courses.csv for the courses)."
+        ),
+    )
+    p.add_argument("document", metavar="DOC", help="traverse document (.toml or .json)")
+    p.add_argument("--geojson", metavar="OUT.geojson", help="GeoJSON file to write")
+    p.add_argument(
+        "--csv", metavar="OUT.csv", help="CSV of the points (and OUT-courses.csv) to write"
+    )
+    p.add_argument(
+        "--adjust",
+        choices=("compass", "transit", "none"),
+        help="adjustment of the positions (default: compass for a closed traverse, none for "
+        "an open one)",
+    )
+    p.add_argument("--force", action="store_true", help="replace existing output files")
+    p.set_defaults(func=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    """Load and convert the document, write the requested files, list them."""
+    from geo.cautions import SHORT_CAUTION
+    from geo.document import load_document
+    from geo.errors import InputError
+    from geo.export import write_exports
+    from geo.north import convert_document
+
+    if not args.geojson and not args.csv:
+        raise InputError("nothing to export: give --geojson OUT.geojson and/or --csv OUT.csv")
+    doc = load_document(args.document)
+    conv = convert_document(doc, file=args.document)
+    written = write_exports(
+        conv, geojson=args.geojson, csv_path=args.csv, adjust=args.adjust, force=args.force
+    )
+    for path in written:
+        sys.stdout.write(f"wrote {path}\n")
+    sys.stdout.write(SHORT_CAUTION + "\n")
+    return 0
