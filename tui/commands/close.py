@@ -11,6 +11,8 @@ import argparse
 import sys
 from typing import Any
 
+from .common import add_adjust_option
+
 HELP = "misclosure, adjustment, area and local attraction of a traverse document"
 
 
@@ -27,11 +29,7 @@ def register(subparsers: Any) -> None:
         ),
     )
     p.add_argument("document", metavar="DOC", help="traverse document (.toml or .json)")
-    p.add_argument(
-        "--adjust",
-        choices=("compass", "transit", "none"),
-        help="adjustment rule (default: compass for a closed traverse, none for an open one)",
-    )
+    add_adjust_option(p, "adjustment rule")
     p.add_argument(
         "--north",
         choices=("true", "grid", "magnetic"),
@@ -53,7 +51,7 @@ def _deg(value: float | None, digits: int = 4) -> str:
 
 def render(result: Any, title: str | None = None) -> str:
     """The human-readable closure of a :class:`geo.survey.SurveyClosure`."""
-    from .convert import _table as table
+    from .common import text_table as table
 
     lines: list[str] = []
     if title:

@@ -43,3 +43,42 @@ def write_output(path: str | None, text: str, *, force: bool) -> None:
     from geo.atomic import write_atomic
 
     write_atomic(path, text, overwrite=force)
+
+
+def add_target_options(parser: Any) -> None:
+    """Add ``--target-date`` and ``--model`` (the target-date field model) to ``parser``."""
+    parser.add_argument(
+        "--target-date",
+        metavar="YYYY-MM-DD",
+        help="date to convert to (default: the document's target.date, else today)",
+    )
+    parser.add_argument(
+        "--model",
+        metavar="NAME|auto",
+        help="field model for the target date (default: the document's target.model, else auto)",
+    )
+
+
+def add_adjust_option(parser: Any, what: str = "adjustment rule") -> None:
+    """Add ``--adjust compass|transit|none`` (no default: the document decides)."""
+    parser.add_argument(
+        "--adjust",
+        choices=("compass", "transit", "none"),
+        help=f"{what} (default: compass for a closed traverse, none for an open one)",
+    )
+
+
+def text_table(rows: list[list[str]], right: set[int]) -> list[str]:
+    """Lay out ``rows`` (the first is the header) as aligned text lines with a rule below the
+    header; columns whose index is in ``right`` are right-aligned."""
+    widths = [max(len(r[i]) for r in rows) for i in range(len(rows[0]))]
+    out = []
+    for n, r in enumerate(rows):
+        cells = [
+            c.rjust(w) if i in right else c.ljust(w)
+            for i, (c, w) in enumerate(zip(r, widths, strict=True))
+        ]
+        out.append("  ".join(cells).rstrip())
+        if n == 0:
+            out.append("  ".join("-" * w for w in widths))
+    return out

@@ -12,6 +12,8 @@ import argparse
 import sys
 from typing import Any
 
+from .common import add_target_options, text_table
+
 HELP = "convert the bearings of a traverse document between north references"
 
 
@@ -27,16 +29,7 @@ def register(subparsers: Any) -> None:
         ),
     )
     p.add_argument("document", metavar="DOC", help="traverse document (.toml or .json)")
-    p.add_argument(
-        "--target-date",
-        metavar="YYYY-MM-DD",
-        help="date to convert to (default: the document's target.date, else today)",
-    )
-    p.add_argument(
-        "--model",
-        metavar="NAME|auto",
-        help="field model for the target date (default: the document's target.model, else auto)",
-    )
+    add_target_options(p)
     p.add_argument(
         "--record-model",
         metavar="NAME|auto",
@@ -52,20 +45,6 @@ def _deg(value: float | None, digits: int = 3) -> str:
 
 def _length(value: float) -> str:
     return f"{value:.4f}".rstrip("0").rstrip(".")
-
-
-def _table(rows: list[list[str]], right: set[int]) -> list[str]:
-    widths = [max(len(r[i]) for r in rows) for i in range(len(rows[0]))]
-    out = []
-    for n, r in enumerate(rows):
-        cells = [
-            c.rjust(w) if i in right else c.ljust(w)
-            for i, (c, w) in enumerate(zip(r, widths, strict=True))
-        ]
-        out.append("  ".join(cells).rstrip())
-        if n == 0:
-            out.append("  ".join("-" * w for w in widths))
-    return out
 
 
 def render(conv: Any) -> str:
@@ -135,7 +114,7 @@ def render(conv: Any) -> str:
                     else f"{c.declination_target_sigma_deg:.3f}",
                 ]
             )
-        lines += _table(rows, right={0, 2, 3, 8, 9, 10})
+        lines += text_table(rows, right={0, 2, 3, 8, 9, 10})
         lines.append("")
         lines.append(
             "D east positive (true = magnetic + D); gamma: true north to grid north, clockwise "

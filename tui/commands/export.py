@@ -11,6 +11,8 @@ import argparse
 import sys
 from typing import Any
 
+from .common import add_adjust_option
+
 HELP = "write the traverse as GeoJSON (RFC 7946) and/or CSV"
 
 
@@ -30,12 +32,7 @@ def register(subparsers: Any) -> None:
     p.add_argument(
         "--csv", metavar="OUT.csv", help="CSV of the points (and OUT-courses.csv) to write"
     )
-    p.add_argument(
-        "--adjust",
-        choices=("compass", "transit", "none"),
-        help="adjustment of the positions (default: compass for a closed traverse, none for "
-        "an open one)",
-    )
+    add_adjust_option(p, "adjustment of the positions")
     p.add_argument("--force", action="store_true", help="replace existing output files")
     p.set_defaults(func=run)
 

@@ -35,7 +35,7 @@ def register(subparsers: Any) -> None:
 def render(result: Any, title: str | None = None) -> str:
     """The human-readable fit of a :class:`geo.survey.SurveyFit`."""
     from .close import finish
-    from .convert import _table as table
+    from .common import text_table as table
 
     lines: list[str] = []
     if title:

@@ -12,6 +12,8 @@ import argparse
 from pathlib import Path
 from typing import Any
 
+from .common import add_adjust_option, add_target_options
+
 HELP = "write a printable retracement report (HTML or Markdown)"
 
 #: Output extensions and the report format each one selects.
@@ -38,21 +40,8 @@ def register(subparsers: Any) -> None:
         help="output file; .html or .htm for HTML, .md for Markdown",
     )
     p.add_argument("--force", action="store_true", help="replace OUT if it exists")
-    p.add_argument(
-        "--target-date",
-        metavar="YYYY-MM-DD",
-        help="date to convert to (default: the document's target.date, else today)",
-    )
-    p.add_argument(
-        "--model",
-        metavar="NAME|auto",
-        help="field model for the target date (default: the document's target.model, else auto)",
-    )
-    p.add_argument(
-        "--adjust",
-        choices=("compass", "transit", "none"),
-        help="adjustment of a closed traverse (default compass; none for an open one)",
-    )
+    add_target_options(p)
+    add_adjust_option(p, "adjustment of the figure")
     p.add_argument(
         "--paper",
         choices=("auto", "a4", "letter"),
