@@ -15,13 +15,13 @@ analytically from the time derivative of the coefficients, never from differenci
 
 Vectorisation. Every point carries its own date. A model's time dependence is held in
 piecewise-polynomial form (see :class:`SphericalHarmonicModel`); points are grouped by time
-segment and processed in chunks. Inside a chunk the loop runs over order m and degree n only;
-every operation works on all points of the chunk at once. The Legendre functions are built by
-the standard stable three-term recursion in n for each m, seeded by the sectoral recursion in
-m. Functions with m >= 1 are carried divided by sin(theta) (finite at the geographic poles) and
-with the radial factor (a/r)^(n+2) folded in; the per-point factors sin, cos and a/r and the
-derivative dP/dtheta are moved past the coefficient sums, so that the inner sums are one
-matrix product per order m.
+segment and processed in chunks of 4096 points. Inside a chunk the loop runs over order m
+and degree n only; every operation works on all points of the chunk at once. The Legendre
+functions are built by the standard stable three-term recursion in n for each m, seeded by
+the sectoral recursion in m. Functions with m >= 1 are carried divided by sin(theta) (finite
+at the geographic poles) and with the radial factor (a/r)^(n+2) folded in; the per-point
+factors sin, cos and a/r and the derivative dP/dtheta are moved past the coefficient sums, so
+that the inner sums are one small matrix product per order m.
 """
 
 from __future__ import annotations
@@ -198,12 +198,14 @@ def _recursion(nmax: int) -> _Recursion:
 def _weights(model: SphericalHarmonicModel, segment: int) -> tuple[NDArray[np.float64], ...]:
     """Per-order coefficient matrices of one time segment against the scaled table.
 
-    Entry m = 0: shape (P1, nmax) on rows n = 1..nmax, giving Z' (m = 0 part).
-    Entry m >= 1: shape (8 P1 [+ P1 for m = 1], nmax + 1 - m); the first 4 P1 rows are taken
-    times cos(m lon), the next 4 P1 rows times sin(m lon), for the output groups
-    0 Z' [times sin theta], 1 X' [times cos theta], 2 X' [times a/r], 3 Y' [times 1];
-    for m = 1 the last P1 rows give the m = 0 derivative part of X' [times sin theta].
-    Signs are folded in so that every group is added.
+    Each entry is ``(trig_first, w, w_xs)``. For m = 0, ``w`` has shape (P1, nmax) on rows
+    n = 1..nmax and gives Z' (m = 0 part). For m >= 1 the output groups are
+    0 Z' [times sin theta], 1 X' [times cos theta], 2 X' [times a/r], 3 Y' [times 1], each
+    with P1 rows (time-polynomial coefficients). With ``trig_first`` ``w`` has shape
+    (4 P1, 2 L) against the table rows times cos(m lon) stacked over the rows times
+    sin(m lon); otherwise (8 P1, L), the first 4 P1 rows to be taken times cos(m lon), the
+    next times sin(m lon). For m = 1, ``w_xs`` (P1, L) gives the m = 0 derivative part of X'
+    [times sin theta]. Signs are folded in so that every group is added.
     """
     cache = model._cache
     key = ("weights", segment)
@@ -219,7 +221,7 @@ def _weights(model: SphericalHarmonicModel, segment: int) -> tuple[NDArray[np.fl
         gi = np.array([coefficient_index(int(k), m, "g") for k in n], dtype=np.intp)
         if m == 0:
             # Z' = -Br = -(n+1) g_n0 (a/r)^(n+2) P_n0
-            out.append(np.ascontiguousarray(-coef[:, gi] * ((n + 1) * scale[1:])))
+            out.append((False, np.ascontiguousarray(-coef[:, gi] * ((n + 1) * scale[1:])), None))
             continue
         hi = gi + 1
         g = coef[:, gi] * scale
@@ -231,19 +233,31 @@ def _weights(model: SphericalHarmonicModel, segment: int) -> tuple[NDArray[np.fl
         hs = np.zeros_like(h)
         gs[:, :-1] = coef[:, gi[1:]] * gamma_next
         hs[:, :-1] = coef[:, hi[1:]] * gamma_next
-        blocks = [-g * (n + 1), g * n, -gs, -h * m, -h * (n + 1), h * n, -hs, g * m]
+        cos_part = np.concatenate([-g * (n + 1), g * n, -gs, -h * m])
+        sin_part = np.concatenate([-h * (n + 1), h * n, -hs, g * m])
+        xs = None
         if m == 1:
             g0 = np.array([coefficient_index(int(k), 0, "g") for k in n], dtype=np.intp)
             # dP_n0/dtheta = -sqrt(n(n+1)/2) sin(theta) Q_n1
-            blocks.append(-coef[:, g0] * (np.sqrt(n * (n + 1) / 2.0) * scale))
-        out.append(np.ascontiguousarray(np.concatenate(blocks)))
+            xs = -coef[:, g0] * (np.sqrt(n * (n + 1) / 2.0) * scale)
+        if len(n) <= _TRIG_FIRST_ROWS:
+            # short columns: multiply the table by cos/sin first, then one product
+            out.append((True, np.ascontiguousarray(np.hstack([cos_part, sin_part])), xs))
+        else:
+            out.append((False, np.ascontiguousarray(np.vstack([cos_part, sin_part])), xs))
     result = tuple(out)
     cache[key] = result
     return result
 
 
+#: Orders whose Legendre column has at most this many rows take the trig-first path.
+_TRIG_FIRST_ROWS = 24
+
+
 def _chunk_size(nmax: int) -> int:
-    return 16384
+    # 4096 points keep the per-order products small enough that a multithreaded BLAS does
+    # not lose time to thread start-up on a busy machine, and the table in cache.
+    return 4096
 
 
 def _synth_chunk(
@@ -267,6 +281,7 @@ def _synth_chunk(
     half = 4 * p1
     c_pts = cos_t.shape[0]
     table = np.empty((nmax + 1, c_pts))
+    trig = np.empty((2 * min(nmax + 1, _TRIG_FIRST_ROWS), c_pts))
     tmp = np.empty(c_pts)
     u = cos_t * rho
     v = rho * rho
@@ -297,17 +312,23 @@ def _synth_chunk(
             np.multiply(v, t[k - 2], out=tmp)
             tmp *= b[k]
             t[k] -= tmp
+        trig_first, w, w_xs = weights[m]
         if m == 0:
-            z0 = weights[0] @ t[1:]
+            z0 = w @ t[1:]
             continue
-        res = weights[m] @ t
-        if m == 1:
-            xs = res[2 * half :]
+        if w_xs is not None:
+            xs = w_xs @ t
         cos_m, sin_m = cos_m * cos_lon - sin_m * sin_lon, sin_m * cos_lon + cos_m * sin_lon
+        if trig_first:
+            np.multiply(t, cos_m, out=trig[:length])
+            np.multiply(t, sin_m, out=trig[length : 2 * length])
+            acc += w @ trig[: 2 * length]
+            continue
+        res = w @ t
         part = res[:half]
         part *= cos_m
         acc += part
-        part = res[half : 2 * half]
+        part = res[half:]
         part *= sin_m
         acc += part
     acc = acc.reshape(4, p1, c_pts)
