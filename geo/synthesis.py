@@ -32,6 +32,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
+from threadpoolctl import threadpool_limits
 
 #: Reference radius of the spherical-harmonic expansion, km (IGRF, WMM, gufm1).
 REFERENCE_RADIUS_KM = 6371.2
@@ -339,6 +340,10 @@ def _synth_chunk(
     return north, acc[3], down
 
 
+#: From this many points on, synthesis runs BLAS on one thread (see :func:`synthesize`).
+_SINGLE_THREAD_FROM = 4096
+
+
 def synthesize(
     model: SphericalHarmonicModel,
     *,
@@ -356,6 +361,25 @@ def synthesize(
     shape. No range checking: years outside the model are evaluated on the nearest segment's
     polynomial (callers check the interval; see :mod:`geo.magnetic`).
     """
+    size = np.broadcast_shapes(
+        np.shape(lat_deg), np.shape(lon_deg), np.shape(height_m), np.shape(year)
+    )
+    if int(np.prod(size)) < _SINGLE_THREAD_FROM:
+        return _synthesize(model, lat_deg, lon_deg, height_m, year, chunk_size)
+    # Many medium-sized matrix products: a multi-threaded BLAS spends more time waking its
+    # threads than computing (measured 3-6x slower on two loaded cores), so run on one.
+    with threadpool_limits(limits=1, user_api="blas"):
+        return _synthesize(model, lat_deg, lon_deg, height_m, year, chunk_size)
+
+
+def _synthesize(
+    model: SphericalHarmonicModel,
+    lat_deg: ArrayLike,
+    lon_deg: ArrayLike,
+    height_m: ArrayLike,
+    year: ArrayLike,
+    chunk_size: int | None,
+) -> FieldComponents:
     lat, lon, hgt, yr = np.broadcast_arrays(
         np.asarray(lat_deg, dtype=float),
         np.asarray(lon_deg, dtype=float),
