@@ -51,8 +51,7 @@ def load_workspace(path: Path | None) -> Workspace:
     if not path.exists():
         return Workspace(doc=new_document(), path=path)
     doc = document_to_dict(load_document(path, check=False))
-    if not doc.get("course"):
-        doc = {**doc, "course": [{"call": ""}]}
+    doc["course"] = [dict(c) for c in doc.get("course") or ()] or [{"call": ""}]
     return Workspace(doc=doc, path=path)
 
 
@@ -354,8 +353,9 @@ class LodelineApp(App[int]):
         if old != path:
             discard_recovery(old)
         desk = self.desk
-        desk.recompute()
-        problems = desk.results.problem_count if desk.results else 0
+        desk._update_docbar()
+        current = desk.results is not None and desk.applied[0] == ws.revision
+        problems = desk.results.problem_count if current else 0
         note = (
             f" ({problems} problem{'s' if problems != 1 else ''} still marked ✗)"
             if problems

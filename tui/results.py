@@ -15,13 +15,13 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 
-from geo.errors import LodelineError
+from geo.errors import DocumentError, LodelineError
 from tui.widgets.call_table import CallRow
 from tui.widgets.sketch import NorthMark, SketchFigure
 from tui.workspace import course_call_text, is_blank_course
@@ -53,6 +53,16 @@ class Results:
     problem_count: int = 0
     document: Any = None
     conversion: Any = None
+    #: Table row of each document course (blank rows are not part of the document).
+    kept: list[int] = field(default_factory=list)
+    #: 0-based document course of the first call that does not read, if any.
+    first_bad: int | None = None
+    #: True when every panel holds its final text (the closure stage has run).
+    final: bool = False
+
+
+#: The findings panels, in the order the desk shows them.
+PANEL_KEYS = ("field", "grid", "closure", "attraction", "fit")
 
 
 def _idle(text: str) -> PanelText:
@@ -82,35 +92,51 @@ def _deg(value: float | None, precision: float = 1.0 / 60.0) -> str:
     return format_declination(value, precision=precision)
 
 
+def plain_rows(data: Mapping[str, Any]) -> list[CallRow]:
+    """The rows of the table before any computation: calls as typed, blank rows marked."""
+    rows = []
+    for c in data.get("course") or []:
+        blank = is_blank_course(c)
+        rows.append(
+            CallRow(
+                MARK_BLANK if blank else "",
+                course_call_text(c),
+                "",
+                "",
+                "",
+                "",
+                "",
+                str(c.get("back", "")),
+                "empty: type a call (blank courses are not saved)" if blank else "",
+            )
+        )
+    return rows
+
+
 def compute_results(data: Mapping[str, Any], *, path: Path | None = None) -> Results:
-    """Compute and format everything the desk shows for document ``data``."""
+    """Compute and format everything the desk shows for document ``data`` (both stages)."""
+    return closure_stage(conversion_stage(data, path=path))
+
+
+def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Results:
+    """The first stage: check the document, convert every course (one vectorised
+    :func:`geo.north.convert_document`), and the field, grid and sketch. The closure panels
+    say they are being computed; :func:`closure_stage` fills them."""
     from geo.document import document_from_dict, document_problems
 
     file = path.name if path else None
     raw = list(data.get("course") or [])
-    blank = [is_blank_course(c) for c in raw]
-    rows: list[CallRow] = [
-        CallRow(
-            MARK_BLANK if b else "",
-            course_call_text(c),
-            "",
-            "",
-            "",
-            "",
-            "",
-            str(c.get("back", "")),
-            "empty: type a call (blank courses are not saved)" if b else "",
-        )
-        for c, b in zip(raw, blank, strict=True)
-    ]
-    kept = [i for i, b in enumerate(blank) if not b]  # document course k -> table row kept[k]
+    rows = plain_rows(data)
+    kept = [i for i, c in enumerate(raw) if not is_blank_course(c)]  # course k -> row kept[k]
     clean = {**data, "course": [raw[i] for i in kept]}
     results = Results(rows=rows, panels={})
+    results.kept = kept
 
     def fail_all(message: str) -> Results:
-        for key in ("field", "grid", "closure", "attraction", "fit"):
+        for key in PANEL_KEYS:
             results.panels[key] = PanelText(error=message)
         results.sketch_message = message
+        results.final = True
         return results
 
     try:
@@ -124,40 +150,49 @@ def compute_results(data: Mapping[str, Any], *, path: Path | None = None) -> Res
             results.invalid_settings.add(err.field)
         return fail_all(str(err))
     results.document = doc
-
-    problems = document_problems(doc, file=file)
-    first_bad: int | None = None
-    for err in problems:
-        if err.course is not None:
-            row = kept[err.course - 1]
-            where = f"'{err.field}': " if err.field and err.field != "call" else ""
-            rows[row] = _replace(
-                rows[row], mark=MARK_BAD, message=f"{MARK_BAD} {where}{err.message}"
-            )
-            first_bad = err.course - 1 if first_bad is None else min(first_bad, err.course - 1)
-        elif err.field:
-            results.invalid_settings.add(err.field)
-    results.problem_count = len(problems)
-    record_problems = [e for e in problems if e.course is None]
     results.crs_hint = _crs_hint(doc)
-    if record_problems:
-        return fail_all(str(record_problems[0]))
-
-    usable = doc if first_bad is None else doc.model_copy(update={"course": doc.course[:first_bad]})
     from geo.north import convert_document
 
+    usable = doc
     try:
+        # the common case: everything reads, and the conversion parses every course itself
         conv = convert_document(usable, file=file)
-    except LodelineError as err:
-        if err.course is not None and err.course - 1 < len(kept):
-            row = kept[err.course - 1]
-            rows[row] = _replace(rows[row], mark=MARK_BAD, message=f"{MARK_BAD} {err.message}")
-        if err.field and err.course is None:
-            results.invalid_settings.add(err.field)
-        results.problem_count += 1
-        return fail_all(str(err))
-    except ImportError as err:
-        return fail_all(f"not available in this build: {err}")
+    except LodelineError as first_error:
+        problems = document_problems(doc, file=file)
+        first_bad: int | None = None
+        for err in problems:
+            if err.course is not None:
+                row = kept[err.course - 1]
+                where = f"'{err.field}': " if err.field and err.field != "call" else ""
+                rows[row] = _replace(
+                    rows[row], mark=MARK_BAD, message=f"{MARK_BAD} {where}{err.message}"
+                )
+                first_bad = err.course - 1 if first_bad is None else min(first_bad, err.course - 1)
+            elif err.field:
+                results.invalid_settings.add(err.field)
+        results.problem_count = len(problems)
+        record_problems = [e for e in problems if e.course is None]
+        if record_problems:
+            return fail_all(str(record_problems[0]))
+        results.first_bad = first_bad
+        if first_bad is not None:
+            usable = doc.model_copy(update={"course": doc.course[:first_bad]})
+        try:
+            if first_bad is None:
+                raise first_error
+            conv = convert_document(usable, file=file)
+        except LodelineError as err:
+            if (
+                isinstance(err, DocumentError)
+                and err.course is not None
+                and err.course <= len(kept)
+            ):
+                row = kept[err.course - 1]
+                rows[row] = _replace(rows[row], mark=MARK_BAD, message=f"{MARK_BAD} {err.message}")
+            if err.field and err.course is None:
+                results.invalid_settings.add(err.field)
+            results.problem_count = max(results.problem_count, 1)
+            return fail_all(str(err))
     results.conversion = conv
     for k, c in enumerate(conv.courses):
         row = kept[k]
@@ -175,21 +210,38 @@ def compute_results(data: Mapping[str, Any], *, path: Path | None = None) -> Res
         )
     results.panels["field"] = _panel(lambda: _field_panel(conv))
     results.panels["grid"] = _panel(lambda: _grid_panel(conv))
-    if first_bad is not None:
-        bad = f"course {kept[first_bad] + 1} does not read yet; the closure waits for it"
+    if results.first_bad is not None:
+        bad = f"course {kept[results.first_bad] + 1} does not read yet; the closure waits for it"
         for key in ("closure", "attraction", "fit"):
             results.panels[key] = _idle(bad)
+        results.final = True
     else:
-        results.panels["closure"] = _panel(lambda: _closure_panel(conv))
-        results.panels["attraction"] = _panel(lambda: _attraction_panel(conv))
-        results.panels["fit"] = _panel(lambda: _fit_panel(conv))
+        for key in ("closure", "attraction", "fit"):
+            results.panels[key] = _idle("computing…")
     results.sketch, results.sketch_message = _sketch(conv)
     return results
 
 
-def _replace(row: CallRow, **changes: Any) -> CallRow:
-    from dataclasses import replace
+def closure_stage(results: Results) -> Results:
+    """The second stage: closure, local attraction and fit of a converted document
+    (:func:`geo.survey.close_document`, :func:`geo.survey.fit_document`)."""
+    if results.final or results.conversion is None:
+        results.final = True
+        return results
+    conv = results.conversion
+    panels = dict(results.panels)
+    try:
+        closure = _closure(conv)
+    except LodelineError as err:
+        panels["closure"] = panels["attraction"] = PanelText(error=str(err))
+    else:
+        panels["closure"] = _panel(lambda: _closure_panel(closure))
+        panels["attraction"] = _panel(lambda: _attraction_panel(closure))
+    panels["fit"] = _panel(lambda: _fit_panel(conv))
+    return replace(results, panels=panels, final=True)
 
+
+def _replace(row: CallRow, **changes: Any) -> CallRow:
     return replace(row, **changes)
 
 
@@ -274,82 +326,83 @@ def _grid_panel(conv: Any) -> PanelText:
     )
 
 
-def _courses_true(conv: Any) -> tuple[np.ndarray, np.ndarray]:
-    az = np.array([c.azimuth.true for c in conv.courses], dtype=float)
-    length = np.array([c.length_m for c in conv.courses], dtype=float)
-    return az, length
+def _closure(conv: Any) -> Any:
+    """The closure of the converted document (geo.survey.close_document), true north."""
+    from geo.survey import close_document
+
+    return close_document(conv, north="true")
 
 
-def _closure_panel(conv: Any) -> PanelText:
-    """Misclosure, precision and compass-rule area (geo.traverse)."""
-    from geo.bearings import format_bearing
-    from geo.traverse import adjust, figure_area
-
-    if not conv.document.closed:
+def _closure_panel(closure: Any) -> PanelText:
+    """Misclosure, precision and area from the closure."""
+    if not closure.closed:
         return _idle("open traverse (closed = false): no misclosure or area")
-    if not conv.courses:
-        return _idle("no courses yet")
-    az, length = _courses_true(conv)
-    adj = adjust(az, length, method="compass")
-    clo = adj.closure
-    lines = [f"perimeter {clo.perimeter_m:,.2f} m"]
-    if clo.misclosure_azimuth_deg is None:
+    lines = [f"perimeter {closure.perimeter_m:,.2f} m"]
+    if closure.misclosure_bearing is None:
         lines.append("misclosure 0 m (closes exactly)")
     else:
-        lines.append(f"misclosure {clo.misclosure_m:,.3f} m")
-        lines.append(
-            f"  toward {format_bearing(clo.misclosure_azimuth_deg, precision=1.0 / 60.0)} true"
-        )
-        lines.append(f"precision 1:{clo.precision:,.0f}")
-    foot = conv.document.record.foot or "us"
-    try:
-        area = figure_area(adj.north_m, adj.east_m, foot=foot)
-    except LodelineError as err:
-        lines.append(f"area: ⚠ {err.message}")
-    else:
+        lines.append(f"misclosure {closure.misclosure_m:,.3f} m")
+        lines.append(f"  toward {closure.misclosure_bearing} true")
+        lines.append(f"precision 1:{closure.precision:,.0f}")
+    area = closure.area
+    if area is not None:
         lines.append(f"area {area.acres:,.3f} acres")
-        lines.append(f"  {area.hectares:,.4f} ha, {area.area_m2:,.1f} m²")
-        lines.append("  ground area, compass rule")
+        lines.append(f"  {area.hectares:,.4f} ha, {area.ground_m2:,.1f} m²")
+        lines.append(f"  ground; grid {area.grid_m2:,.1f} m²")
+        lines.append(f"  {closure.adjustment} rule")
+    if closure.crossing is not None:
+        a, b = closure.crossing
+        lines.append(f"! courses {a} and {b} cross: no area")
+    if closure.angles is not None:
+        lines.append(f"angular misclosure {closure.angles.misclosure_deg * 3600:+.0f}″")
+    lines += [f"note: {n}" for n in closure.notes]
     return PanelText(tuple(lines))
 
 
-def _attraction_panel(conv: Any) -> PanelText:
-    """Fore and back bearings compared at each station (geo.traverse.local_attraction)."""
+def _attraction_panel(closure: Any) -> PanelText:
+    """Fore and back bearings compared at each station, from the closure."""
     from geo.bearings import format_declination
-    from geo.traverse import local_attraction
 
-    backs = [c.recorded.back_azimuth_deg for c in conv.courses]
-    if all(b is None for b in backs):
+    la = closure.attraction
+    if la is None:
         return _idle("no back bearings in the document")
-    fore = np.array([c.recorded.azimuth_deg for c in conv.courses], dtype=float)
-    back = np.array([np.nan if b is None else b for b in backs], dtype=float)
-    tolerance = max(c.recorded.precision_deg for c in conv.courses)
-    la = local_attraction(fore, back, closed=bool(conv.document.closed), tolerance_deg=tolerance)
     lines = [f"course {la.start_course} agrees best (free)"]
-    for station, corr in zip(la.stations, la.correction_deg, strict=True):
-        if station in la.disturbed_stations and math.isfinite(corr):
+    for st in la.stations:
+        if st.disturbed and st.correction_deg is not None:
             lines.append(
-                f"! station {station} disturbed:"
-                f" add {format_declination(float(corr), precision=1.0 / 60.0)}"
+                f"! station {st.station} disturbed:"
+                f" add {format_declination(st.correction_deg, precision=1.0 / 60.0)}"
             )
     if not la.disturbed_stations:
-        lines.append(f"no station off by > {tolerance * 60:.0f}′")
-    unreached = [
-        s for s, c in zip(la.stations, la.correction_deg, strict=True) if not math.isfinite(c)
-    ]
+        lines.append(f"no station off by > {la.tolerance_deg * 60:.0f}′")
+    unreached = [str(st.station) for st in la.stations if st.correction_deg is None]
     if unreached:
-        lines.append(f"not reached: station {', '.join(map(str, unreached))}")
+        lines.append(f"not reached: station {', '.join(unreached)}")
     return PanelText(tuple(lines))
 
 
 def _fit_panel(conv: Any) -> PanelText:
-    """The record-to-found fit (waits for found positions)."""
-    found = sum(1 for c in conv.courses if c.found is not None) + int(conv.place_by_grid)
+    """The record-to-found fit (geo.survey.fit_document)."""
+    from geo.survey import fit_document, found_count
+
+    found = found_count(conv)
     if found < 2:
         return _idle(f"needs found positions on two or more stations ({found} given)")
-    from geo import retrace
-
-    return PanelText(tuple(retrace.fit_lines(conv)))
+    fit = fit_document(conv)
+    lines = [
+        f"rotation {fit.rotation_deg:+.4f}° (record → grid)",
+        f"scale {fit.scale:.6f}" + (" (exact: 2 stations)" if fit.exact else ""),
+        f"rms {fit.rms_m:.3f} m over {len(fit.residuals)} stations",
+    ]
+    if fit.empirical_declination_deg is not None:
+        lines.append(f"empirical D {_deg(fit.empirical_declination_deg)}")
+    if fit.model_declination_deg is not None:
+        lines.append(f"model D {_deg(fit.model_declination_deg)} ({fit.model})")
+    if fit.record_length_factor is not None:
+        lines.append(f"record length factor {fit.record_length_factor:.5f}")
+    lines += [f"  station {r.index}: {r.east_m:+.2f} E {r.north_m:+.2f} N m" for r in fit.residuals]
+    lines += [f"note: {n}" for n in fit.notes]
+    return PanelText(tuple(lines))
 
 
 # -- sketch ----------------------------------------------------------------------------------

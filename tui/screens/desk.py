@@ -15,6 +15,7 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
+from textual import work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
@@ -22,10 +23,11 @@ from textual.reactive import reactive
 from textual.screen import Screen
 from textual.timer import Timer
 from textual.widgets import Footer, Static
+from textual.worker import get_current_worker
 
-from tui.results import Results, compute_results
+from tui.results import Results, closure_stage, conversion_stage, plain_rows
 from tui.widgets.call_table import CallEditor, CallTable
-from tui.widgets.findings import FindingsPanel
+from tui.widgets.findings import FindingsPanel, set_text
 from tui.widgets.job_form import JobForm
 from tui.widgets.sketch import TraverseSketch
 from tui.workspace import COURSE_FIELDS, course_call_text
@@ -91,6 +93,8 @@ class Desk(Screen):
         self._recovery_timer: Timer | None = None
         self.results: Results | None = None
         self._editor_session = 0
+        #: (revision, final) of the results shown last.
+        self.applied: tuple[int, bool] = (-1, False)
 
     @property
     def lode(self) -> LodelineApp:
@@ -170,7 +174,11 @@ class Desk(Screen):
     # -- data flow -----------------------------------------------------------------------
     def reload(self) -> None:
         """Show the workspace's document afresh (after open, undo, redo, restore)."""
-        self.query_one(JobForm).load(self.lode.workspace.doc)
+        ws = self.lode.workspace
+        self.query_one(JobForm).load(ws.doc)
+        table = self.query_one(CallTable)
+        if table.row_count != len(ws.courses):
+            table.show_rows(plain_rows(ws.doc))  # the calls at once; the numbers follow
         self.recompute()
         editor = self.query_one(CallEditor)
         courses = self.lode.workspace.courses
@@ -195,11 +203,38 @@ class Desk(Screen):
             self._recovery_timer.stop()
         self._recovery_timer = self.set_timer(1.0, self.lode.keep_recovery)
 
-    def recompute(self) -> None:
-        """Recompute every finding from the document and show it."""
+    def recompute(self, *, wait: bool = False) -> None:
+        """Recompute every finding from the document and show it.
+
+        The work runs in a thread (the keyboard stays live): the conversion first, shown at
+        once, then the closure. ``wait=True`` computes here and now (tests, the bench).
+        """
         self._timer = None
         ws = self.lode.workspace
-        results = compute_results(ws.doc, path=ws.path)
+        if wait:
+            first = conversion_stage(ws.doc, path=ws.path)
+            self._apply(first, ws.revision)
+            self._apply(closure_stage(first), ws.revision)
+            return
+        self._compute(ws.doc, ws.path, ws.revision)
+
+    @work(thread=True, exclusive=True, group="compute")
+    def _compute(self, doc: dict, path, revision: int) -> None:
+        worker = get_current_worker()
+        first = conversion_stage(doc, path=path)
+        if worker.is_cancelled:
+            return
+        self.app.call_from_thread(self._apply, first, revision)
+        if first.final:
+            return
+        final = closure_stage(first)
+        if not worker.is_cancelled:
+            self.app.call_from_thread(self._apply, final, revision)
+
+    def _apply(self, results: Results, revision: int) -> None:
+        """Show ``results`` if they belong to the document as it is now."""
+        if revision != self.lode.workspace.revision:
+            return
         self.results = results
         self.query_one(CallTable).show_rows(results.rows)
         for key, _title in PANELS:
@@ -209,12 +244,13 @@ class Desk(Screen):
         sketch = self.query_one(TraverseSketch)
         sketch.show_figure(results.sketch, results.sketch_message)
         key = TraverseSketch.key_text(results.sketch) if results.sketch else ""
-        self.query_one("#sketch-key", Static).update(key)
+        set_text(self.query_one("#sketch-key", Static), key)
         form = self.query_one(JobForm)
         form.mark_invalid(results.invalid_settings)
         form.show_crs_hint(results.crs_hint)
         self._show_row_message()
         self._update_docbar()
+        self.applied = (revision, results.final)
 
     def _update_docbar(self) -> None:
         ws = self.lode.workspace
@@ -225,8 +261,9 @@ class Desk(Screen):
             n = self.results.problem_count
             problems = f" · ✗ {n} problem{'s' if n != 1 else ''}"
         title = ws.doc.get("title") or ""
-        self.query_one("#docbar", Static).update(
-            f"lodeline · {name} · {state}{problems} · {title}   (F1 keys)"
+        set_text(
+            self.query_one("#docbar", Static),
+            f"lodeline · {name} · {state}{problems} · {title}   (F1 keys)",
         )
 
     def _show_row_message(self) -> None:
@@ -297,20 +334,31 @@ class Desk(Screen):
     def on_call_table_structure_requested(self, event: CallTable.StructureRequested) -> None:
         ws = self.lode.workspace
         table = self.query_one(CallTable)
+        rows = list(self.results.rows) if self.results else plain_rows(ws.doc)
+        fresh = plain_rows({"course": [{"call": ""}]})[0]
         if event.action == "insert":
             ws.insert_course(event.index)
-            self.recompute()
-            table.move_cursor(row=event.index, animate=False)
-            self.open_editor(event.index, "call")
+            rows.insert(event.index, fresh)
+            target = event.index
         elif event.action == "delete":
             ws.delete_course(event.index)
+            del rows[event.index]
             if not ws.courses:
                 ws.insert_course(0)
-            self.recompute()
-        elif event.action == "move":
-            new = ws.move_course(event.index, event.delta)
-            self.recompute()
-            table.move_cursor(row=new, animate=False)
+                rows = [fresh]
+            target = min(event.index, len(rows) - 1)
+        else:
+            target = ws.move_course(event.index, event.delta)
+            if target != event.index:
+                rows.insert(target, rows.pop(event.index))
+        if len(rows) != len(ws.courses):  # a mismatch should not happen; show the calls
+            rows = plain_rows(ws.doc)
+        table.show_rows(rows)  # the table changes at once; the numbers follow
+        table.move_cursor(row=target, animate=False)
+        self.recompute()
+        self._update_docbar()
+        if event.action == "insert":
+            self.open_editor(event.index, "call")
         self._schedule_recovery()
 
     def on_job_form_changed(self, event: JobForm.Changed) -> None:

@@ -14,11 +14,19 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 
+from rich.segment import Segment
+from textual import events
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
+from textual.geometry import Size
 from textual.message import Message
-from textual.widgets import DataTable, Input, Label, Static
+from textual.reactive import reactive
+from textual.scroll_view import ScrollView
+from textual.strip import Strip
+from textual.widgets import Input, Label, Static
+
+from tui.widgets.findings import set_text
 
 #: Column keys and headings of the call table.
 COLUMNS: tuple[tuple[str, str], ...] = (
@@ -75,8 +83,13 @@ class CallRow:
         )
 
 
-class CallTable(DataTable):
-    """The courses of the traverse, one per row."""
+class CallTable(ScrollView, can_focus=True):
+    """The courses of the traverse, one per row, with a row cursor.
+
+    Drawn line by line (Textual's line API) from plain text cells: a keystroke that changes
+    a few bearings repaints only the lines that changed, and a 5,000-course document costs
+    no more to show than the rows on the screen. The heading stays at the top.
+    """
 
     BINDINGS = [
         Binding("enter", "edit('call')", "Edit call"),
@@ -89,7 +102,43 @@ class CallTable(DataTable):
         Binding("f", "edit('found')", "Found position", show=False),
         Binding("e", "edit('every')", "Every", show=False),
         Binding("n", "edit('note')", "Note", show=False),
+        Binding("up", "cursor(-1)", "Previous course", show=False),
+        Binding("down", "cursor(1)", "Next course", show=False),
+        Binding("pageup", "page(-1)", "Page up", show=False),
+        Binding("pagedown", "page(1)", "Page down", show=False),
+        Binding("home", "first", "First course", show=False),
+        Binding("end", "last", "Last course", show=False),
+        Binding("left", "scroll_left", "Scroll left", show=False),
+        Binding("right", "scroll_right", "Scroll right", show=False),
     ]
+
+    COMPONENT_CLASSES = {
+        "call-table--header",
+        "call-table--cursor",
+        "call-table--alt",
+        "call-table--bad",
+    }
+
+    DEFAULT_CSS = """
+    CallTable { background: $surface; }
+    CallTable > .call-table--header { text-style: bold; background: $panel; }
+    CallTable > .call-table--cursor { background: $block-cursor-background;
+                                      color: $block-cursor-foreground; text-style: bold; }
+    CallTable:blur > .call-table--cursor { background: $block-cursor-blurred-background;
+                                           text-style: none; }
+    CallTable > .call-table--alt { background: $surface-lighten-1; }
+    CallTable > .call-table--bad { text-style: bold; }
+    """
+
+    #: The 0-based row under the cursor.
+    cursor_row: reactive[int] = reactive(0)
+
+    class RowHighlighted(Message):
+        """The cursor moved to row ``cursor_row`` (0-based)."""
+
+        def __init__(self, cursor_row: int) -> None:
+            super().__init__()
+            self.cursor_row = cursor_row
 
     class EditRequested(Message):
         """The user asked to edit ``field`` of the course at ``index`` (0-based)."""
@@ -109,40 +158,141 @@ class CallTable(DataTable):
             self.delta = delta
 
     def __init__(self, *, id: str | None = None) -> None:
-        super().__init__(id=id, cursor_type="row", zebra_stripes=True)
-        self._shown: list[tuple[str, ...]] = []
-
-    def on_mount(self) -> None:
-        for key, heading in COLUMNS:
-            self.add_column(heading, key=key)
+        super().__init__(id=id)
+        self._rows: list[tuple[str, ...]] = []
+        self._bad: list[bool] = []
+        self._widths = [len(h) for _k, h in COLUMNS]
+        self._cache: dict[tuple, Strip] = {}
 
     # -- data ----------------------------------------------------------------------------
     def show_rows(self, rows: Sequence[CallRow]) -> None:
-        """Show ``rows``, changing only the cells whose text changed."""
+        """Show ``rows``; only the lines whose text changed are repainted."""
         new = [row.cells(i + 1) for i, row in enumerate(rows)]
-        old = self._shown
-        if len(new) != len(old):
-            cursor = self.cursor_row
-            self.clear()
-            self.add_rows(new)
-            if new:
-                self.move_cursor(row=min(max(cursor, 0), len(new) - 1), animate=False)
+        bad = [row.mark == "✗" for row in rows]
+        widths = [len(h) for _k, h in COLUMNS]
+        for cells in new:
+            for c, text in enumerate(cells):
+                if len(text) > widths[c]:
+                    widths[c] = len(text)
+        relayout = widths != self._widths or len(new) != len(self._rows)
+        changed = [
+            r
+            for r in range(min(len(new), len(self._rows)))
+            if new[r] != self._rows[r] or bad[r] != self._bad[r]
+        ]
+        self._rows, self._bad, self._widths = new, bad, widths
+        if relayout:
+            self._cache.clear()
+            self.virtual_size = Size(self._total_width(), len(new) + 1)
+            if new and self.cursor_row >= len(new):
+                self.cursor_row = len(new) - 1
+            self.refresh()
         else:
-            for r, (a, b) in enumerate(zip(old, new, strict=True)):
-                if a != b:
-                    for c, (x, y) in enumerate(zip(a, b, strict=True)):
-                        if x != y:
-                            self.update_cell_at((r, c), y, update_width=True)
-        self._shown = new
+            top = int(self.scroll_offset.y)
+            for r in changed:
+                if top <= r < top + self.size.height:
+                    self.refresh_line(r - top + 1)
+
+    @property
+    def row_count(self) -> int:
+        return len(self._rows)
 
     @property
     def current_index(self) -> int:
         """The 0-based course under the cursor (0 for an empty table)."""
-        return max(self.cursor_row, 0)
+        return max(min(self.cursor_row, len(self._rows) - 1), 0)
+
+    def get_row_at(self, index: int) -> tuple[str, ...]:
+        """The cells of row ``index`` as shown."""
+        return self._rows[index]
+
+    def move_cursor(self, *, row: int, animate: bool = False) -> None:
+        """Put the cursor on ``row`` (clamped to the table)."""
+        if self._rows:
+            self.cursor_row = max(0, min(row, len(self._rows) - 1))
+
+    # -- drawing -------------------------------------------------------------------------
+    def _total_width(self) -> int:
+        return sum(w + 2 for w in self._widths)
+
+    def notify_style_update(self) -> None:
+        super().notify_style_update()
+        self._cache.clear()
+
+    def _line_text(self, cells: tuple[str, ...]) -> str:
+        parts = []
+        for c, (text, width) in enumerate(zip(cells, self._widths, strict=True)):
+            parts.append(" " + (text.rjust(width) if c == 0 else text.ljust(width)) + " ")
+        return "".join(parts)
+
+    def render_line(self, y: int) -> Strip:
+        width = self.size.width
+        scroll_x = int(self.scroll_offset.x)
+        if y == 0:
+            key: tuple = ("header", width, scroll_x, tuple(self._widths))
+            style = self.get_component_rich_style("call-table--header")
+            text = self._line_text(tuple(h for _k, h in COLUMNS))
+        else:
+            r = int(self.scroll_offset.y) + y - 1
+            if r >= len(self._rows):
+                return Strip.blank(width, self.rich_style)
+            cursor = r == self.cursor_row
+            key = (r, self._rows[r], self._bad[r], cursor, width, scroll_x)
+            cached = self._cache.get(key)
+            if cached is not None:
+                return cached
+            style = self.rich_style
+            if r % 2 == 1:
+                style = style + self.get_component_rich_style("call-table--alt")
+            if self._bad[r]:
+                style = style + self.get_component_rich_style("call-table--bad")
+            if cursor:
+                style = style + self.get_component_rich_style("call-table--cursor")
+            text = self._line_text(self._rows[r])
+            if cursor:  # the cursor reads without colour too
+                text = "▸" + text[1:]
+        cached = self._cache.get(key)
+        if cached is not None:
+            return cached
+        strip = Strip([Segment(text, style)]).crop_extend(scroll_x, scroll_x + width, style)
+        if len(self._cache) > 4000:
+            self._cache.clear()
+        self._cache[key] = strip
+        return strip
+
+    # -- cursor --------------------------------------------------------------------------
+    def watch_cursor_row(self, old: int, new: int) -> None:
+        top = int(self.scroll_offset.y)
+        body = max(self.size.height - 1, 1)
+        if new < top:
+            self.scroll_to(y=new, animate=False)
+        elif new >= top + body:
+            self.scroll_to(y=new - body + 1, animate=False)
+        else:
+            for r in (old, new):
+                if top <= r < top + body:
+                    self.refresh_line(r - top + 1)
+        self.post_message(self.RowHighlighted(new))
+
+    def action_cursor(self, delta: int) -> None:
+        self.move_cursor(row=self.cursor_row + delta)
+
+    def action_page(self, direction: int) -> None:
+        self.move_cursor(row=self.cursor_row + direction * max(self.size.height - 2, 1))
+
+    def action_first(self) -> None:
+        self.move_cursor(row=0)
+
+    def action_last(self) -> None:
+        self.move_cursor(row=len(self._rows) - 1)
+
+    def on_click(self, event: events.Click) -> None:
+        if event.y >= 1:
+            self.move_cursor(row=int(self.scroll_offset.y) + event.y - 1)
 
     # -- actions -------------------------------------------------------------------------
     def action_edit(self, field: str) -> None:
-        if self.row_count:
+        if self._rows:
             self.post_message(self.EditRequested(self.current_index, field))
 
     def action_add_after(self) -> None:
@@ -152,11 +302,11 @@ class CallTable(DataTable):
         self.post_message(self.StructureRequested("insert", self.current_index))
 
     def action_delete_course(self) -> None:
-        if self.row_count:
+        if self._rows:
             self.post_message(self.StructureRequested("delete", self.current_index))
 
     def action_move(self, delta: int) -> None:
-        if self.row_count:
+        if self._rows:
             self.post_message(self.StructureRequested("move", self.current_index, delta))
 
 
@@ -211,7 +361,7 @@ class CallEditor(Vertical):
 
     def show_message(self, text: str) -> None:
         """Show the parser's (or another) message under the editor; ``""`` clears it."""
-        self.query_one("#editor-message", Static).update(text)
+        set_text(self.query_one("#editor-message", Static), text)
 
     def focus_input(self) -> None:
         self.query_one("#editor-input", Input).focus()

@@ -12,6 +12,13 @@ from rich.text import Text
 from textual.widgets import Static
 
 
+def set_text(widget: Static, text: str) -> None:
+    """Update a Static only when its text changes (each update lays out the screen again)."""
+    if getattr(widget, "_lodeline_text", None) != text:
+        widget._lodeline_text = text  # type: ignore[attr-defined]
+        widget.update(Text(text))  # plain text: a call may hold "[" or "]"
+
+
 class FindingsPanel(Static):
     """A titled block of result lines, or an error line."""
 

@@ -15,6 +15,7 @@ from textual.containers import VerticalScroll
 from textual.message import Message
 from textual.widgets import Checkbox, Input, Label, Select, Static
 
+from tui.widgets.findings import set_text
 from tui.workspace import SETTING_LABELS, get_setting
 
 #: Keys whose value is a number when the text reads as one.
@@ -157,7 +158,7 @@ class JobForm(VerticalScroll):
 
     def show_crs_hint(self, text: str) -> None:
         """Show the grid suggestion (e.g. the UTM zone of the place) under the CRS field."""
-        self.query_one("#crs-hint", Static).update(text)
+        set_text(self.query_one("#crs-hint", Static), text)
 
     def mark_invalid(self, keys: set[str]) -> None:
         """Mark the fields of ``keys`` as holding a value the document check refused."""

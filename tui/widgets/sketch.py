@@ -52,6 +52,17 @@ class SketchFigure:
     gap_label: str = "misclosure"
 
 
+def _same(a: SketchFigure | None, b: SketchFigure | None) -> bool:
+    if a is None or b is None:
+        return a is b
+    return (
+        a.closed == b.closed
+        and a.norths == b.norths
+        and np.array_equal(a.east, b.east)
+        and np.array_equal(a.north, b.north)
+    )
+
+
 def equal_axes_limits(
     east: np.ndarray, north: np.ndarray, width: int, height: int, *, pad: float = 0.08
 ) -> tuple[float, float, float, float]:
@@ -105,6 +116,8 @@ class TraverseSketch(PlotWidget):
     # -- public --------------------------------------------------------------------------
     def show_figure(self, figure: SketchFigure | None, message: str = "") -> None:
         """Draw ``figure`` (or clear the sketch and title it with ``message``)."""
+        if _same(figure, self._figure) and message == self._message:
+            return
         same_extent = (
             figure is not None
             and self._figure is not None

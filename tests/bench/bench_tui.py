@@ -1,0 +1,171 @@
+"""Speed of the terminal application: a keystroke on a 200-course document, opening 5,000.
+
+Run: ``python tests/bench/bench_tui.py`` (not collected by pytest). Prints, for each figure,
+the time, the budget of the design (50 ms per keystroke, 2 s to open) and the ratio to a
+reference measured side by side in the same process: Textual redrawing the same screen with
+nothing changed (the floor any keystroke pays).
+
+A keystroke is measured as the user feels it: the edit of the call, the recomputation of every
+finding through geo (one vectorised conversion of the whole document), the update of the
+table, panels and sketch, and the screen redraw. Typing is debounced in the application
+(the recomputation starts after a pause); the debounce delay itself is not counted.
+
+The documents are generated: an invented closed figure (a regular polygon of short courses in
+perches, true bearings, a stated date) in a temporary folder.
+"""
+
+from __future__ import annotations
+
+import asyncio
+import os
+import statistics
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
+
+from geo.bearings import format_bearing  # noqa: E402
+from tui.app import LodelineApp, load_workspace  # noqa: E402
+from tui.results import compute_results  # noqa: E402
+
+SIZE = (160, 45)
+
+
+def make_document(path: Path, courses: int) -> Path:
+    """Write an invented closed traverse of ``courses`` courses (a regular polygon)."""
+    lines = [
+        "format_version = 1",
+        f'title = "Bench figure of {courses} courses, Wrenmoor Flats"',
+        "closed = true",
+        "",
+        "[place]",
+        "lat = 40.5",
+        "lon = -77.5",
+        "",
+        "[record]",
+        'reference = "magnetic"',
+        'date = "1925-06-01"',
+        'distance_unit = "perch"',
+        'foot = "us"',
+        "",
+        "[target]",
+        'date = "2025-06-01"',
+    ]
+    for i in range(courses):
+        az = (360.0 * i / courses + 90.0) % 360.0
+        bearing = format_bearing(az, precision=1.0 / 60.0, ascii=True)
+        lines += ["", "[[course]]", f'call = "{bearing} 4 perches"']
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    return path
+
+
+async def _until(pilot, desk, revision: int, final: bool) -> None:
+    while not (desk.applied[0] == revision and (desk.applied[1] or not final)):
+        await pilot.pause(0.001)
+    await pilot.pause()  # the redraw
+
+
+async def _keystrokes(path: Path, n: int) -> tuple[list[float], list[float], list[float]]:
+    app = LodelineApp(load_workspace(path))
+    table: list[float] = []
+    everything: list[float] = []
+    floor: list[float] = []
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause(0.5)
+        await app.workers.wait_for_complete()
+        desk = app.desk
+        ws = app.workspace
+        base = ws.courses[100]["call"]
+        for k in range(n):
+            # reference: a redraw of the same screen with nothing changed
+            t0 = time.perf_counter()
+            desk.refresh()
+            await pilot.pause()
+            floor.append(time.perf_counter() - t0)
+            # a keystroke in course 101, then the recomputation the debounce starts
+            text = base + (" to a stake" if k % 2 == 0 else "")
+            t0 = time.perf_counter()
+            ws.set_course_field(100, "call", text, session=1)
+            desk.recompute()
+            await _until(pilot, desk, ws.revision, final=False)
+            table.append(time.perf_counter() - t0)
+            await _until(pilot, desk, ws.revision, final=True)
+            everything.append(time.perf_counter() - t0)
+    return table, everything, floor
+
+
+async def _open(path: Path) -> tuple[float, float, float, float]:
+    t0 = time.perf_counter()
+    app = LodelineApp(load_workspace(path))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        first_screen = time.perf_counter() - t0
+        desk = app.desk
+        await _until(pilot, desk, app.workspace.revision, final=False)
+        converted = time.perf_counter() - t0
+        await _until(pilot, desk, app.workspace.revision, final=True)
+        closed = time.perf_counter() - t0
+        t1 = time.perf_counter()
+        desk.refresh()
+        await pilot.pause()
+        floor = time.perf_counter() - t1
+    return first_screen, converted, closed, floor
+
+
+def main() -> int:
+    os.environ.setdefault("LODELINE_STATE", tempfile.mkdtemp(prefix="lodeline-bench-state-"))
+    with tempfile.TemporaryDirectory() as tmp:
+        small = make_document(Path(tmp) / "bench200.toml", 200)
+        large = make_document(Path(tmp) / "bench5000.toml", 5000)
+
+        ws = load_workspace(small)
+        t0 = time.perf_counter()
+        for _ in range(10):
+            compute_results(ws.doc, path=small)
+        core = (time.perf_counter() - t0) / 10
+
+        table, everything, floor = asyncio.run(_keystrokes(small, 20))
+        ref = statistics.median(floor)
+
+        def line(label: str, values: list[float]) -> None:
+            med = statistics.median(values)
+            p90 = sorted(values)[int(0.9 * len(values)) - 1]
+            print(
+                f"  {label:26s}{med * 1e3:7.1f} ms (90%: {p90 * 1e3:6.1f})   budget 50 ms: "
+                f"ratio {med / 0.050:5.2f}   to idle redraw: {med / ref:5.2f}"
+            )
+
+        print("keystroke on a 200-course document (edit + recompute + redraw)")
+        print(f"  compute_results alone     {core * 1e3:7.1f} ms (both stages, no screen)")
+        line("bearings in the table", table)
+        line("every panel and sketch", everything)
+        print(f"  reference: idle redraw    {ref * 1e3:7.1f} ms")
+
+        t0 = time.perf_counter()
+        ws5 = load_workspace(large)
+        load = time.perf_counter() - t0
+        t0 = time.perf_counter()
+        compute_results(ws5.doc, path=large)
+        core5 = time.perf_counter() - t0
+        first, converted, closed, floor5 = asyncio.run(_open(large))
+        print("opening a 5,000-course document")
+        print(f"  read the document         {load * 1e3:7.1f} ms")
+        print(f"  compute_results alone     {core5 * 1e3:7.1f} ms (both stages, no screen)")
+        for label, value in (
+            ("screen with every call", first),
+            ("bearings in the table", converted),
+            ("closure and sketch", closed),
+        ):
+            print(
+                f"  {label:26s}{value * 1e3:7.1f} ms   budget 2000 ms: ratio {value / 2.0:5.2f}"
+                f"   to idle redraw: {value / floor5:6.1f}"
+            )
+        print(f"  reference: idle redraw    {floor5 * 1e3:7.1f} ms")
+        print(f"(regular polygon of 4-perch courses; terminal {SIZE[0]}x{SIZE[1]}; 20 keystrokes)")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
