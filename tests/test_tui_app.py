@@ -360,3 +360,45 @@ async def test_job_setting_edit_is_undoable(doc_path: Path):
         await _settle(pilot)
         assert app.workspace.doc["place"]["lat"] == 40.0
         assert field.value == "40.0"
+
+
+@sync
+async def test_exports_and_report_are_written_from_the_desk(doc_path: Path):
+    import json
+
+    from geojson_pydantic import FeatureCollection
+
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(160, 45)) as pilot:
+        await _settle(pilot)
+        for key in ("f6", "f7", "f8"):
+            await pilot.press(key)
+            await pilot.pause()
+            assert isinstance(app.screen, FileNamePrompt)
+            await pilot.press("enter")  # the suggested names do not exist yet
+            await _settle(pilot)
+            assert not isinstance(app.screen, FileNamePrompt)
+    collection = json.loads(doc_path.with_suffix(".geojson").read_text(encoding="utf-8"))
+    FeatureCollection.model_validate(collection)  # RFC 7946 shape (geojson-pydantic)
+    assert doc_path.with_suffix(".csv").exists()
+    assert (doc_path.parent / "square-courses.csv").exists()  # the CSV's second file
+    assert "Marrow Creek" in doc_path.with_suffix(".html").read_text(encoding="utf-8")
+
+
+@sync
+async def test_csv_prompt_asks_when_only_the_second_file_exists(doc_path: Path):
+    second = doc_path.parent / "square-courses.csv"
+    second.write_text("kept\n", encoding="utf-8")
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(160, 45)) as pilot:
+        await _settle(pilot)
+        await pilot.press("f7")
+        await pilot.pause()
+        await pilot.press("enter")
+        await pilot.pause()
+        assert isinstance(app.screen, ChoiceDialog)  # square-courses.csv exists: asked
+        await pilot.press("k")
+        await pilot.pause()
+        await pilot.press("escape")
+    assert second.read_text(encoding="utf-8") == "kept\n"
+    assert not doc_path.with_suffix(".csv").exists()

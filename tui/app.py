@@ -382,19 +382,26 @@ class LodelineApp(App[int]):
         spec = outputs.OUTPUTS[kind]
         ws = self.workspace
         stem = ws.path.with_suffix("") if ws.path else Path("traverse")
-        suggestion = f"{stem}{spec.suffixes[0]}"
+        prompt = FileNamePrompt(
+            spec.title,
+            f"{stem}{spec.suffixes[0]}",
+            spec.suffixes,
+            companions=lambda path: outputs.companions(kind, path),
+        )
 
         def chosen(path: Path | None) -> None:
             if path is None:
                 return
             try:
-                written = outputs.write_output(kind, ws.doc, path, file=ws.path)
+                written = outputs.write_output(
+                    kind, ws.doc, path, file=ws.path, replace=prompt.replace
+                )
             except LodelineError as err:
-                self.notify(f"⚠ {spec.title} not written: {err}", severity="error", timeout=8)
+                self.notify(f"⚠ {spec.title}: not written: {err}", severity="error", timeout=8)
                 return
-            self.notify(f"{spec.title} written: {', '.join(str(p) for p in written)}")
+            self.notify(f"Written: {', '.join(str(p) for p in written)}", timeout=4)
 
-        self.push_screen(FileNamePrompt(spec.title, suggestion, spec.suffixes), chosen)
+        self.push_screen(prompt, chosen)
 
     async def action_quit(self) -> None:
         """Quit, asking first when there are unsaved changes."""

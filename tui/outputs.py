@@ -23,18 +23,46 @@ OUTPUTS: dict[str, OutputSpec] = {
 }
 
 
+def companions(kind: str, path: Path) -> list[Path]:
+    """Every file output ``kind`` writes for the name ``path`` (the CSV writes two)."""
+    if kind == "csv":
+        from geo.export import courses_csv_path
+
+        return [path, courses_csv_path(path)]
+    return [path]
+
+
 def write_output(
-    kind: str, data: Mapping[str, Any], path: Path, *, file: Path | None = None
+    kind: str,
+    data: Mapping[str, Any],
+    path: Path,
+    *,
+    file: Path | None = None,
+    replace: bool = False,
 ) -> list[Path]:
-    """Write output ``kind`` of document ``data`` to ``path`` (the user has already agreed to
-    replace an existing file); return the files written. Raises LodelineError."""
+    """Write output ``kind`` of document ``data`` to ``path``; return the files written.
+
+    ``replace`` is true only when the user has agreed to replace the files that exist (the
+    prompt asked); otherwise an existing file is refused. Every call must read: an export
+    of a document with a call that does not read is refused with that call's error.
+    Raises :class:`geo.errors.LodelineError`.
+    """
     from geo.document import document_from_dict
-    from geo.errors import LodelineError
+    from geo.north import convert_document
     from tui.workspace import saveable_document
 
-    document_from_dict(saveable_document(data), file=file.name if file else None)
-    try:
-        from geo import export
-    except ImportError:
-        raise LodelineError("export and report are not available in this build") from None
-    raise LodelineError(f"{kind}: {export!r}")
+    name = file.name if file else None
+    doc = document_from_dict(saveable_document(data), file=name)
+    if kind == "report":
+        from geo.atomic import write_atomic
+        from geo.report import build_report
+
+        fmt = "markdown" if path.suffix.lower() == ".md" else "html"
+        text = build_report(doc, fmt=fmt, file=name)
+        return [write_atomic(path, text, overwrite=replace)]
+    from geo.export import write_exports
+
+    conv = convert_document(doc, file=name)
+    if kind == "geojson":
+        return write_exports(conv, geojson=path, force=replace)
+    return write_exports(conv, csv_path=path, force=replace)

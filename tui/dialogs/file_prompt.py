@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from pathlib import Path
 
 from textual.app import ComposeResult
@@ -32,11 +33,20 @@ class FileNamePrompt(ModalScreen[Path | None]):
     FileNamePrompt #prompt-message { height: auto; margin-top: 1; }
     """
 
-    def __init__(self, title: str, suggestion: str, suffixes: tuple[str, ...]) -> None:
+    def __init__(
+        self,
+        title: str,
+        suggestion: str,
+        suffixes: tuple[str, ...],
+        companions: Callable[[Path], list[Path]] | None = None,
+    ) -> None:
         super().__init__()
         self._title = title
         self._suggestion = suggestion
         self._suffixes = suffixes
+        self._companions = companions or (lambda path: [path])
+        #: True when the user agreed to replace files that exist.
+        self.replace = False
 
     def compose(self) -> ComposeResult:
         with Vertical() as box:
@@ -69,18 +79,22 @@ class FileNamePrompt(ModalScreen[Path | None]):
         if not path.parent.exists():
             self._say(f"⚠ the folder {path.parent} does not exist")
             return
-        if path.exists():
+        existing = [p for p in self._companions(path) if p.exists()]
+        if existing:
+            names = ", ".join(str(p) for p in existing)
+            verb = "exists" if len(existing) == 1 else "exist"
 
             def answered(answer: str | None) -> None:
                 if answer == "replace":
+                    self.replace = True
                     self.dismiss(path)
                 else:
-                    self._say(f"{path} was kept; type another name.")
+                    self._say(f"{names} kept; type another name.")
 
             self.app.push_screen(
                 ChoiceDialog(
                     "File exists",
-                    f"{path} exists. Replace it?",
+                    f"{names} {verb}. Replace?",
                     [("keep", "Keep it"), ("replace", "Replace")],
                 ),
                 answered,

@@ -13,6 +13,7 @@ F2, F3 and F4 bring the job, the calls and the findings forward in every arrange
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import TYPE_CHECKING
 
 from textual import work
@@ -37,6 +38,8 @@ if TYPE_CHECKING:
 
 #: Seconds of quiet typing before the findings are recomputed.
 DEBOUNCE_S = 0.06
+#: Documents with more courses than this are computed in a thread.
+THREAD_ABOVE = 1000
 
 PANELS = (
     ("field", "Field at the point of beginning"),
@@ -95,6 +98,8 @@ class Desk(Screen):
         self._editor_session = 0
         #: (revision, final) of the results shown last.
         self.applied: tuple[int, bool] = (-1, False)
+        #: Called with (revision, final) after results are shown (the bench listens here).
+        self.on_applied: Callable[[int, bool], None] | None = None
 
     @property
     def lode(self) -> LodelineApp:
@@ -206,17 +211,27 @@ class Desk(Screen):
     def recompute(self, *, wait: bool = False) -> None:
         """Recompute every finding from the document and show it.
 
-        The work runs in a thread (the keyboard stays live): the conversion first, shown at
-        once, then the closure. ``wait=True`` computes here and now (tests, the bench).
+        The conversion comes first and is shown at once, then the closure and fit. A
+        document of up to :data:`THREAD_ABOVE` courses is computed here, the closure after
+        the table has been drawn; a larger one in a thread, so the keyboard stays live.
+        ``wait=True`` computes both stages here and now.
         """
         self._timer = None
         ws = self.lode.workspace
-        if wait:
+        if wait or len(ws.courses) <= THREAD_ABOVE:
+            revision = ws.revision
             first = conversion_stage(ws.doc, path=ws.path)
-            self._apply(first, ws.revision)
-            self._apply(closure_stage(first), ws.revision)
+            self._apply(first, revision)
+            if wait:
+                self._apply(closure_stage(first), revision)
+            elif not first.final:
+                self.call_after_refresh(self._finish, first, revision)
             return
         self._compute(ws.doc, ws.path, ws.revision)
+
+    def _finish(self, first: Results, revision: int) -> None:
+        if revision == self.lode.workspace.revision:
+            self._apply(closure_stage(first), revision)
 
     @work(thread=True, exclusive=True, group="compute")
     def _compute(self, doc: dict, path, revision: int) -> None:
@@ -251,6 +266,8 @@ class Desk(Screen):
         self._show_row_message()
         self._update_docbar()
         self.applied = (revision, results.final)
+        if self.on_applied is not None:
+            self.on_applied(revision, results.final)
 
     def _update_docbar(self) -> None:
         ws = self.lode.workspace
