@@ -388,8 +388,15 @@ class Desk(Screen):
         self.pane = name
         if name in ("job", "findings"):
             self.side = name
-        target = {"job": "#job Input", "calls": "#table", "findings": "#sketch"}[name]
-        self.call_after_refresh(lambda: self.query(target).first().focus())
+        target = {"job": "#job Input", "calls": "#table", "findings": "#findings"}[name]
+
+        def bring() -> None:
+            widget = self.query(target).first()
+            widget.focus(scroll_visible=False)
+            if name == "findings":
+                widget.scroll_home(animate=False)
+
+        self.call_after_refresh(bring)
 
     def current_course(self) -> int:
         return self.query_one(CallTable).current_index
