@@ -90,10 +90,16 @@ async def _retype(pilot, text: str) -> None:
     await pilot.press(*list(text))
 
 
+async def _paste(pilot, text: str) -> None:
+    """Replace the focused field's text at once (as a paste does): quicker than typing."""
+    pilot.app.focused.value = text
+    await pilot.pause()
+
+
 @sync
 async def test_type_a_call_undo_save_reopen(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
-    async with app.run_test(size=(160, 45)) as pilot:
+    async with app.run_test(size=(120, 40)) as pilot:
         await _settle(pilot)
         desk = app.desk
         before = desk.results.rows[0]
@@ -137,10 +143,10 @@ async def test_type_a_call_undo_save_reopen(doc_path: Path):
 @sync
 async def test_call_that_does_not_read_is_kept_and_marked(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
-    async with app.run_test(size=(160, 45)) as pilot:
+    async with app.run_test(size=(120, 40)) as pilot:
         await _settle(pilot)
         await pilot.press("down", "enter")
-        await _retype(pilot, "N 95 E 10 chains")
+        await _paste(pilot, "N 95 E 10 chains")
         await _settle(pilot)
         row = app.desk.results.rows[1]
         assert row.mark == "✗"
@@ -162,11 +168,13 @@ async def test_call_that_does_not_read_is_kept_and_marked(doc_path: Path):
 @sync
 async def test_add_insert_delete_move_and_undo_all(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
-    async with app.run_test(size=(160, 45)) as pilot:
+    async with app.run_test(size=(120, 40)) as pilot:
         await _settle(pilot)
         original = app.workspace.doc
         await pilot.press("a")  # add after course 1 and edit it
-        await pilot.press(*list("S 45 E 1 chain"), "enter")
+        await pilot.pause()
+        await _paste(pilot, "S 45 E 1 chain")
+        await pilot.press("enter")
         await _settle(pilot)
         assert [c["call"] for c in app.workspace.courses][1] == "S 45 E 1 chain"
         await pilot.press("right_square_bracket")  # move it down
@@ -185,10 +193,12 @@ async def test_add_insert_delete_move_and_undo_all(doc_path: Path):
 @sync
 async def test_quit_asks_when_there_are_unsaved_changes(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
-    async with app.run_test(size=(160, 45)) as pilot:
+    async with app.run_test(size=(120, 40)) as pilot:
         await _settle(pilot)
         await pilot.press("enter")
-        await pilot.press(*list(" and more"), "enter")
+        await pilot.pause()
+        await _paste(pilot, "N 10 E 10 chains and more")
+        await pilot.press("enter")
         await _settle(pilot)
         await pilot.press("ctrl+q")
         await pilot.pause()
@@ -211,7 +221,7 @@ async def test_recovery_is_offered_after_a_crash(doc_path: Path):
     crashed.set_course_field(0, "call", "N 12 E 10 chains (typed before the crash)")
     write_recovery(crashed)  # what the desk keeps while editing; then the process died
     app = LodelineApp(load_workspace(doc_path))
-    async with app.run_test(size=(160, 45)) as pilot:
+    async with app.run_test(size=(120, 40)) as pilot:
         await _settle(pilot)
         assert isinstance(app.screen, ChoiceDialog)
         await pilot.press("r")  # restore them
@@ -226,7 +236,7 @@ async def test_export_prompt_never_overwrites_silently(doc_path: Path):
     existing = doc_path.with_suffix(".csv")
     existing.write_text("kept\n", encoding="utf-8")
     app = LodelineApp(load_workspace(doc_path))
-    async with app.run_test(size=(160, 45)) as pilot:
+    async with app.run_test(size=(120, 40)) as pilot:
         await _settle(pilot)
         await pilot.press("f7")
         await pilot.pause()
@@ -247,14 +257,16 @@ async def test_save_as_refuses_other_suffixes_and_asks_before_replacing(doc_path
     other = doc_path.parent / "copy.toml"
     other.write_text("old\n", encoding="utf-8")
     app = LodelineApp(load_workspace(doc_path))
-    async with app.run_test(size=(160, 45)) as pilot:
+    async with app.run_test(size=(120, 40)) as pilot:
         await _settle(pilot)
         await pilot.press("f9")
         await pilot.pause()
-        await pilot.press("ctrl+u", *list(str(doc_path.parent / "copy.txt")), "enter")
+        await _paste(pilot, str(doc_path.parent / "copy.txt"))
+        await pilot.press("enter")
         await pilot.pause()
         assert ".toml or .json" in str(app.screen.query_one("#prompt-message").render())
-        await pilot.press("ctrl+u", *list(str(other)), "enter")
+        await _paste(pilot, str(other))
+        await pilot.press("enter")
         await pilot.pause()
         await pilot.press("r")  # replace
         await _settle(pilot)
@@ -348,12 +360,13 @@ async def test_small_terminal_shows_one_pane_at_a_time(doc_path: Path):
 @sync
 async def test_job_setting_edit_is_undoable(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
-    async with app.run_test(size=(160, 45)) as pilot:
+    async with app.run_test(size=(120, 40)) as pilot:
         await _settle(pilot)
         desk = app.desk
         field = desk.query_one("#set-place--lat")
         field.focus()
-        await pilot.press("ctrl+u", *list("41.5"))
+        await pilot.pause()
+        await _paste(pilot, "41.5")
         await _settle(pilot)
         assert app.workspace.doc["place"]["lat"] == 41.5
         await pilot.press("ctrl+z")
@@ -369,7 +382,7 @@ async def test_exports_and_report_are_written_from_the_desk(doc_path: Path):
     from geojson_pydantic import FeatureCollection
 
     app = LodelineApp(load_workspace(doc_path))
-    async with app.run_test(size=(160, 45)) as pilot:
+    async with app.run_test(size=(120, 40)) as pilot:
         await _settle(pilot)
         for key in ("f6", "f7", "f8"):
             await pilot.press(key)
@@ -390,7 +403,7 @@ async def test_csv_prompt_asks_when_only_the_second_file_exists(doc_path: Path):
     second = doc_path.parent / "square-courses.csv"
     second.write_text("kept\n", encoding="utf-8")
     app = LodelineApp(load_workspace(doc_path))
-    async with app.run_test(size=(160, 45)) as pilot:
+    async with app.run_test(size=(120, 40)) as pilot:
         await _settle(pilot)
         await pilot.press("f7")
         await pilot.pause()

@@ -5,7 +5,8 @@ The arrangement follows the terminal (see :func:`arrangement`):
 - ``wide`` (200 columns or more): job | calls | findings, side by side;
 - ``side`` (150-199): calls | findings, the job taking the findings' place on F2;
 - ``stacked`` (100-149 columns and 30 rows or more): calls above, the findings below in three
-  columns (field and grid | closure, attraction, fit | sketch); F2 adds the job on the left;
+  columns (field and grid | closure, attraction, fit | sketch); F2 puts the job beside the
+  calls instead of the findings, F4 brings the findings back;
 - ``single`` (smaller, e.g. 80x24): one pane fills the screen; F2, F3, F4 switch.
 
 F2, F3 and F4 bring the job, the calls and the findings forward in every arrangement.
@@ -153,8 +154,8 @@ class Desk(Screen):
             shown = {"job", "calls", "findings"}
         elif mode == "side":
             shown = {"calls", self.side}
-        elif mode == "stacked":
-            shown = {"calls", "findings"} | ({"job"} if self.side == "job" else set())
+        elif mode == "stacked":  # the job, when asked for, takes the findings' room
+            shown = {"calls", self.side}
         else:
             shown = {self.pane}
         for name in ("job", "calls", "findings"):
