@@ -152,9 +152,7 @@ class Desk(Screen):
         self.mode = mode
         if mode == "wide":
             shown = {"job", "calls", "findings"}
-        elif mode == "side":
-            shown = {"calls", self.side}
-        elif mode == "stacked":  # the job, when asked for, takes the findings' room
+        elif mode in ("side", "stacked"):  # the job, when asked for, takes the findings' room
             shown = {"calls", self.side}
         else:
             shown = {self.pane}
