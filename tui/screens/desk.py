@@ -210,27 +210,19 @@ class Desk(Screen):
     def recompute(self, *, wait: bool = False) -> None:
         """Recompute every finding from the document and show it.
 
-        The conversion comes first and is shown at once, then the closure and fit. A
-        document of up to :data:`THREAD_ABOVE` courses is computed here, the closure after
-        the table has been drawn; a larger one in a thread, so the keyboard stays live.
-        ``wait=True`` computes both stages here and now.
+        A document of up to :data:`THREAD_ABOVE` courses is computed here and shown in one
+        redraw. A larger one is computed in a thread, so the keyboard stays live: the
+        conversion is shown as soon as it is ready, then the closure and fit. ``wait=True``
+        computes here and now whatever the size.
         """
         self._timer = None
         ws = self.lode.workspace
         if wait or len(ws.courses) <= THREAD_ABOVE:
-            revision = ws.revision
-            first = conversion_stage(ws.doc, path=ws.path)
-            self._apply(first, revision)
-            if wait:
-                self._apply(closure_stage(first), revision)
-            elif not first.final:
-                self.call_after_refresh(self._finish, first, revision)
+            # both stages, then one redraw: quicker than showing the conversion first
+            self._apply(closure_stage(conversion_stage(ws.doc, path=ws.path)), ws.revision)
             return
-        self._compute(ws.doc, ws.path, ws.revision)
-
-    def _finish(self, first: Results, revision: int) -> None:
-        if revision == self.lode.workspace.revision:
-            self._apply(closure_stage(first), revision)
+        # start after the next paint, so the screen is drawn before the thread competes
+        self.call_after_refresh(self._compute, ws.doc, ws.path, ws.revision)
 
     @work(thread=True, exclusive=True, group="compute")
     def _compute(self, doc: dict, path, revision: int) -> None:
@@ -246,9 +238,16 @@ class Desk(Screen):
             self.app.call_from_thread(self._apply, final, revision)
 
     def _apply(self, results: Results, revision: int) -> None:
-        """Show ``results`` if they belong to the document as it is now."""
+        """Show ``results`` if they belong to the document as it is now (one redraw)."""
         if revision != self.lode.workspace.revision:
             return
+        with self.app.batch_update():
+            self._show(results)
+        self.applied = (revision, results.final)
+        if self.on_applied is not None:
+            self.on_applied(revision, results.final)
+
+    def _show(self, results: Results) -> None:
         self.results = results
         self.query_one(CallTable).show_rows(results.rows)
         for key, _title in PANELS:
@@ -264,9 +263,6 @@ class Desk(Screen):
         form.show_crs_hint(results.crs_hint)
         self._show_row_message()
         self._update_docbar()
-        self.applied = (revision, results.final)
-        if self.on_applied is not None:
-            self.on_applied(revision, results.final)
 
     def _update_docbar(self) -> None:
         ws = self.lode.workspace
