@@ -40,6 +40,7 @@ Formatting
 Public API
     ``Bearing``; ``parse_bearing(text, *, south_azimuth=False) -> Bearing``;
     ``format_bearing(azimuth_deg, *, precision=SECOND, ascii=False) -> str``;
+    ``format_bearings(azimuths_deg, *, precision=SECOND, ascii=False) -> list[str]`` (many);
     ``format_azimuth(azimuth_deg, *, precision=SECOND, ascii=False, reference='north') -> str``;
     ``format_declination(declination_deg, *, precision=MINUTE, ascii=False) -> str``;
     ``parse_declination(value) -> float``; ``DEGREE``, ``MINUTE``, ``SECOND``,
@@ -49,9 +50,13 @@ Public API
 from __future__ import annotations
 
 import math
+import re
+from collections.abc import Sequence
 from dataclasses import dataclass
 from fractions import Fraction
-from typing import Literal
+from typing import Any, Literal, NamedTuple
+
+import numpy as np
 
 from geo.angles import normalize_azimuth
 from geo.errors import InputError, ParseError
@@ -116,6 +121,14 @@ _VULGAR: dict[str, Fraction] = {
 }
 _VULGAR_TEXT = {v: k for k, v in _VULGAR.items()}
 _MAX_NUMBER_CHARS = 20
+_NUMBER_RE = re.compile(r"[0-9]*(\.[0-9]+)?")
+_ASCII_WORD_RE = re.compile(r"[A-Za-z]+")
+# Steps of numbers written with k decimals (1/10**k), and of whole numbers.
+_DECIMAL_STEPS = tuple(Fraction(1, 10**k) for k in range(_MAX_NUMBER_CHARS + 1))
+_WHOLE_STEP = Fraction(1)
+# Exact values of number texts already read ("17", "0.97"): calls repeat the same few numbers.
+_NUMBER_VALUES: dict[str, Fraction] = {}
+_NUMBER_VALUES_MAX = 4096
 _FRACTION_STEPS = (2, 3, 4, 6, 8, 16)
 # Letter pairs written straight after a number in compact bearings (``15sE``): mark + letter.
 _COMPACT_PAIRS = {m + d for m in "dms" for d in "nsew"}
@@ -175,31 +188,37 @@ def fail(text: str, position: int, message: str) -> ParseError:
     )
 
 
+def _number_value(digits: str) -> Fraction:
+    """Exact value of a number text (digits with an optional decimal point), remembered."""
+    value = _NUMBER_VALUES.get(digits)
+    if value is None:
+        if len(_NUMBER_VALUES) >= _NUMBER_VALUES_MAX:
+            _NUMBER_VALUES.clear()
+        value = _NUMBER_VALUES[digits] = Fraction(digits)
+    return value
+
+
 def tokenize(text: str) -> list[Token]:
     """Split ``text`` into tokens in one pass; raises :class:`ParseError` on huge numbers."""
     toks: list[Token] = []
     n = len(text)
+    ascii_text = text.isascii()  # then a word is a run of A-Z, a-z (str.isalpha on ASCII)
     i = 0
     while i < n:
         c = text[i]
         if c.isspace():
             i += 1
         elif c in _DIGITS or (c == "." and i + 1 < n and text[i + 1] in _DIGITS):
-            j = i
-            while j < n and text[j] in _DIGITS:
-                j += 1
-            decimals = 0
-            point = False
-            if j + 1 < n and text[j] == "." and text[j + 1] in _DIGITS:
-                j += 1
-                k = j
-                while j < n and text[j] in _DIGITS:
-                    j += 1
-                decimals = j - k
-                point = True
+            # digits, then a decimal point only when a digit follows it
+            match = _NUMBER_RE.match(text, i)
+            assert match is not None
+            j = match.end()
+            point = match.group(1) is not None
+            decimals = len(match.group(1)) - 1 if point else 0
             if j - i > _MAX_NUMBER_CHARS:
                 raise fail(text, i, f"the number '{text[i : i + 12]}…' is too long")
-            toks.append(Token(NUM, i, j, text[i:j], Fraction(text[i:j]), decimals, point))
+            digits = text[i:j]
+            toks.append(Token(NUM, i, j, digits, _number_value(digits), decimals, point))
             i = j
         elif c in _DEG_CHARS:
             toks.append(Token(DEG, i, i + 1, c))
@@ -227,9 +246,14 @@ def tokenize(text: str) -> list[Token]:
             toks.append(Token(COMMA, i, i + 1, c))
             i += 1
         elif c.isalpha():
-            j = i
-            while j < n and text[j].isalpha() and text[j] not in _DEG_CHARS:
-                j += 1
+            if ascii_text:
+                match = _ASCII_WORD_RE.match(text, i)
+                assert match is not None
+                j = match.end()
+            else:
+                j = i
+                while j < n and text[j].isalpha() and text[j] not in _DEG_CHARS:
+                    j += 1
             word = text[i:j].casefold()
             end = j
             if j < n and text[j] == "." and not (j + 1 < n and text[j + 1] in _DIGITS):
@@ -274,10 +298,10 @@ _DEG_WORDS = {"d", "deg", "degs", "degree", "degrees"}
 _MIN_WORDS = {"m", "min", "mins", "minute", "minutes"}
 _SEC_WORDS = {"s", "sec", "secs", "second", "seconds"}
 _LEVEL_NAMES = ("degrees", "minutes", "seconds")
+_SIXTY_POWERS = (1, 60, 3600)
 
 
-@dataclass(frozen=True)
-class Quantity:
+class Quantity(NamedTuple):
     """A number as written: exact ``value``, the ``step`` it was written to, its span."""
 
     value: Fraction
@@ -293,17 +317,19 @@ class Reader:
     def __init__(self, text: str) -> None:
         self.text = text
         self.toks = tokenize(text)
+        self._n = len(self.toks)
+        self._kinds = [t.kind for t in self.toks]
 
     def tok(self, i: int) -> Token | None:
-        return self.toks[i] if 0 <= i < len(self.toks) else None
+        return self.toks[i] if 0 <= i < self._n else None
 
     def kind(self, i: int) -> str | None:
-        t = self.tok(i)
-        return t.kind if t is not None else None
+        return self._kinds[i] if 0 <= i < self._n else None
 
     def word(self, i: int) -> str | None:
-        t = self.tok(i)
-        return t.word if t is not None and t.kind == WORD else None
+        if 0 <= i < self._n and self._kinds[i] == WORD:
+            return self.toks[i].word
+        return None
 
     def pos(self, i: int) -> int:
         t = self.tok(i)
@@ -323,7 +349,7 @@ class Reader:
         return short(self.span(i, j), limit)
 
     def is_number(self, i: int) -> bool:
-        return self.kind(i) == NUM
+        return 0 <= i < self._n and self._kinds[i] == NUM
 
     def is_negative(self, i: int) -> bool:
         return self.kind(i) == DASH and self.kind(i + 1) == NUM and self._dash_starts(i)
@@ -341,7 +367,7 @@ class Reader:
         if self.kind(i + 1) == SLASH and self.kind(i + 2) == NUM:
             return self._fraction(i, Fraction(0))
         if t.point:
-            return Quantity(t.value, Fraction(1, 10**t.decimals), t.start, t.end, False), i + 1
+            return Quantity(t.value, _DECIMAL_STEPS[t.decimals], t.start, t.end, False), i + 1
         nxt = self.tok(i + 1)
         if nxt is not None and nxt.kind == FRAC:
             assert nxt.value is not None
@@ -352,7 +378,7 @@ class Reader:
             k += 1
         if self.kind(k) == NUM and self.kind(k + 1) == SLASH and self.kind(k + 2) == NUM:
             return self._fraction(k, t.value, start=t.start, proper=True)
-        return Quantity(t.value, Fraction(1), t.start, t.end, True), i + 1
+        return Quantity(t.value, _WHOLE_STEP, t.start, t.end, True), i + 1
 
     def _fraction(
         self, i: int, whole: Fraction, start: int | None = None, proper: bool = False
@@ -397,15 +423,28 @@ class Reader:
         return None
 
 
-@dataclass(frozen=True)
-class Angle:
-    """An angle read from degrees/minutes/seconds parts (exact, with its step)."""
+class Angle(NamedTuple):
+    """An angle read from degrees/minutes/seconds parts, exact: ``num / den`` degrees, written
+    to a step of ``step_num / step_den`` degrees (integers, denominators positive; ``n / d``
+    of two ints is the correctly rounded double, the same as ``float(Fraction(n, d))``)."""
 
-    value: Fraction
-    step: Fraction
+    num: int
+    den: int
+    step_num: int
+    step_den: int
     start: int
     end: int
     marked: bool  # at least one explicit mark (°, ', d, degrees...)
+
+    @property
+    def value(self) -> Fraction:
+        """The angle in degrees."""
+        return Fraction(self.num, self.den)
+
+    @property
+    def step(self) -> Fraction:
+        """The step it was written to, in degrees."""
+        return Fraction(self.step_num, self.step_den)
 
 
 def read_angle(
@@ -426,8 +465,9 @@ def read_angle(
     first = r.quantity(i)
     if first is None:
         raise r.fail(i, "expected the angle (a number of degrees)")
-    total = Fraction(0)
-    step = Fraction(1)
+    # The total so far is num / den degrees, exactly.
+    num, den = 0, 1
+    scale = 1
     marked = False
     q, j = first
     qi = i
@@ -446,10 +486,11 @@ def read_angle(
                 f"'{r.show(j, j + 1)}' marks {_LEVEL_NAMES[m]} where "
                 f"{_LEVEL_NAMES[level]} were expected",
             )
-        if level > 0 and q.value >= 60:
+        if level > 0 and q.value.numerator >= 60 * q.value.denominator:  # 60 or more
             raise r.fail(qi, f"{_LEVEL_NAMES[level]} {_num(q.value)} must be less than 60")
-        total += q.value / (60**level)
-        step = q.step / (60**level)
+        scale = _SIXTY_POWERS[level]
+        part_den = q.value.denominator * scale
+        num, den = num * part_den + q.value.numerator * den, den * part_den
         end = q.end
         if m is not None:
             marked = True
@@ -483,7 +524,8 @@ def read_angle(
             )
         q, j, qi = nq, nj, k
         level += 1
-    return Angle(total, step, first[0].start, end, marked), j
+    step = q.step
+    return Angle(num, den, step.numerator, step.denominator * scale, first[0].start, end, marked), j
 
 
 def _num(value: Fraction) -> str:
@@ -577,6 +619,14 @@ def read_bearing(
     raise r.fail(i, f"'{r.show(i, i + 1)}' does not start a bearing (N/S, a cardinal or Az)")
 
 
+def _in_range(azimuth_deg: float) -> float:
+    """``azimuth_deg`` reduced to [0, 360) by :func:`geo.angles.normalize_azimuth`, skipped when
+    it is already inside (0, 360), where the reduction returns it unchanged."""
+    if 0.0 < azimuth_deg < 360.0:
+        return azimuth_deg
+    return float(normalize_azimuth(azimuth_deg))
+
+
 def _cardinal(r: Reader, start: int, i: int) -> Bearing:
     w = r.word(i)
     assert w is not None
@@ -619,17 +669,25 @@ def _quadrant(r: Reader, i: int, stop_before_units) -> tuple[Bearing, int]:
     ew = _EW[ew_word]
     if r.word(k + 1) in _EW:
         raise r.fail(k + 1, f"E or W given twice: '{r.show(i, k + 2)}'")
-    if angle.value > 90:
+    a, den = angle.num, angle.den
+    if a > 90 * den:
         raise r.fail(j, f"quadrant angle {r.text[angle.start : angle.end]} is more than 90 degrees")
-    a = angle.value
-    az = {"NE": a, "SE": 180 - a, "SW": 180 + a, "NW": 360 - a}[ns + ew]
+    quadrant = ns + ew
+    if quadrant == "NE":
+        az = a
+    elif quadrant == "SE":
+        az = 180 * den - a
+    elif quadrant == "SW":
+        az = 180 * den + a
+    else:
+        az = 360 * den - a
     bearing = Bearing(
-        float(normalize_azimuth(float(az))),
+        _in_range(az / den),
         "quadrant",
-        float(angle.step),
+        angle.step_num / angle.step_den,
         r.span(i, k + 1),
-        ns + ew,
-        float(a),
+        quadrant,
+        a / den,
     )
     return bearing, k + 1
 
@@ -662,16 +720,17 @@ def _azimuth(
                 "(set the south-azimuth option if it really counts from south)",
             )
         end = m + 1
-    if angle.value > 360:
+    a, den = angle.num, angle.den
+    if a > 360 * den:
         raise r.fail(i, f"azimuth {r.text[angle.start : angle.end]} is more than 360 degrees")
-    from_north = angle.value + (180 if reference == "south" else 0)
+    from_north = a + 180 * den if reference == "south" else a
     bearing = Bearing(
-        float(normalize_azimuth(float(from_north))),
+        _in_range(from_north / den),
         "azimuth",
-        float(angle.step),
+        angle.step_num / angle.step_den,
         r.span(start, end),
         None,
-        float(angle.value),
+        a / den,
         reference,
     )
     return bearing, end
@@ -728,7 +787,28 @@ class _Plan:
     decimals: int
 
 
+# Plans already made, keyed on (type, precision): a report formats thousands of bearings at a
+# handful of precisions. Errors are not remembered (they are raised again).
+_PLANS: dict[tuple[type, float | str], _Plan] = {}
+_PLANS_MAX = 256
+
+
 def _plan(precision: float | str) -> _Plan:
+    key = (type(precision), precision)
+    try:
+        return _PLANS[key]
+    except KeyError:
+        pass
+    except TypeError:  # unhashable: _make_plan says what is wrong with it
+        return _make_plan(precision)
+    plan = _make_plan(precision)
+    if len(_PLANS) >= _PLANS_MAX:
+        _PLANS.clear()
+    _PLANS[key] = plan
+    return plan
+
+
+def _make_plan(precision: float | str) -> _Plan:
     if isinstance(precision, str):
         key = precision.strip().casefold()
         if key not in _NAMED_PRECISIONS:
@@ -811,8 +891,13 @@ def format_bearing(
     ``S 0°… E`` and west ``N 90°… W``.
     """
     plan = _plan(precision)
+    c = _counts(finite_number(azimuth_deg, "azimuth") % 360.0, plan) % (360 * plan.per_degree)
+    return _bearing_text(c, plan, ascii)
+
+
+def _bearing_text(c: int, plan: _Plan, ascii: bool) -> str:
+    """Quadrant bearing text of an azimuth given in counts of the plan's step, [0, full)."""
     full = 360 * plan.per_degree
-    c = _counts(finite_number(azimuth_deg, "azimuth") % 360.0, plan) % full
     quarter = 90 * plan.per_degree
     if c <= quarter:
         ns, ew, a = "N", "E", c
@@ -823,6 +908,54 @@ def format_bearing(
     else:
         ns, ew, a = "N", "W", full - c
     return f"{ns} {_render(a, plan, ascii)} {ew}"
+
+
+def format_bearings(
+    azimuths_deg: Sequence[float] | np.ndarray,
+    *,
+    precision: float | str | Sequence[float | str] = SECOND,
+    ascii: bool = False,
+) -> list[str]:
+    """:func:`format_bearing` of many azimuths at once: the same texts, in order.
+
+    ``precision`` is one step for all, or a sequence of steps, one per azimuth. The rounding
+    is done on all azimuths of a step together (numpy: the same double arithmetic as
+    :func:`format_bearing`), and a text already written in the batch is reused.
+    """
+    try:
+        values = np.asarray(azimuths_deg, dtype=float).ravel()
+        bad = not np.all(np.isfinite(values))
+    except (TypeError, ValueError):
+        bad = True
+    if bad:  # finite_number names the bad azimuth as format_bearing would
+        values = np.array([finite_number(a, "azimuth") for a in azimuths_deg], dtype=float)
+    count = values.size
+    if isinstance(precision, str) or not isinstance(precision, Sequence | np.ndarray):
+        groups: dict[tuple[type, Any], list[int]] = {(type(precision), precision): []}
+        steps: dict[tuple[type, Any], Any] = {(type(precision), precision): precision}
+        every = True
+    else:
+        if len(precision) != count:
+            raise InputError(f"{len(precision)} precisions for {count} azimuths")
+        groups, steps, every = {}, {}, False
+        for i, p in enumerate(precision):
+            key = (type(p), p)
+            groups.setdefault(key, []).append(i)
+            steps.setdefault(key, p)
+    out: list[str] = [""] * count
+    for key, members in groups.items():
+        plan = _plan(steps[key])
+        sel = values if every else values[members]
+        # _counts(a % 360.0, plan) % full for each: np.mod and Python's % agree on doubles
+        counts = np.floor(np.mod(sel, 360.0) * plan.per_degree + 0.5).astype(np.int64)
+        counts %= 360 * plan.per_degree
+        seen: dict[int, str] = {}
+        for i, c in zip(range(count) if every else members, counts.tolist(), strict=True):
+            text = seen.get(c)
+            if text is None:
+                text = seen[c] = _bearing_text(c, plan, ascii)
+            out[i] = text
+    return out
 
 
 def format_azimuth(
@@ -904,8 +1037,8 @@ def parse_declination(value: str | float | int) -> float:
         raise r.fail(j, f"unexpected '{r.show(j, j + 1)}' after the declination")
     if letter is not None and sign:
         raise r.fail(0, "give either a sign or E/W, not both")
-    if angle.value > 180:
+    if angle.num > 180 * angle.den:
         raise r.fail(i, f"declination {r.text[angle.start : angle.end]} is more than 180 degrees")
     negative = sign < 0 or letter == "W"
-    v = float(angle.value)
+    v = angle.num / angle.den
     return (-v if negative else v) + 0.0

@@ -195,14 +195,18 @@ def read_distance(
             total += nq.value * key[1] / _size_key(first_unit)[1]  # type: ignore[index]
             prev, prev_unit = key, nunit
             end_tok = nk + 1
-    if total <= 0:
+    if total.numerator <= 0:  # a Fraction's denominator is positive
         raise r.fail(i, f"the distance {r.show(i, end_tok)} must be more than zero")
     try:
         per = metres_per(first_unit, foot=foot, vara_inches=vara_inches)
     except InputError as exc:
         raise r.fail(j if unit is not None else i, exc.message) from None
     text = r.span(i, end_tok)
-    return Distance(float(total * per), float(total), first_unit, text), end_tok
+    # float(total * per) and float(total) without Fraction arithmetic: int / int is correctly
+    # rounded, as float() of the reduced Fraction is, so the doubles are the same.
+    metres = (total.numerator * per.numerator) / (total.denominator * per.denominator)
+    value = total.numerator / total.denominator
+    return Distance(metres, value, first_unit, text), end_tok
 
 
 # Words that may follow a bare number in a call (the note begins there).

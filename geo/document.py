@@ -76,7 +76,7 @@ import math
 import os
 import tomllib
 from collections.abc import Mapping
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
 from typing import Annotated, Any, Literal
@@ -92,6 +92,10 @@ from pydantic import (
 )
 from pydantic_core import PydanticCustomError
 
+from geo import units
+from geo.angles import normalize_azimuth
+from geo.bearings import parse_bearing
+from geo.calls import parse_call, parse_distance
 from geo.errors import DocumentError, LodelineError
 
 __all__ = [
@@ -649,8 +653,6 @@ def _unit_context(doc: Document) -> dict[str, Any]:
     The foot is ``record.foot``, else the default for the record date (geo.units); with
     neither, ``None``, so that a foot-based length raises an error at its course.
     """
-    from geo import units
-
     record = doc.record
     try:
         foot: str | None = units.choose_foot(record.foot, record.date).foot
@@ -664,7 +666,6 @@ def _unit_context(doc: Document) -> dict[str, Any]:
 
 
 def _check_record(doc: Document, file: str | None) -> list[DocumentError]:
-    from geo import units
     from geo.bearings import parse_declination
     from geo.dates import parse_date
 
@@ -733,8 +734,6 @@ def _parse_angle(value: float | str) -> tuple[float, float]:
     Returns ``(degrees, precision_deg)``; the text is read by the bearing parser as an azimuth
     (the same DMS grammar), so a quadrant bearing here is an error.
     """
-    from geo.bearings import parse_bearing
-
     if isinstance(value, float):
         text = repr(value)
         decimals = len(text.split(".")[1].rstrip("0")) if "e" not in text else 6
@@ -753,9 +752,6 @@ def _parse_angle(value: float | str) -> tuple[float, float]:
 
 def _course_distance(course: Course, ctx: dict[str, Any], file: str | None, index: int) -> Any:
     """The ``distance`` [+ ``unit``] of a course without a call, parsed (errors at the key)."""
-    from geo import units
-    from geo.calls import parse_distance
-
     unit = course.unit or ctx["default_unit"]
     if course.unit is not None:
         try:
@@ -797,7 +793,7 @@ def _parse_course(
     """Parse one course (cached on the course's keys and context: an editor re-parses a whole
     document on every keystroke, and only the edited course is new)."""
     try:
-        rc = _parse_course_cached(
+        fields = _parse_course_cached(
             course,
             index == 1,
             previous_azimuth if course.bearing is None and course.call is None else None,
@@ -809,7 +805,7 @@ def _parse_course(
         if (err.field or "").startswith("record."):
             raise err.located(file=file) from None
         raise err.located(file=file, course=index) from None
-    return replace(rc, index=index)
+    return RecordedCourse(index, *fields)
 
 
 @lru_cache(maxsize=50_000)
@@ -820,12 +816,10 @@ def _parse_course_cached(
     angles: str | None,
     distance_unit: str | None,
     ctx_items: tuple[tuple[str, Any], ...],
-) -> RecordedCourse:
+) -> tuple[Any, ...]:
+    """The fields of the course's :class:`RecordedCourse` after ``index``, in order (the
+    course number is not part of the key: inserting a course keeps the others cached)."""
     ctx = dict(ctx_items)
-    from geo.angles import normalize_azimuth
-    from geo.bearings import parse_bearing
-    from geo.calls import parse_call, parse_distance
-
     where: dict[str, Any] = {}
     call_note: str | None = None
     angle_deg: float | None = None
@@ -894,20 +888,19 @@ def _parse_course_cached(
             raise _locate(err, None, None, "every") from None
         if not every_m > 0.0:
             raise DocumentError("must be a positive distance", field="every", **where)
-    return RecordedCourse(
-        index=0,
-        text=course_call_text(course, distance_unit),
-        azimuth_deg=float(azimuth),
-        precision_deg=float(precision),
-        bearing_text=bearing_text,
-        angle_deg=angle_deg,
-        length_m=float(distance.metres),
-        length_value=float(distance.value),
-        length_unit=str(distance.unit),
-        back_azimuth_deg=None if back is None else float(back),
-        every_m=every_m,
-        note=course.note,
-        call_note=call_note,
+    return (
+        course_call_text(course, distance_unit),  # text
+        float(azimuth),  # azimuth_deg
+        float(precision),  # precision_deg
+        bearing_text,
+        angle_deg,
+        float(distance.metres),  # length_m
+        float(distance.value),  # length_value
+        str(distance.unit),  # length_unit
+        None if back is None else float(back),  # back_azimuth_deg
+        every_m,
+        course.note,  # note
+        call_note,
     )
 
 

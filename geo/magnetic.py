@@ -181,7 +181,15 @@ def field_at(
         if sel.any():
             with np.errstate(divide="ignore"):
                 sigma[sel] = np.sqrt(a * a + (b / hz[sel]) ** 2)
-    warn = tuple(_warnings(value) for value in hz.tolist())
+    # Most points need no warning: format the message only where H is low or not finite.
+    flagged = ~(np.isfinite(hz) & (hz >= CAUTION_H_NT))
+    if flagged.any():
+        warn_list: list[tuple[str, ...]] = [()] * size
+        for k in np.flatnonzero(flagged).tolist():
+            warn_list[k] = _warnings(float(hz[k]))
+        warn = tuple(warn_list)
+    else:
+        warn = ((),) * size
     model_out: str | tuple[str, ...] = unique[0] if len(unique) == 1 else tuple(names.tolist())
 
     def shaped(a: NDArray[np.float64]) -> NDArray[np.float64]:

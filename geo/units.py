@@ -217,6 +217,28 @@ def metres_per(
     module notes); ``vara_inches`` is required for the vara. Raises :class:`InputError`
     when the unit is unknown or a required parameter is missing.
     """
+    key = (unit, foot, type(vara_inches), vara_inches)
+    try:
+        return _METRES_PER_SEEN[key]
+    except KeyError:
+        pass
+    except TypeError:  # an unhashable argument: _metres_per says what is wrong with it
+        return _metres_per(unit, foot, vara_inches)
+    value = _metres_per(unit, foot, vara_inches)
+    if len(_METRES_PER_SEEN) >= 1024:
+        _METRES_PER_SEEN.clear()
+    _METRES_PER_SEEN[key] = value
+    return value
+
+
+# metres_per results already computed (exact Fractions, immutable): a document parses
+# thousands of distances in one or two units. Errors are not remembered.
+_METRES_PER_SEEN: dict[tuple, Fraction] = {}
+
+
+def _metres_per(
+    unit: str, foot: Foot | None, vara_inches: Fraction | int | float | str | None
+) -> Fraction:
     name = unit_name(unit)
     if name in _METRES_PER_METRIC:
         return _METRES_PER_METRIC[name]
