@@ -269,8 +269,7 @@ def _first_model(model: Any) -> str:
     return ", ".join(str(n) for n in names)
 
 
-def _sigma(values: np.ndarray, i: int) -> float | None:
-    v = float(values[i])
+def _finite_or_none(v: float) -> float | None:
     return v if math.isfinite(v) else None
 
 
@@ -314,14 +313,6 @@ def _date(value: Any, *, file: str | None, field: str) -> tuple[_dt.date | None,
         raise DocumentError(err.message, file=file, field=field) from None
 
 
-def _format(azimuth: float | None, precision: float) -> str | None:
-    if azimuth is None:
-        return None
-    from geo.bearings import format_bearing
-
-    return format_bearing(azimuth, precision=precision)
-
-
 def convert_document(
     doc: Document,
     *,
@@ -359,6 +350,7 @@ def convert_document(
     from geo import grid as _grid
     from geo import units as _units
     from geo.angles import normalize_azimuth
+    from geo.bearings import format_bearings
     from geo.magnetic import field_at
 
     courses = parse_courses(doc, file=file)
@@ -525,26 +517,42 @@ def convert_document(
     mag2 = np.asarray(normalize_azimuth(true - d2[:n]), dtype=float)
 
     found = _found_stations(doc, courses, crs, file)
+    # Per-course values as Python floats, read once (the same doubles as float(array[i])).
+    mag1_l = None if mag1 is None else mag1.tolist()
+    true_l, grid_l, mag2_l = true.tolist(), grid_az.tolist(), mag2.tolist()
+    d1_l = None if d1 is None else d1.tolist()
+    d2_l, gamma_l, combined_l = d2.tolist(), gamma.tolist(), combined.tolist()
+    sigma1_l = [_finite_or_none(v) for v in sigma1.tolist()]
+    sigma2_l = [_finite_or_none(v) for v in sigma2.tolist()]
+    scale_l = np.asarray(factors.scale_factor, dtype=float).tolist()
+    elevation_l = np.asarray(factors.elevation_factor, dtype=float).tolist()
+    record_warnings = record_field.warnings_list(n) if record_field is not None else [()] * n
+    target_warnings = target_field_vec.warnings_list(n)
+    # Bearing texts: the recorded reference at the call's precision, the others at the call's
+    # but never coarser than a minute.
+    own = [rc.precision_deg for rc in courses]
+    derived = [min(p, _DERIVED_PRECISION_DEG) for p in own]
+    reference = record.reference
+    mag1_t = None if mag1 is None else format_bearings(mag1, precision=own if magnetic else derived)
+    true_t = format_bearings(true, precision=own if reference == "true" else derived)
+    grid_t = format_bearings(grid_az, precision=own if reference == "grid" else derived)
+    mag2_t = format_bearings(mag2, precision=derived)
     out: list[CourseConversion] = []
     for i, rc in enumerate(courses):
-        precision = min(rc.precision_deg, _DERIVED_PRECISION_DEG)
-        own = rc.precision_deg
         az = References(
-            None if mag1 is None else float(mag1[i]),
-            float(true[i]),
-            float(grid_az[i]),
-            float(mag2[i]),
+            None if mag1_l is None else mag1_l[i],
+            true_l[i],
+            grid_l[i],
+            mag2_l[i],
         )
-        text = References(
-            _format(az.magnetic_record, own if magnetic else precision),
-            _format(az.true, own if record.reference == "true" else precision),
-            _format(az.grid, own if record.reference == "grid" else precision),
-            _format(az.magnetic_target, precision),
-        )
-        warnings: list[str] = []
-        if record_field is not None:
-            warnings += [f"record date: {w}" for w in record_field.warnings_at(i)]
-        warnings += [f"target date: {w}" for w in target_field_vec.warnings_at(i)]
+        text = References(None if mag1_t is None else mag1_t[i], true_t[i], grid_t[i], mag2_t[i])
+        rec_w, tgt_w = record_warnings[i], target_warnings[i]
+        if rec_w or tgt_w:
+            listed = [f"record date: {w}" for w in rec_w]
+            listed += [f"target date: {w}" for w in tgt_w]
+            warnings = tuple(dict.fromkeys(listed))
+        else:
+            warnings = ()
         out.append(
             CourseConversion(
                 index=rc.index,
@@ -553,21 +561,21 @@ def convert_document(
                 length_m=rc.length_m,
                 length_value=rc.length_value,
                 length_unit=rc.length_unit,
-                grid_length_m=float(rc.length_m * combined[i]),
+                grid_length_m=rc.length_m * combined_l[i],
                 start=stations[i],
                 end=stations[i + 1],
-                declination_record_deg=None if d1 is None else float(d1[i]),
-                declination_target_deg=float(d2[i]),
-                declination_record_sigma_deg=_sigma(sigma1, i),
-                declination_target_sigma_deg=_sigma(sigma2, i),
-                convergence_deg=float(gamma[i]),
-                scale_factor=float(np.asarray(factors.scale_factor, dtype=float)[i]),
-                elevation_factor=float(np.asarray(factors.elevation_factor, dtype=float)[i]),
-                combined_factor=float(combined[i]),
+                declination_record_deg=None if d1_l is None else d1_l[i],
+                declination_target_deg=d2_l[i],
+                declination_record_sigma_deg=sigma1_l[i],
+                declination_target_sigma_deg=sigma2_l[i],
+                convergence_deg=gamma_l[i],
+                scale_factor=scale_l[i],
+                elevation_factor=elevation_l[i],
+                combined_factor=combined_l[i],
                 azimuth=az,
                 bearing=text,
                 found=found[i],
-                warnings=tuple(dict.fromkeys(warnings)),
+                warnings=warnings,
             )
         )
     return DocumentConversion(
@@ -631,6 +639,19 @@ class _Split:
         if isinstance(item, str):
             return (item,)
         return tuple(str(w) for w in item or ())
+
+    def warnings_list(self, count: int) -> list[tuple[str, ...]]:
+        """``[warnings_at(i) for i in range(count)]``, without a call per point when the
+        field gives no warnings (the usual case)."""
+        warnings = self._field.warnings
+        start = self._part.start or 0
+        if (
+            isinstance(warnings, tuple)
+            and len(warnings) >= start + count
+            and warnings[start : start + count].count(()) == count
+        ):
+            return [()] * count
+        return [self.warnings_at(i) for i in range(count)]
 
 
 def _found_stations(

@@ -140,6 +140,11 @@ def _fmt_bearing(azimuth_deg: float | None) -> str | None:
     return format_bearing(azimuth_deg, precision=_SECOND_DEG)
 
 
+def _float_list(values: Any) -> list[float]:
+    """A 1-D array's values as Python floats (``float(values[i])`` for each ``i``)."""
+    return np.asarray(values, dtype=float).tolist()
+
+
 def _floats(values: Any) -> tuple[float, ...]:
     return tuple(float(v) for v in np.asarray(values, dtype=float).ravel())
 
@@ -664,30 +669,49 @@ def close_document(
         a_lat, a_dep, a_len, a_az = st.latitudes_m, st.departures_m, length, az
         north_m, east_m = st.north_m, st.east_m
 
+    from geo.bearings import format_bearings
+
+    # Per-course values as Python floats, read once (the same doubles as float(array[i])).
+    columns = zip(
+        conv.courses,
+        _float_list(az),
+        format_bearings(az, precision=_SECOND_DEG),
+        _float_list(length),
+        _float_list(st.latitudes_m),
+        _float_list(st.departures_m),
+        _float_list(lat_c),
+        _float_list(dep_c),
+        _float_list(a_lat),
+        _float_list(a_dep),
+        _float_list(a_len),
+        _float_list(a_az),
+        format_bearings(a_az, precision=_SECOND_DEG),
+        strict=True,
+    )
     courses = tuple(
         ClosureCourse(
             index=c.index,
             call=c.call,
-            azimuth_deg=float(az[i]),
-            bearing=_fmt_bearing(float(az[i])),
-            length_m=float(length[i]),
-            latitude_m=float(st.latitudes_m[i]),
-            departure_m=float(st.departures_m[i]),
-            latitude_correction_m=float(lat_c[i]),
-            departure_correction_m=float(dep_c[i]),
-            adjusted_latitude_m=float(a_lat[i]),
-            adjusted_departure_m=float(a_dep[i]),
-            adjusted_length_m=float(a_len[i]),
-            adjusted_azimuth_deg=float(a_az[i]),
-            adjusted_bearing=_fmt_bearing(float(a_az[i])),
+            azimuth_deg=a,
+            bearing=a_text,
+            length_m=ln,
+            latitude_m=la,
+            departure_m=de,
+            latitude_correction_m=lc,
+            departure_correction_m=dc,
+            adjusted_latitude_m=ala,
+            adjusted_departure_m=ade,
+            adjusted_length_m=aln,
+            adjusted_azimuth_deg=aa,
+            adjusted_bearing=aa_text,
         )
-        for i, c in enumerate(conv.courses)
+        for c, a, a_text, ln, la, de, lc, dc, ala, ade, aln, aa, aa_text in columns
     )
 
     def stations(n_arr: np.ndarray, e_arr: np.ndarray) -> tuple[ClosureStation, ...]:
         return tuple(
-            ClosureStation(i, float(n_arr[i]) + 0.0, float(e_arr[i]) + 0.0)
-            for i in range(n_arr.size)
+            ClosureStation(i, n + 0.0, e + 0.0)
+            for i, (n, e) in enumerate(zip(_float_list(n_arr), _float_list(e_arr), strict=True))
         )
 
     perimeter = math.fsum(length.tolist())
@@ -734,14 +758,16 @@ def close_document(
     except LodelineError as err:
         raise err.located(file=conv.file, field="bearing_sigma_deg") from None
     budget = tuple(
-        BudgetStation(
-            i,
-            float(eb.distance_m[i]),
-            float(eb.bearing_m[i]),
-            float(eb.declination_m[i]),
-            float(eb.total_m[i]),
+        BudgetStation(i, d, b, dm, t)
+        for i, (d, b, dm, t) in enumerate(
+            zip(
+                _float_list(eb.distance_m),
+                _float_list(eb.bearing_m),
+                _float_list(eb.declination_m),
+                _float_list(eb.total_m),
+                strict=True,
+            )
         )
-        for i in range(eb.distance_m.size)
     )
     return SurveyClosure(
         file=conv.file,
