@@ -415,3 +415,30 @@ async def test_csv_prompt_asks_when_only_the_second_file_exists(doc_path: Path):
         await pilot.press("escape")
     assert second.read_text(encoding="utf-8") == "kept\n"
     assert not doc_path.with_suffix(".csv").exists()
+
+
+@sync
+async def test_found_positions_typed_give_the_fit(doc_path: Path):
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await _settle(pilot)
+        conv = app.desk.results.conversion
+        assert "needs found positions" in app.desk.query_one("#panel-fit").text
+        for row in (0, 2):  # the record's own end stations as found: a fit with no rotation
+            end = conv.courses[row].end
+            app.desk.query_one(CallTable).move_cursor(row=row)
+            await pilot.press("f")
+            await pilot.pause()
+            assert "found position" in str(app.desk.query_one("#editor-label").render())
+            await _paste(pilot, f"easting={end.easting:.3f}, northing={end.northing:.3f}")
+            await pilot.press("enter")
+            await _settle(pilot)
+        assert app.workspace.courses[2]["found"]["easting"] == pytest.approx(
+            conv.courses[2].end.easting, abs=1e-3
+        )
+        text = app.desk.query_one("#panel-fit").text
+        # a true record onto its own grid positions: the rotation record -> grid is -gamma
+        # (grid az = true az - gamma, DESIGN.md), the same across this small figure to 0.01°
+        rotation = float(text.split("rotation ")[1].split("°")[0])
+        assert rotation == pytest.approx(-conv.courses[0].convergence_deg, abs=0.01)
+        assert "rms 0.000 m" in text

@@ -342,14 +342,15 @@ def _closure_panel(closure: Any) -> PanelText:
         lines.append("misclosure 0 m (closes exactly)")
     else:
         lines.append(f"misclosure {closure.misclosure_m:,.3f} m")
-        lines.append(f"  toward {closure.misclosure_bearing} true")
+        lines.append(f"  toward {closure.misclosure_bearing} (true)")
         lines.append(f"precision 1:{closure.precision:,.0f}")
     area = closure.area
     if area is not None:
         lines.append(f"area {area.acres:,.3f} acres")
-        lines.append(f"  {area.hectares:,.4f} ha, {area.ground_m2:,.1f} m²")
-        lines.append(f"  ground; grid {area.grid_m2:,.1f} m²")
-        lines.append(f"  {closure.adjustment} rule")
+        lines.append(f"  {area.hectares:,.4f} ha")
+        lines.append(f"  {area.ground_m2:,.1f} m² ground")
+        lines.append(f"  {area.grid_m2:,.1f} m² grid")
+        lines.append(f"  adjusted by the {closure.adjustment} rule")
     if closure.crossing is not None:
         a, b = closure.crossing
         lines.append(f"! courses {a} and {b} cross: no area")

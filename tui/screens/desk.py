@@ -43,7 +43,7 @@ DEBOUNCE_S = 0.06
 THREAD_ABOVE = 1000
 
 PANELS = (
-    ("field", "Field at the point of beginning"),
+    ("field", "Field at the beginning"),
     ("grid", "Grid"),
     ("closure", "Closure"),
     ("attraction", "Local attraction"),
@@ -168,7 +168,7 @@ class Desk(Screen):
         findings.styles.height = max(16, self.size.height // 2 - 2) if stacked else "1fr"
         for column in findings.query("#findings > Vertical"):
             wide_column = column.id == "findings-c"
-            column.styles.width = ("1fr" if wide_column else 32) if stacked else "100%"
+            column.styles.width = ("1fr" if wide_column else 34) if stacked else "100%"
             column.styles.height = "100%" if stacked else "auto"
             column.styles.overflow_y = "auto" if stacked else "hidden"
         sketch = self.query_one(TraverseSketch)
