@@ -278,8 +278,8 @@ def _range_error(
 ) -> ModelRangeError:
     if which == "record":
         remedy = (
-            "state the original surveyor's declination in record.declination, load a model "
-            "that covers the date (lodeline models), or name another in record.model"
+            "a stated declination goes in record.declination; 'lodeline close --north "
+            "magnetic' and 'lodeline fit' need none"
         )
         field = "record.model" if "unknown" in err.message.lower() else "record.date"
     else:
@@ -320,6 +320,7 @@ def convert_document(
     target_date: _dt.date | str | float | None = None,
     model: str | None = None,
     record_model: str | None = None,
+    allow_unknown_declination: bool = False,
 ) -> DocumentConversion:
     """Convert every course of ``doc`` to all four north references.
 
@@ -337,6 +338,14 @@ def convert_document(
         else ``"auto"``.
     record_model:
         The field model for the record date; default ``record.model``.
+    allow_unknown_declination:
+        For a magnetic record with no stated declination and no model covering the record
+        date: instead of raising, return a conversion that keeps only what does not depend
+        on D at the record date (the recorded bearings, lengths, the point of beginning,
+        γ and the factors there, found positions). Its true, grid and target-date azimuths
+        and bearings are ``None``, ``declination_source`` is ``None``, and the stations after
+        the point of beginning are NaN. This is what the closure in magnetic north and the
+        record-to-found fit (which finds that declination) work from.
 
     Raises
     ------
@@ -422,6 +431,7 @@ def convert_document(
     target_field_vec: Any = None
     d1: np.ndarray | None = None
     record_usable = need_record_model
+    unknown_d1 = False
     for _pass in range(_MAX_PASSES):
         # The first pass evaluates at the point of beginning only (every station starts there).
         m = 1 if _pass == 0 else n + 1
@@ -454,12 +464,17 @@ def convert_document(
                         evaluate("record", record_model_name, record_year, at_lat, at_lon), None
                     )
                 except ModelRangeError:
-                    if magnetic:
+                    if magnetic and not allow_unknown_declination:
                         raise
                     record_usable = False
+                    unknown_d1 = magnetic
                     notes.append(
-                        "no field model covers the record date: the magnetic bearings at the "
-                        "record date are not given"
+                        "no field model covers the record date and no declination is stated: "
+                        "true, grid and target-date bearings are not given (fit the "
+                        "declination from found monuments, state it, or install a model)"
+                        if magnetic
+                        else "no field model covers the record date: the magnetic bearings "
+                        "at the record date are not given"
                     )
             target_field_vec = _Split(
                 evaluate("target", target_model_name, tyear, at_lat, at_lon), None
@@ -470,7 +485,9 @@ def convert_document(
             d1 = np.broadcast_to(np.asarray(record_field.declination_deg, dtype=float), (n + 1,))
         else:
             d1 = None
-        if record.reference == "magnetic":
+        if unknown_d1:
+            true = recorded  # provisional geometry only; withheld from the result below
+        elif record.reference == "magnetic":
             true = recorded + d1[:n]
         elif record.reference == "true":
             true = recorded
@@ -513,7 +530,10 @@ def convert_document(
     else:
         sigma1 = np.full(n + 1, np.nan)
     true = np.asarray(normalize_azimuth(true), dtype=float) if n else np.zeros(0)
-    mag1 = None if d1 is None else np.asarray(normalize_azimuth(true - d1[:n]), dtype=float)
+    if unknown_d1:
+        mag1 = np.asarray(normalize_azimuth(recorded), dtype=float) if n else np.zeros(0)
+    else:
+        mag1 = None if d1 is None else np.asarray(normalize_azimuth(true - d1[:n]), dtype=float)
     mag2 = np.asarray(normalize_azimuth(true - d2[:n]), dtype=float)
 
     found = _found_stations(doc, courses, crs, file)
@@ -538,6 +558,12 @@ def convert_document(
     grid_t = format_bearings(grid_az, precision=own if reference == "grid" else derived)
     mag2_t = format_bearings(mag2, precision=derived)
     out: list[CourseConversion] = []
+    if unknown_d1:
+        true_l = grid_l = mag2_l = [None] * n
+        true_t = grid_t = mag2_t = [None] * n
+        stations = stations[:1] + tuple(
+            Station(i, math.nan, math.nan, math.nan, math.nan) for i in range(1, n + 1)
+        )
     for i, rc in enumerate(courses):
         az = References(
             None if mag1_l is None else mag1_l[i],

@@ -427,6 +427,39 @@ def test_fit_recovers_declination_and_chain_length_without_a_model():
     assert [x.index for x in r.residuals] == [2, 3, 4]
 
 
+def test_fit_and_magnetic_closure_need_no_declination_at_the_record_date():
+    """Regression: a magnetic record of 1790 with neither a stated declination nor a model
+    covering the date made every command fail, the fit included, which is the tool for
+    exactly that case. Found corners walked with pyproj's Geod (independent of geo.*)."""
+    from geo.errors import ModelRangeError
+
+    lat0, lon0 = PLACE["lat"], PLACE["lon"]
+    lats, lons = found_by_geodesic(lat0, lon0, -1.4, 1.003, PLACE["height_m"])
+    doc = fit_doc(lats, lons, stated="auto")
+    with pytest.raises(ModelRangeError, match="lodeline fit"):
+        convert(doc)
+    conv = convert_document(doc, target_date=TARGET, allow_unknown_declination=True)
+    assert conv.declination_source is None
+    assert all(c.azimuth.true is None and c.bearing.grid is None for c in conv.courses)
+    assert all(math.isnan(s.easting) for s in conv.stations[1:])
+    r = fit_document(conv)
+    assert r.empirical_declination_deg == pytest.approx(-1.4, abs=0.005)
+    assert r.record_length_factor == pytest.approx(1.003, abs=1e-4)
+    assert r.model_declination_deg is None and r.stated_declination_deg is None
+    closed = make_doc([course(az, d) for az, d in FIT_RECORD], date="1790-04-01")
+    magnetic = close_document(
+        convert_document(closed, target_date=TARGET, allow_unknown_declination=True),
+        north="magnetic",
+    )
+    with_d = close_document(
+        convert(
+            make_doc([course(az, d) for az, d in FIT_RECORD], date="1790-04-01", declination="2 E")
+        ),
+        north="magnetic",
+    )
+    assert magnetic.misclosure_m == pytest.approx(with_d.misclosure_m, abs=1e-9)
+
+
 def test_fit_with_noise_and_without_scale():
     # Found positions displaced by 1 cm noise (fixed seed): rotation still within 0.005 deg.
     lat0, lon0 = PLACE["lat"], PLACE["lon"]

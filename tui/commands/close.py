@@ -157,16 +157,28 @@ def finish(lines: list[str], notes: tuple[str, ...]) -> str:
     return "\n".join(lines) + "\n"
 
 
-def emit(args: argparse.Namespace, compute: Any, render_result: Any) -> int:
+def emit(
+    args: argparse.Namespace,
+    compute: Any,
+    render_result: Any,
+    *,
+    allow_unknown_declination: bool = False,
+) -> int:
     """Load and convert ``args.document``, compute a result from the conversion and print it
-    (``--json``: its ``as_dict()``; else ``render_result(result, title)``)."""
+    (``--json``: its ``as_dict()``; else ``render_result(result, title)``).
+
+    ``allow_unknown_declination``: see :func:`geo.north.convert_document` (the fit and the
+    closure in magnetic north need no declination at the record date)."""
     from geo.document import load_document
     from geo.north import convert_document
 
     from .common import print_json
 
     doc = load_document(args.document)
-    result = compute(convert_document(doc, file=args.document))
+    conv = convert_document(
+        doc, file=args.document, allow_unknown_declination=allow_unknown_declination
+    )
+    result = compute(conv)
     if args.json:
         print_json(result.as_dict())
     else:
@@ -179,5 +191,8 @@ def run(args: argparse.Namespace) -> int:
     from geo.survey import close_document
 
     return emit(
-        args, lambda conv: close_document(conv, adjust=args.adjust, north=args.north), render
+        args,
+        lambda conv: close_document(conv, adjust=args.adjust, north=args.north),
+        render,
+        allow_unknown_declination=args.north == "magnetic",
     )

@@ -89,4 +89,9 @@ def run(args: argparse.Namespace) -> int:
 
     from .close import emit
 
-    return emit(args, lambda conv: fit_document(conv, with_scale=not args.no_scale), render)
+    return emit(
+        args,
+        lambda conv: fit_document(conv, with_scale=not args.no_scale),
+        render,
+        allow_unknown_declination=True,
+    )
