@@ -97,9 +97,10 @@ class Desk(Screen):
         self._recovery_timer: Timer | None = None
         self.results: Results | None = None
         self._editor_session = 0
-        #: (revision, final) of the results shown last.
+        #: (revision, complete) of the results shown last; complete: every panel and the
+        #: sketch show the final results.
         self.applied: tuple[int, bool] = (-1, False)
-        #: Called with (revision, final) after results are shown (the bench listens here).
+        #: Called with (revision, complete) after results are shown (the bench listens here).
         self.on_applied: Callable[[int, bool], None] | None = None
 
     @property
@@ -238,14 +239,16 @@ class Desk(Screen):
             self.app.call_from_thread(self._apply, final, revision)
 
     def _apply(self, results: Results, revision: int) -> None:
-        """Show ``results`` if they belong to the document as it is now (one redraw)."""
+        """Show ``results`` if they belong to the document as it is now: the table and the
+        panels in one redraw, then the sketch (the slowest to draw) in the next."""
         if revision != self.lode.workspace.revision:
             return
         with self.app.batch_update():
             self._show(results)
-        self.applied = (revision, results.final)
+        self.applied = (revision, False)
         if self.on_applied is not None:
-            self.on_applied(revision, results.final)
+            self.on_applied(revision, False)
+        self.call_after_refresh(self._show_sketch, results, revision)
 
     def _show(self, results: Results) -> None:
         self.results = results
@@ -254,15 +257,23 @@ class Desk(Screen):
             panel = self.query_one(f"#panel-{key}", FindingsPanel)
             outcome = results.panels[key]
             panel.show(outcome.lines, error=outcome.error, idle=outcome.idle)
-        sketch = self.query_one(TraverseSketch)
-        sketch.show_figure(results.sketch, results.sketch_message)
-        key = TraverseSketch.key_text(results.sketch) if results.sketch else ""
-        set_text(self.query_one("#sketch-key", Static), key)
         form = self.query_one(JobForm)
         form.mark_invalid(results.invalid_settings)
         form.show_crs_hint(results.crs_hint)
         self._show_row_message()
         self._update_docbar()
+
+    def _show_sketch(self, results: Results, revision: int) -> None:
+        if revision != self.lode.workspace.revision:
+            return
+        sketch = self.query_one(TraverseSketch)
+        sketch.show_figure(results.sketch, results.sketch_message)
+        key = TraverseSketch.key_text(results.sketch) if results.sketch else ""
+        set_text(self.query_one("#sketch-key", Static), key)
+        if results.final:
+            self.applied = (revision, True)
+            if self.on_applied is not None:
+                self.on_applied(revision, True)
 
     def _update_docbar(self) -> None:
         ws = self.lode.workspace

@@ -169,29 +169,30 @@ class CallTable(ScrollView, can_focus=True):
         """Show ``rows``; only the lines whose text changed are repainted."""
         new = [row.cells(i + 1) for i, row in enumerate(rows)]
         bad = [row.mark == "✗" for row in rows]
-        widths = [len(h) for _k, h in COLUMNS]
+        # columns widen to fit and do not narrow while typing (no jumping, no relayout)
+        widths = (
+            list(self._widths) if len(new) == len(self._rows) else [len(h) for _k, h in COLUMNS]
+        )
         for cells in new:
             for c, text in enumerate(cells):
                 if len(text) > widths[c]:
                     widths[c] = len(text)
-        relayout = widths != self._widths or len(new) != len(self._rows)
-        changed = [
-            r
-            for r in range(min(len(new), len(self._rows)))
-            if new[r] != self._rows[r] or bad[r] != self._bad[r]
-        ]
-        self._rows, self._bad, self._widths = new, bad, widths
-        if relayout:
+        if widths != self._widths or len(new) != len(self._rows):
+            self._rows, self._bad, self._widths = new, bad, widths
             self._cache.clear()
-            self.virtual_size = Size(self._total_width(), len(new) + 1)
+            size = Size(self._total_width(), len(new) + 1)
+            if size != self.virtual_size:
+                self.virtual_size = size
             if new and self.cursor_row >= len(new):
                 self.cursor_row = len(new) - 1
             self.refresh()
-        else:
-            top = int(self.scroll_offset.y)
-            for r in changed:
-                if top <= r < top + self.size.height:
-                    self.refresh_line(r - top + 1)
+            return
+        top = int(self.scroll_offset.y)
+        height = self.size.height
+        for r, (cells, is_bad) in enumerate(zip(new, bad, strict=True)):
+            if (cells != self._rows[r] or is_bad != self._bad[r]) and top <= r < top + height:
+                self.refresh_line(r - top + 1)
+        self._rows, self._bad = new, bad
 
     @property
     def row_count(self) -> int:
