@@ -353,7 +353,7 @@ class LodelineApp(App[int]):
         if old != path:
             discard_recovery(old)
         desk = self.desk
-        desk._update_docbar()
+        desk.update_docbar()
         current = desk.results is not None and desk.applied[0] == ws.revision
         problems = desk.results.problem_count if current else 0
         note = (

@@ -200,7 +200,7 @@ class Desk(Screen):
         if self._timer is not None:
             self._timer.stop()
         self._timer = self.set_timer(DEBOUNCE_S, self.recompute)
-        self._update_docbar()
+        self.update_docbar()
         self._schedule_recovery()
 
     def _schedule_recovery(self) -> None:
@@ -261,7 +261,7 @@ class Desk(Screen):
         form.mark_invalid(results.invalid_settings)
         form.show_crs_hint(results.crs_hint)
         self._show_row_message()
-        self._update_docbar()
+        self.update_docbar()
 
     def _show_sketch(self, results: Results, revision: int) -> None:
         if revision != self.lode.workspace.revision:
@@ -275,7 +275,7 @@ class Desk(Screen):
             if self.on_applied is not None:
                 self.on_applied(revision, True)
 
-    def _update_docbar(self) -> None:
+    def update_docbar(self) -> None:
         ws = self.lode.workspace
         name = str(ws.path) if ws.path else "new document (not yet saved)"
         state = "● modified" if ws.dirty else "saved"
@@ -379,7 +379,7 @@ class Desk(Screen):
         table.show_rows(rows)  # the table changes at once; the numbers follow
         table.move_cursor(row=target, animate=False)
         self.recompute()
-        self._update_docbar()
+        self.update_docbar()
         if event.action == "insert":
             self.open_editor(event.index, "call")
         self._schedule_recovery()
