@@ -78,7 +78,7 @@ def doc_path(tmp_path: Path) -> Path:
     return path
 
 
-async def _settle(pilot, seconds: float = 0.15) -> None:
+async def _settle(pilot, seconds: float = 0.08) -> None:
     await pilot.pause(seconds)
     await pilot.app.workers.wait_for_complete()
     await pilot.pause()
