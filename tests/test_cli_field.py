@@ -14,12 +14,11 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
+from shared_data import GUFM1  # noqa: E402
 
 from geo.magnetic import field_at
 from tui.cli import main
 from tui.commands.field import RESULT_KEYS
-
-GUFM1 = Path(__file__).parents[2] / "shared" / "data" / "gufm1.txt"
 
 JSON_KEYS = [
     "lat", "lon", "date", "height_m", "model", "declination_deg", "inclination_deg",

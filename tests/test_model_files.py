@@ -24,7 +24,7 @@ from geo.models import shipped_models
 from geo.synthesis import coefficient_index
 
 DATA_DIR = Path(__file__).parents[1] / "geo" / "data"
-GUFM1 = Path(__file__).parents[2] / "shared" / "data" / "gufm1.txt"
+from shared_data import GUFM1  # noqa: E402
 
 
 def _reference_file(package: str, *parts: str) -> Path:

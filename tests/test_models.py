@@ -2,10 +2,9 @@
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import numpy as np
 import pytest
+from shared_data import GUFM1  # noqa: E402
 
 from geo.errors import InputError, ModelFileError, ModelRangeError
 from geo.magnetic import field_at
@@ -18,8 +17,6 @@ from geo.models import (
     resolve,
     user_models,
 )
-
-GUFM1 = Path(__file__).parents[2] / "shared" / "data" / "gufm1.txt"
 
 # An invented two-epoch SHC model for 1700-1900 (test data only; not a real field model).
 HISTORIC_SHC = """# invented test model

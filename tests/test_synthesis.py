@@ -11,16 +11,15 @@ from __future__ import annotations
 
 import datetime as dt
 import os
-from pathlib import Path
 
 import numpy as np
 import pytest
+from shared_data import DATA  # noqa: E402
 
 from geo.magnetic import field_at
 from geo.models import load_model
 from geo.synthesis import SphericalHarmonicModel, geodetic_to_geocentric, synthesize
 
-DATA = Path(__file__).parents[2] / "shared" / "data"
 GUFM1 = DATA / "gufm1.txt"
 
 
