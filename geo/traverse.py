@@ -322,12 +322,40 @@ def _on_segment(d, px, py, ax, ay, bx, by, eps, slack):
     )
 
 
+def _candidate_pairs(x1: Array, y1: Array, x2: Array, y2: Array, slack: float):
+    """Pairs (i, j), i < j, of edges whose bounding boxes, widened by ``slack``, overlap.
+
+    A sweep along x: edges sorted by their west side; edge a pairs with each later edge b whose
+    west side lies within a's east-west extent, then the north-south extents are compared.
+    """
+    lox, hix = np.minimum(x1, x2) - slack, np.maximum(x1, x2) + slack
+    loy, hiy = np.minimum(y1, y2) - slack, np.maximum(y1, y2) + slack
+    order = np.argsort(lox, kind="stable")
+    lo_sorted = lox[order]
+    start = np.arange(1, order.size + 1)
+    stop = np.searchsorted(lo_sorted, hix[order], side="right")
+    count = np.maximum(stop - start, 0)
+    total = int(count.sum())
+    if total == 0:
+        empty = np.empty(0, dtype=np.intp)
+        return empty, empty
+    first = np.repeat(np.arange(order.size), count)
+    offset = np.arange(total) - np.repeat(np.cumsum(count) - count, count)
+    a = order[first]
+    b = order[np.repeat(start, count) + offset]
+    keep = (loy[a] <= hiy[b]) & (loy[b] <= hiy[a])
+    a, b = a[keep], b[keep]
+    return np.minimum(a, b), np.maximum(a, b)
+
+
 def _find_crossing(x: Array, y: Array) -> tuple[int, int] | None:
     """First pair (i, j) of 0-based edges of the polygon x, y that cross, touch or overlap.
 
     Edge i runs from vertex i to vertex i + 1 (the last back to vertex 0); no edge has zero
     length. Adjacent edges share a vertex; they count as crossing only when the second turns
-    straight back along the first.
+    straight back along the first. "First" is in the order of a scan of edge i = 0, 1, ...:
+    the reversal of edge i by edge i + 1 (reported as the pair sorted), then the edges j > i + 1
+    that edge i crosses or touches, nearest first.
     """
     n = x.size
     x1, y1 = x, y
@@ -335,17 +363,20 @@ def _find_crossing(x: Array, y: Array) -> tuple[int, int] | None:
     scale = max(float(np.max(np.abs(x))), float(np.max(np.abs(y))), 1e-300)
     eps = 1e-12 * scale * scale
     slack = 1e-12 * scale
-    for i in range(n):
-        k = (i + 1) % n  # the adjacent edge: a straight reversal (collinear, pointing back)
-        ux, uy = x2[i] - x1[i], y2[i] - y1[i]
-        vx, vy = x2[k] - x1[k], y2[k] - y1[k]
-        if abs(ux * vy - uy * vx) <= eps and ux * vx + uy * vy < 0.0:
-            return (i, k) if i < k else (k, i)
-        j = np.arange(i + 2, n)
-        if i == 0:
-            j = j[j != n - 1]  # edge n-1 is adjacent to edge 0
-        if j.size == 0:
-            continue
+    # adjacent edges i, i + 1 (mod n): a straight reversal (collinear, pointing back)
+    ux, uy = x2 - x1, y2 - y1
+    vx, vy = np.roll(ux, -1), np.roll(uy, -1)
+    reversal = np.flatnonzero((np.abs(ux * vy - uy * vx) <= eps) & (ux * vx + uy * vy < 0.0))
+    best: tuple[int, int] | None = None  # (scan row, column; -1 for the reversal)
+    if reversal.size:
+        best = (int(reversal[0]), -1)
+    # edges that are not adjacent and whose boxes meet: only they can cross or touch
+    i, j = _candidate_pairs(x1, y1, x2, y2, slack)
+    keep = (j >= i + 2) & ~((i == 0) & (j == n - 1))
+    if best is not None:
+        keep &= i < best[0]
+    i, j = i[keep], j[keep]
+    if i.size:
         d1 = _orient(x1[j], y1[j], x2[j], y2[j], x1[i], y1[i])
         d2 = _orient(x1[j], y1[j], x2[j], y2[j], x2[i], y2[i])
         d3 = _orient(x1[i], y1[i], x2[i], y2[i], x1[j], y1[j])
@@ -359,8 +390,16 @@ def _find_crossing(x: Array, y: Array) -> tuple[int, int] | None:
         )
         hit = np.flatnonzero(proper | touch)
         if hit.size:
-            return i, int(j[hit[0]])
-    return None
+            rows, cols = i[hit], j[hit]
+            first = np.lexsort((cols, rows))[0]
+            best = (int(rows[first]), int(cols[first]))
+    if best is None:
+        return None
+    row, col = best
+    if col >= 0:
+        return row, col
+    k = (row + 1) % n
+    return (row, k) if row < k else (k, row)
 
 
 def figure_area(north_m: ArrayLike, east_m: ArrayLike, *, foot: str) -> FigureArea:
