@@ -18,6 +18,7 @@ from __future__ import annotations
 import functools
 import os
 import re
+import stat
 from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
@@ -64,18 +65,27 @@ _SHIPPED = (
 
 def data_dir() -> Path:
     """The user data directory of lodeline (not created here)."""
-    env = os.environ.get("LODELINE_DATA")
-    if env:
-        return Path(env)
-    xdg = os.environ.get("XDG_DATA_HOME")
-    if xdg:
-        return Path(xdg) / "lodeline"
+    env = os.environ
+    return _data_dir(env.get("LODELINE_DATA"), env.get("XDG_DATA_HOME"), env.get("HOME"))
+
+
+@functools.lru_cache(maxsize=8)
+def _data_dir(lodeline_data: str | None, xdg_data_home: str | None, home: str | None) -> Path:
+    if lodeline_data:
+        return Path(lodeline_data)
+    if xdg_data_home:
+        return Path(xdg_data_home) / "lodeline"
     return Path.home() / ".local" / "share" / "lodeline"
 
 
 def user_model_dir() -> Path:
     """Folder holding the user's installed model files."""
-    return data_dir() / "models"
+    return _user_model_dir(data_dir())
+
+
+@functools.lru_cache(maxsize=8)
+def _user_model_dir(data: Path) -> Path:
+    return data / "models"
 
 
 def shipped_path(info: ModelInfo) -> Path:
@@ -83,18 +93,34 @@ def shipped_path(info: ModelInfo) -> Path:
     return Path(str(resources.files("geo.data").joinpath(str(info.path))))
 
 
+@functools.cache
 def shipped_models() -> tuple[ModelInfo, ...]:
-    """The models that come with the package."""
+    """The models that come with the package (looked up once: package data does not move)."""
     return tuple(
         ModelInfo(i.name, i.title, i.fmt, shipped_path(i), True, i.publisher) for i in _SHIPPED
     )
 
 
 def user_models() -> tuple[ModelInfo, ...]:
-    """The models installed in the user data directory, sorted by name."""
+    """The models installed in the user data directory, sorted by name.
+
+    The listing is remembered while the folder's modification time is unchanged (adding,
+    removing or renaming a file changes it; a file rewritten in place keeps its name, and
+    :func:`load_model` re-reads it when its own time or size changes).
+    """
     folder = user_model_dir()
-    if not folder.is_dir():
+    try:
+        st = folder.stat()
+    except OSError:
         return ()
+    if not stat.S_ISDIR(st.st_mode):
+        return ()
+    return _list_user_models(str(folder), st.st_mtime_ns, st.st_ino)
+
+
+@functools.lru_cache(maxsize=8)
+def _list_user_models(folder_name: str, mtime_ns: int, inode: int) -> tuple[ModelInfo, ...]:
+    folder = Path(folder_name)
     found = []
     for path in sorted(folder.iterdir()):
         stem, dot, fmt = path.name.rpartition(".")

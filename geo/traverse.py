@@ -76,13 +76,15 @@ def _courses(azimuth_deg: ArrayLike, length_m: ArrayLike) -> tuple[Array, Array]
         raise InputError(
             f"azimuths {az.shape} and lengths {length.shape} must be 1-D arrays of one size"
         )
-    for i in range(az.size):
-        if not math.isfinite(az[i]):
+    bad_az = ~np.isfinite(az)
+    bad = bad_az | ~np.isfinite(length) | (length < 0.0)
+    if bad.any():
+        i = int(np.argmax(bad))  # the first course with a bad value, its azimuth checked first
+        if bad_az[i]:
             raise InputError("azimuth is not a finite number", course=i + 1, field="azimuth")
-        if not math.isfinite(length[i]) or length[i] < 0.0:
-            raise InputError(
-                f"length {length[i]!r} m is not a non-negative number", course=i + 1, field="length"
-            )
+        raise InputError(
+            f"length {length[i]!r} m is not a non-negative number", course=i + 1, field="length"
+        )
     return az, length
 
 
@@ -100,19 +102,19 @@ def _sincos_deg(az: Array) -> tuple[Array, Array]:
 
 def _cumsum(values: Array) -> Array:
     """Running sums with Neumaier compensation (prefix sums nearly correctly rounded)."""
-    out = np.empty(values.size + 1)
-    out[0] = 0.0
+    sums = [0.0]
+    keep = sums.append
     total = 0.0
     comp = 0.0
-    for i, v in enumerate(values.tolist()):
+    for v in values.tolist():
         t = total + v
         if abs(total) >= abs(v):
             comp += (total - t) + v
         else:
             comp += (v - t) + total
         total = t
-        out[i + 1] = total + comp
-    return out
+        keep(total + comp)
+    return np.array(sums, dtype=float)
 
 
 def _azimuth_of(d_north: Array, d_east: Array) -> Array:
