@@ -8,15 +8,44 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
+from rich.cells import cell_len
 from rich.text import Text
 from textual.widgets import Static
 
 
+def _extent(text: str) -> tuple[int, int]:
+    """(lines, widest line in cells) of a plain text."""
+    lines = text.split("\n")
+    return len(lines), max(cell_len(line) for line in lines)
+
+
+def replace_text(widget: Static, old: str | None, text: str) -> None:
+    """Show plain ``text`` in ``widget`` in place of ``old`` (plain: a call may hold "[").
+
+    The screen is laid out again only when the text's size can change the widget's: another
+    number of lines, a line too wide for the widget (it wraps), or, for a widget as wide as
+    its text, another widest line.
+    """
+    if old is None:
+        layout = True
+    else:
+        lines, widest = _extent(text)
+        old_lines, old_widest = _extent(old)
+        width = widget.styles.width
+        layout = (
+            lines != old_lines
+            or max(widest, old_widest) > widget.content_size.width
+            or (width is not None and width.is_auto and widest != old_widest)
+        )
+    widget.update(Text(text), layout=layout)
+
+
 def set_text(widget: Static, text: str) -> None:
-    """Update a Static only when its text changes (each update lays out the screen again)."""
-    if getattr(widget, "_lodeline_text", None) != text:
+    """Update a Static only when its text changes."""
+    old = getattr(widget, "_lodeline_text", None)
+    if old != text:
         widget._lodeline_text = text  # type: ignore[attr-defined]
-        widget.update(Text(text))  # plain text: a call may hold "[" or "]"
+        replace_text(widget, old, text)
 
 
 class FindingsPanel(Static):
@@ -44,13 +73,11 @@ class FindingsPanel(Static):
         key = (tuple(lines), error, idle)
         if key == self._shown:
             return
+        old = None if self._shown is None else self.text
         self._shown = key
         self.set_class(error is not None, "-error")
         self.set_class(idle and error is None, "-idle")
-        if error is not None:
-            self.update(Text("⚠ " + error))
-        else:
-            self.update(Text("\n".join(lines)))
+        replace_text(self, old, self.text)
 
     @property
     def text(self) -> str:
