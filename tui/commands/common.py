@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import math
+import os
 import sys
 from typing import Any
 
@@ -34,15 +35,29 @@ def print_json(obj: Any) -> None:
     sys.stdout.write("\n")
 
 
+def write_file(path: str | os.PathLike[str], text: str, *, force: bool) -> None:
+    """Write ``text`` to the file ``path`` atomically, refusing to overwrite without ``force``.
+
+    A destination that cannot be written (missing folder, a folder of that name, no
+    permission) raises :class:`geo.errors.LodelineError` naming the file, so the command
+    exits 2 with one line instead of failing as an internal error.
+    """
+    from geo.atomic import write_atomic
+    from geo.errors import LodelineError
+
+    try:
+        write_atomic(path, text, overwrite=force)
+    except OSError as exc:
+        raise LodelineError(f"cannot be written: {exc.strerror or exc}", file=str(path)) from None
+
+
 def write_output(path: str | None, text: str, *, force: bool) -> None:
     """Write ``text`` to ``path`` atomically (refusing to overwrite without ``force``), or to
     stdout when ``path`` is ``None`` or ``-``."""
     if path in (None, "-"):
         sys.stdout.write(text)
         return
-    from geo.atomic import write_atomic
-
-    write_atomic(path, text, overwrite=force)
+    write_file(path, text, force=force)
 
 
 def add_target_options(parser: Any) -> None:

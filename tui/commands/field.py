@@ -59,9 +59,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     p.add_argument("--lat", type=str, help="geodetic latitude, degrees (north positive)")
     p.add_argument("--lon", type=str, help="longitude, degrees (east positive; 0..360 accepted)")
     p.add_argument("--date", type=str, help="ISO date YYYY-MM-DD or decimal year")
-    p.add_argument(
-        "--height", type=str, default="0", help="height above the ellipsoid, metres (default 0)"
-    )
+    p.add_argument("--height", type=str, help="height above the ellipsoid, metres (default 0)")
     p.add_argument(
         "--model", default="auto", help="model name (see 'lodeline models') or auto (default)"
     )
@@ -187,7 +185,7 @@ def _single(args) -> int:
         )
     lat = _number(args.lat, "--lat")
     lon = _number(args.lon, "--lon")
-    height = _number(args.height, "--height")
+    height = _number("0" if args.height is None else args.height, "--height")
     label, year = _date(args.date)
     lat_a, lon_a, _h = validate_position(lat, lon, height)
     result = field_at(lat=lat, lon=lon, year=year, height_m=height, model=args.model)
@@ -331,10 +329,13 @@ def run(args) -> int:
     if args.csv is not None:
         if args.json:
             raise InputError("--json applies to one point; the batch writes CSV", field="--json")
-        stray = [n for n in ("lat", "lon", "date") if getattr(args, n) is not None]
+        stray = [n for n in ("lat", "lon", "date", "height") if getattr(args, n) is not None]
         if stray:
-            raise InputError("--csv reads lat, lon and date from the file", field="--" + stray[0])
+            raise InputError(
+                "--csv reads lat, lon, date and height_m from the file", field="--" + stray[0]
+            )
         return _batch(args)
-    if args.out is not None or args.skip_bad:
-        raise InputError("--out and --skip-bad go with --csv", field="--out")
+    stray = "--out" if args.out is not None else ("--skip-bad" if args.skip_bad else None)
+    if stray:
+        raise InputError("--out and --skip-bad go with --csv", field=stray)
     return _single(args)

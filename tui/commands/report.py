@@ -12,7 +12,7 @@ import argparse
 from pathlib import Path
 from typing import Any
 
-from .common import add_adjust_option, add_target_options
+from .common import add_adjust_option, add_target_options, write_file
 
 HELP = "write a printable retracement report (HTML or Markdown)"
 
@@ -53,7 +53,6 @@ def register(subparsers: Any) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Build the report and write it to ``--out``."""
-    from geo.atomic import write_atomic
     from geo.document import load_document
     from geo.errors import InputError, OutputExistsError
     from geo.report import build_report
@@ -80,5 +79,5 @@ def run(args: argparse.Namespace) -> int:
         adjust=args.adjust,
         paper=args.paper,
     )
-    write_atomic(out, text, overwrite=args.force)
+    write_file(out, text, force=args.force)
     return 0

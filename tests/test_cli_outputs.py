@@ -1,0 +1,86 @@
+"""Command-line outputs that cannot be written, and options that do not apply.
+
+Bad input, including an output path that cannot be written, must exit 2 with one line on
+stderr naming the file (the product's rule for every command), never exit 1 with an
+internal error; an option that a mode does not use must be refused, not ignored.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from tui.cli import main
+
+DEMO = Path(__file__).parents[1] / "demo_traverses" / "greyfen_woodlot_1925.toml"
+
+
+@pytest.fixture(autouse=True)
+def user_dir(tmp_path, monkeypatch):
+    monkeypatch.setenv("LODELINE_DATA", str(tmp_path / "data"))
+
+
+@pytest.fixture
+def points(tmp_path) -> Path:
+    src = tmp_path / "points.csv"
+    src.write_text("lat,lon,date\n41.2,-77.9,1931-07-04\n", encoding="utf-8")
+    return src
+
+
+def one_line_naming(err: str, path: Path) -> bool:
+    return err.count("\n") == 1 and str(path) in err and "internal error" not in err
+
+
+def test_report_into_a_missing_folder_is_bad_input(tmp_path, capsys):
+    """Bug: 'lodeline report DOC --out missing/r.html' exited 1 with an internal
+    FileNotFoundError instead of exit 2 with one line naming the file."""
+    out = tmp_path / "missing" / "r.html"
+    assert main(["report", str(DEMO), "--out", str(out), "--target-date", "2027-05-01"]) == 2
+    err = capsys.readouterr().err
+    assert one_line_naming(err, out) and "cannot be written" in err
+    assert not out.parent.exists()
+
+
+def test_report_over_a_folder_with_force_is_bad_input(tmp_path, capsys):
+    """Bug: 'lodeline report DOC --out FOLDER.html --force', where FOLDER.html is a folder,
+    exited 1 with an internal IsADirectoryError; the folder must be left as it was."""
+    out = tmp_path / "r.html"
+    out.mkdir()
+    code = main(["report", str(DEMO), "--out", str(out), "--force", "--target-date", "2027-05-01"])
+    assert code == 2
+    assert one_line_naming(capsys.readouterr().err, out)
+    assert out.is_dir() and not any(out.iterdir())
+    assert not list(tmp_path.glob(".r.html.*"))  # no temporary file left behind
+
+
+def test_field_csv_into_a_missing_folder_is_bad_input(tmp_path, points, capsys):
+    """Bug: 'lodeline field --csv IN --out missing/out.csv' exited 1 with an internal
+    FileNotFoundError instead of exit 2 with one line naming the file."""
+    out = tmp_path / "missing" / "out.csv"
+    assert main(["field", "--csv", str(points), "--out", str(out)]) == 2
+    assert one_line_naming(capsys.readouterr().err, out)
+
+
+def test_field_csv_refuses_a_height_option(points, capsys):
+    """Bug: 'lodeline field --csv IN --height 500' silently ignored --height (the heights
+    come from the file's height_m column), so the user got sea-level results unawares."""
+    assert main(["field", "--csv", str(points), "--height", "500"]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "'--height'" in err and "height_m" in err
+
+
+def test_skip_bad_without_csv_names_skip_bad(capsys):
+    """Bug: 'lodeline field --lat .. --skip-bad' (no --csv) blamed '--out', an option that
+    was not given; the message must name the option that was."""
+    argv = ["field", "--lat", "41.2", "--lon", "-77.9", "--date", "1931-07-04", "--skip-bad"]
+    assert main(argv) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "'--skip-bad'" in err
+
+
+def test_single_point_height_still_defaults_to_zero(capsys):
+    """The single-point height is 0 m when --height is not given (as the help says)."""
+    argv = ["field", "--lat", "41.2", "--lon", "-77.9", "--date", "1931-07-04", "--json"]
+    assert main(argv) == 0
+    assert '"height_m": 0.0' in capsys.readouterr().out
