@@ -8,8 +8,10 @@ application opening a 3-course document (the start-up floor).
 
 A keystroke is measured as the user feels it: the edit of the call, the recomputation of every
 finding through geo (one vectorised conversion of the whole document), the update of the
-table, panels and sketch, and the screen redraw. Typing is debounced in the application
-(the recomputation starts after a pause); the debounce delay itself is not counted.
+table, panels and sketch, and the screen redraw, up to the end of the frame that shows it
+(Textual's pilot sleeps while it waits for the screen; those sleeps are not counted). Typing is
+debounced in the application (the recomputation starts after a pause); the debounce delay
+itself is not counted.
 
 The documents are generated: an invented closed figure (a regular polygon of short courses in
 perches, true bearings, a stated date) in a temporary folder.
@@ -30,6 +32,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 from geo.bearings import format_bearing  # noqa: E402
 from tui.app import LodelineApp, load_workspace  # noqa: E402
 from tui.results import compute_results  # noqa: E402
+from tui.screens.desk import Desk  # noqa: E402
 
 SIZE = (160, 45)
 
@@ -62,19 +65,51 @@ def make_document(path: Path, courses: int) -> Path:
     return path
 
 
+#: End times of the frames the desk has written (see :func:`_note_frames`).
+FRAMES: list[float] = []
+
+
+def _note_frames() -> None:
+    """Make every desk note in FRAMES when it has written a frame."""
+    paint = Desk._compositor_refresh
+
+    def painted(self) -> None:
+        paint(self)
+        FRAMES.append(time.perf_counter())
+
+    Desk._compositor_refresh = painted
+
+
 class _Listener:
-    """Wakes the bench when the desk has shown results (no polling: the app runs freely)."""
+    """Wakes the bench when the desk has shown results (no polling: the app runs freely).
+
+    It also notes when each frame has been written (the end of the screen's compositor
+    refresh): a figure is the time from the edit to the first frame written after the desk
+    applied the results. Textual's pilot pause, which the bench uses to wait, sleeps in steps
+    of 20 ms until the process is idle; those sleeps are not part of what the user waits for.
+    """
 
     def __init__(self, desk) -> None:
         self.desk = desk
         self.event = asyncio.Event()
-        desk.on_applied = lambda revision, final: self.event.set()
+        self.applied_at = 0.0
+        self.frames = FRAMES
+        desk.on_applied = self._applied
 
-    async def until(self, pilot, revision: int, final: bool) -> None:
+    def _applied(self, revision: int, final: bool) -> None:
+        self.applied_at = time.perf_counter()
+        self.event.set()
+
+    async def until(self, pilot, revision: int, final: bool) -> float:
+        """Wait for the results of ``revision``; return when their frame was written."""
         while not (self.desk.applied[0] == revision and (self.desk.applied[1] or not final)):
             self.event.clear()
             await self.event.wait()
+        applied = self.applied_at
         await pilot.pause()  # the redraw
+        while not any(t >= applied for t in self.frames):
+            await pilot.pause()
+        return next(t for t in self.frames if t >= applied)
 
 
 async def _keystrokes(path: Path, n: int) -> tuple[list[float], list[float], list[float]]:
@@ -91,43 +126,45 @@ async def _keystrokes(path: Path, n: int) -> tuple[list[float], list[float], lis
         base = ws.courses[100]["call"]
         for k in range(n):
             # reference: a redraw of the same screen with nothing changed
+            listen.frames.clear()
             t0 = time.perf_counter()
             desk.refresh()
             await pilot.pause()
-            floor.append(time.perf_counter() - t0)
+            floor.append(listen.frames[0] - t0)
             # a keystroke in course 101 (a digit of its distance typed or deleted), then the
             # recomputation the debounce starts
             text = base.replace("4 perches", "4.5 perches") if k % 2 == 0 else base
             t0 = time.perf_counter()
             ws.set_course_field(100, "call", text, session=1)
             desk.recompute()
-            await listen.until(pilot, ws.revision, final=False)
-            table.append(time.perf_counter() - t0)
-            await listen.until(pilot, ws.revision, final=True)
-            everything.append(time.perf_counter() - t0)
+            table.append(await listen.until(pilot, ws.revision, final=False) - t0)
+            everything.append(await listen.until(pilot, ws.revision, final=True) - t0)
     return table, everything, floor
 
 
 async def _open(path: Path) -> tuple[float, float, float, float]:
+    FRAMES.clear()
     t0 = time.perf_counter()
     app = LodelineApp(load_workspace(path))
     async with app.run_test(size=SIZE) as pilot:
-        await pilot.pause()
-        first_screen = time.perf_counter() - t0
         desk = app.desk
         listen = _Listener(desk)
-        await listen.until(pilot, app.workspace.revision, final=False)
-        converted = time.perf_counter() - t0
-        await listen.until(pilot, app.workspace.revision, final=True)
-        closed = time.perf_counter() - t0
+        await pilot.pause()
+        while not FRAMES:
+            await pilot.pause()
+        first_screen = FRAMES[0] - t0
+        converted = await listen.until(pilot, app.workspace.revision, final=False) - t0
+        closed = await listen.until(pilot, app.workspace.revision, final=True) - t0
+        listen.frames.clear()
         t1 = time.perf_counter()
         desk.refresh()
         await pilot.pause()
-        floor = time.perf_counter() - t1
+        floor = listen.frames[0] - t1
     return first_screen, converted, closed, floor
 
 
 def main() -> int:
+    _note_frames()
     os.environ.setdefault("LODELINE_STATE", tempfile.mkdtemp(prefix="lodeline-bench-state-"))
     with tempfile.TemporaryDirectory() as tmp:
         small = make_document(Path(tmp) / "bench200.toml", 200)
