@@ -84,3 +84,17 @@ def test_single_point_height_still_defaults_to_zero(capsys):
     argv = ["field", "--lat", "41.2", "--lon", "-77.9", "--date", "1931-07-04", "--json"]
     assert main(argv) == 0
     assert '"height_m": 0.0' in capsys.readouterr().out
+
+
+@pytest.mark.parametrize("bad", ["missing/p.csv", "folder.csv"])
+def test_export_with_one_unwritable_output_writes_none(tmp_path, capsys, bad):
+    """Bug: 'lodeline export DOC --geojson a.geojson --csv missing/p.csv' exited 2 but left
+    a.geojson written; a failed export must write nothing."""
+    (tmp_path / "folder.csv").mkdir()
+    geojson = tmp_path / "a.geojson"
+    csv_path = tmp_path / bad
+    argv = ["export", str(DEMO), "--geojson", str(geojson), "--csv", str(csv_path), "--force"]
+    assert main(argv) == 2
+    err = capsys.readouterr().err
+    assert one_line_naming(err, csv_path) and "cannot be written" in err
+    assert not geojson.exists()

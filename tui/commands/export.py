@@ -47,6 +47,7 @@ def run(args: argparse.Namespace) -> int:
 
     if not args.geojson and not args.csv:
         raise InputError("nothing to export: give --geojson OUT.geojson and/or --csv OUT.csv")
+    _check_destinations(args)
     doc = load_document(args.document)
     conv = convert_document(doc, file=args.document)
     written = write_exports(
@@ -56,3 +57,22 @@ def run(args: argparse.Namespace) -> int:
         sys.stdout.write(f"wrote {path}\n")
     sys.stdout.write(SHORT_CAUTION + "\n")
     return 0
+
+
+def _check_destinations(args: argparse.Namespace) -> None:
+    """Refuse, before anything is written, an output whose folder does not exist or whose
+    name is a folder, so a bad second path never leaves the first file written alone."""
+    from pathlib import Path
+
+    from geo.errors import LodelineError
+    from geo.export import courses_csv_path
+
+    targets = [Path(args.geojson)] if args.geojson else []
+    if args.csv:
+        targets += [Path(args.csv), courses_csv_path(args.csv)]
+    for target in targets:
+        folder = target.parent
+        if not folder.is_dir():
+            raise LodelineError(f"cannot be written: no folder {folder}", file=str(target))
+        if target.is_dir():
+            raise LodelineError("cannot be written: it is a folder", file=str(target))
