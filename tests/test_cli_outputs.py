@@ -98,3 +98,14 @@ def test_export_with_one_unwritable_output_writes_none(tmp_path, capsys, bad):
     err = capsys.readouterr().err
     assert one_line_naming(err, csv_path) and "cannot be written" in err
     assert not geojson.exists()
+
+
+def test_unadjusted_stations_are_not_called_adjusted(capsys):
+    """Bug: 'lodeline close DOC --adjust none' headed the station table "stations (none
+    adjustment)" with "adjusted bearing" columns, for positions that are as recorded."""
+    assert main(["close", str(DEMO), "--adjust", "none"]) == 0
+    out = capsys.readouterr().out
+    assert "none adjustment" not in out and "adjusted bearing" not in out
+    assert "as recorded, not adjusted" in out
+    assert main(["close", str(DEMO), "--adjust", "compass"]) == 0
+    assert "stations (compass adjustment)" in capsys.readouterr().out

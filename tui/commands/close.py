@@ -86,8 +86,11 @@ def render(result: Any, title: str | None = None) -> str:
                 f"{result.precision:,.0f}"
             )
     lines.append("")
-    lines.append(f"stations ({result.adjustment} adjustment), metres from the point of beginning")
-    rows = [["station", "north", "east", "adjusted bearing", "adjusted length"]]
+    adjusted = result.adjustment != "none"
+    how = f"{result.adjustment} adjustment" if adjusted else "as recorded, not adjusted"
+    lines.append(f"stations ({how}), metres from the point of beginning")
+    head = ["adjusted bearing", "adjusted length"] if adjusted else ["bearing", "length"]
+    rows = [["station", "north", "east", *head]]
     for s in result.stations:
         course = result.courses[s.index - 1] if s.index else None
         rows.append(
