@@ -32,10 +32,12 @@ Positions
 
 GeoJSON (RFC 7946)
     A FeatureCollection of: the figure (a Polygon for a closed traverse, exterior ring
-    counter-clockwise in longitude/latitude and closed, its vertices stations 0..n-1; otherwise a
-    LineString through every station), one Point per station (for an adjusted closed traverse the
-    last station is the point of beginning and is not repeated) and one Point per intermediate
-    point. Coordinates are [longitude, latitude], WGS84, rounded to 8 decimals (about 1 mm).
+    counter-clockwise in longitude/latitude and closed, its vertices stations 0..n-1; a closed
+    LineString when the calls cross themselves, which no valid Polygon can hold, with the
+    crossing pair in ``crossing_courses``; otherwise a LineString through every station), one
+    Point per station (for an adjusted closed traverse the last station is the point of
+    beginning and is not repeated) and one Point per intermediate point. Coordinates are
+    [longitude, latitude], WGS84, rounded to 8 decimals (about 1 mm).
     The figure's properties hold one object per course (call as written; magnetic (record),
     true, grid and magnetic (target) bearings and azimuths; length in the document's unit and
     in metres; grid length; adjusted grid azimuth and length). The collection's ``properties``
@@ -337,8 +339,11 @@ def geojson_collection(
     clo = closure if closure is not None else close_document(conv, adjust=pos.adjustment)
     doc = conv.document
     first = conv.courses[0]
-    if pos.closed:
+    if pos.closed and clo.crossing is None:
         geometry = {"type": "Polygon", "coordinates": [_ring(pos.stations)]}
+    elif pos.closed:  # a figure whose calls cross itself is no valid Polygon (RFC 7946 3.1.6)
+        ring = [_lonlat(p) for p in pos.stations[:-1]]
+        geometry = {"type": "LineString", "coordinates": [*ring, ring[0]]}
     else:
         geometry = {"type": "LineString", "coordinates": [_lonlat(p) for p in pos.stations]}
     features: list[dict[str, Any]] = [

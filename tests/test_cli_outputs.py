@@ -109,3 +109,40 @@ def test_unadjusted_stations_are_not_called_adjusted(capsys):
     assert "as recorded, not adjusted" in out
     assert main(["close", str(DEMO), "--adjust", "compass"]) == 0
     assert "stations (compass adjustment)" in capsys.readouterr().out
+
+
+def test_option_errors_are_one_line(capsys):
+    """Bug: a bad option ('lodeline close DOC --north bogus') printed argparse's usage line
+    before the error: two lines on stderr where the rule is one."""
+    with pytest.raises(SystemExit) as info:
+        main(["close", str(DEMO), "--north", "bogus"])
+    assert info.value.code == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "--north" in err and "usage" not in err
+
+
+def test_a_crossing_figure_exports_as_a_closed_line_not_an_invalid_polygon(tmp_path):
+    """Bug: a closed document whose calls cross themselves (a bow tie) was exported as a
+    self-intersecting Polygon, which RFC 7946 (section 3.1.6) and GIS readers reject."""
+    import json
+
+    from geojson_pydantic import FeatureCollection
+
+    doc = tmp_path / "bow.toml"
+    doc.write_text(
+        'format_version = 1\ntitle = "bow tie"\nclosed = true\n'
+        "[place]\nlat = 40.4312\nlon = -77.6034\n"
+        '[record]\nreference = "true"\ndistance_unit = "m"\nfoot = "international"\n'
+        '[[course]]\ncall = "N 0 E 100 m"\n[[course]]\ncall = "S 45 E 141.4214 m"\n'
+        '[[course]]\ncall = "N 0 E 100 m"\n[[course]]\ncall = "S 45 W 141.4214 m"\n',
+        encoding="utf-8",
+    )
+    out = tmp_path / "bow.geojson"
+    assert main(["export", str(doc), "--geojson", str(out), "--adjust", "none"]) == 0
+    data = json.loads(out.read_text(encoding="utf-8"))
+    FeatureCollection.model_validate(data)
+    figure = data["features"][0]
+    assert figure["geometry"]["type"] == "LineString"
+    ring = figure["geometry"]["coordinates"]
+    assert ring[0] == ring[-1] and len(ring) == 5
+    assert data["properties"]["crossing_courses"] is not None

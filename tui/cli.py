@@ -12,6 +12,7 @@ import argparse
 import importlib
 import sys
 from collections.abc import Sequence
+from typing import NoReturn
 
 from geo import __version__
 
@@ -33,9 +34,16 @@ EPILOG = (
 )
 
 
+class _OneLineParser(argparse.ArgumentParser):
+    """An argument parser whose errors are one line on stderr (exit 2), without the usage."""
+
+    def error(self, message: str) -> NoReturn:
+        self.exit(2, f"{self.prog}: {message} (see '{self.prog} --help')\n")
+
+
 def build_parser() -> argparse.ArgumentParser:
     """Build the argument parser with every registered subcommand."""
-    parser = argparse.ArgumentParser(
+    parser = _OneLineParser(
         prog="lodeline",
         description="Magnetic, true and grid bearings for deeds and compass cruise lines.",
         epilog=EPILOG,
