@@ -223,7 +223,8 @@ def require(name: str, years: np.ndarray) -> np.ndarray:
         else:
             m = load_model(name)
             what = (
-                f"the interval of {m.name}, {m.start:.1f} to {m.end:.1f}; choose a model that "
+                f"the interval of {m.name}, {m.start:.1f} to {m.end:.1f} (the end itself "
+                "excluded); choose a model that "
                 "covers it (see 'lodeline models'), or"
             )
         raise _range_error(year, what, i)
@@ -241,6 +242,8 @@ def install_model(path: str | os.PathLike[str], *, name: str | None = None) -> M
 
     src = Path(path)
     fmt = detect_format(src)
+    if name is not None and not name.strip():
+        raise InputError("the model name is empty; give --name NAME", field="--name")
     ident = (name or default_name(src)).strip().lower()
     if not _NAME.match(ident):
         raise InputError(
@@ -248,8 +251,15 @@ def install_model(path: str | os.PathLike[str], *, name: str | None = None) -> M
             "'-' (at most 32 characters)",
             field="--name",
         )
-    if ident == AUTO or any(i.name == ident for i in shipped_models()):
-        raise InputError(f"'{ident}' is the name of a shipped model; choose another --name")
+    if ident == AUTO:
+        raise InputError(
+            "'auto' is reserved (it chooses a model by date); choose another --name",
+            field="--name",
+        )
+    if any(i.name == ident for i in shipped_models()):
+        raise InputError(
+            f"'{ident}' is the name of a shipped model; choose another --name", field="--name"
+        )
     for info in user_models():
         if info.name == ident:
             raise InputError(

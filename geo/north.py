@@ -283,8 +283,13 @@ def _range_error(
         )
         field = "record.model" if "unknown" in err.message.lower() else "record.date"
     else:
-        remedy = "choose a target date inside the model's interval or another model (--model)"
-        field = "target.model" if "unknown" in err.message.lower() else "target.date"
+        unknown = "unknown" in err.message.lower()
+        remedy = (
+            "name one that 'lodeline models' lists, or auto"
+            if unknown
+            else "choose a target date inside the model's interval or another model (--model)"
+        )
+        field = "target.model" if unknown else "target.date"
     message = f"{which} date {when}: {err.message.rstrip('.')}; {remedy}"
     return ModelRangeError(message, file=file, course=1 if n_courses else None, field=field)
 
