@@ -146,3 +146,24 @@ def test_a_crossing_figure_exports_as_a_closed_line_not_an_invalid_polygon(tmp_p
     ring = figure["geometry"]["coordinates"]
     assert ring[0] == ring[-1] and len(ring) == 5
     assert data["properties"]["crossing_courses"] is not None
+
+
+@pytest.mark.parametrize(
+    ("argv", "expected"),
+    [
+        (["models", "add", str(DEMO), "--name", "auto"], "reserved"),
+        (["models", "add", str(DEMO), "--name", " "], "empty"),
+        (["convert", str(DEMO), "--model", "nosuch"], "'lodeline models' lists"),
+        (
+            ["field", "--lat", "10", "--lon", "0", "--date", "2030.0", "--model", "igrf14"],
+            "end itself excluded",
+        ),
+    ],
+)
+def test_model_messages_name_the_real_problem(argv, expected, capsys):
+    """Bugs: '--name auto' was called a shipped model, an empty --name fell back silently to
+    the file's name, an unknown target model was told to choose another date, and a date at
+    the very end of a model's interval was refused without saying the end is excluded."""
+    assert main(argv) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and expected in err
