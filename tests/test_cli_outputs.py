@@ -14,6 +14,7 @@ import pytest
 from tui.cli import main
 
 DEMO = Path(__file__).parents[1] / "demo_traverses" / "greyfen_woodlot_1925.toml"
+SHIPPED_SHC = Path(__file__).parents[1] / "geo" / "data" / "IGRF14.shc"
 
 
 @pytest.fixture(autouse=True)
@@ -151,8 +152,8 @@ def test_a_crossing_figure_exports_as_a_closed_line_not_an_invalid_polygon(tmp_p
 @pytest.mark.parametrize(
     ("argv", "expected"),
     [
-        (["models", "add", str(DEMO), "--name", "auto"], "reserved"),
-        (["models", "add", str(DEMO), "--name", " "], "empty"),
+        (["models", "add", str(SHIPPED_SHC), "--name", "auto"], "reserved"),
+        (["models", "add", str(SHIPPED_SHC), "--name", " "], "empty"),
         (["convert", str(DEMO), "--model", "nosuch"], "'lodeline models' lists"),
         (
             ["field", "--lat", "10", "--lon", "0", "--date", "2030.0", "--model", "igrf14"],
