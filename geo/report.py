@@ -1229,9 +1229,8 @@ def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
         out.append(Heading("Local attraction (fore and back bearings)", level=3))
         out.append(
             Paragraph(
-                f"Course {att.start_course} has the best agreeing fore and back bearings "
-                "and is taken "
-                f"as free of attraction; tolerance {att.tolerance_deg * 60:.0f}′."
+                f"Fore and back bearings: {att.reference_text()}; "
+                f"tolerance {att.tolerance_deg * 60:.0f}′."
             )
         )
         rows = []

@@ -351,6 +351,24 @@ class LocalAttractionResult:
         """Stations whose correction exceeds the tolerance."""
         return tuple(s.station for s in self.stations if s.disturbed)
 
+    @property
+    def start_is_free(self) -> bool:
+        """Whether the reference course's own fore and back bearings agree (within tolerance);
+        when no course's do, the corrections are only relative to the least disturbed one."""
+        return self.start_course in self.free_courses
+
+    def reference_text(self) -> str:
+        """One phrase naming the reference course and whether it is free of attraction."""
+        k = self.start_course
+        if self.start_is_free:
+            return f"course {k} taken as free"
+        off = self.discrepancy_deg[k - 1]
+        off_text = "" if off is None else f", itself off by {abs(off) * 60:.1f}′"
+        return (
+            f"no course's fore and back bearings agree within {self.tolerance_deg * 60:.1f}′: "
+            f"corrections are relative to course {k}{off_text}"
+        )
+
 
 @dataclass(frozen=True)
 class BudgetStation:

@@ -504,3 +504,21 @@ def test_too_few_found_stations_is_a_clear_error():
     conv = convert(fit_doc(lats, lons, which=(2,)))
     with pytest.raises(FitError, match="two or more"):
         fit_document(conv)
+
+
+def test_a_lone_disagreeing_back_bearing_is_not_called_free():
+    """Bug: with one fore/back pair 15' apart and a 1' tolerance, the course was reported as
+    'taken as free' with zero corrections, as if its readings agreed."""
+    doc = make_doc(
+        [
+            course(0, 100),
+            course(90, 100, back="N 89 45 W"),  # 15' from the reverse of the fore bearing
+            course(180, 100),
+            course(270, 100),
+        ],
+        reference="true",
+    )
+    att = close_document(convert(doc), adjust="none", attraction_tolerance_deg=1 / 60).attraction
+    assert att is not None and att.free_courses == () and not att.start_is_free
+    assert att.start_course == 2
+    assert "no course" in att.reference_text() and "15.0′" in att.reference_text()

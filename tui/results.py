@@ -367,7 +367,7 @@ def _attraction_panel(closure: Any) -> PanelText:
     la = closure.attraction
     if la is None:
         return _idle("no back bearings in the document")
-    lines = [f"course {la.start_course} agrees best (free)"]
+    lines = [la.reference_text()]
     for st in la.stations:
         if st.disturbed and st.correction_deg is not None:
             lines.append(

@@ -121,7 +121,7 @@ def render(result: Any, title: str | None = None) -> str:
     if att is not None:
         lines.append("")
         lines.append(
-            f"local attraction (fore and back bearings; course {att.start_course} taken as free, "
+            f"local attraction (fore and back bearings; {att.reference_text()}; "
             f"tolerance {att.tolerance_deg * 60:.1f} min)"
         )
         rows = [["station", "correction deg", "state"]]
@@ -129,7 +129,7 @@ def render(result: Any, title: str | None = None) -> str:
             state = (
                 "not reached"
                 if s.correction_deg is None
-                else ("disturbed" if s.disturbed else "free")
+                else ("disturbed" if s.disturbed else ("free" if att.start_is_free else "ref"))
             )
             rows.append([str(s.station), _deg(s.correction_deg), state])
         lines += table(rows, right={0, 1})
