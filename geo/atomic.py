@@ -12,7 +12,7 @@ import shutil
 import tempfile
 from pathlib import Path
 
-from geo.errors import OutputExistsError
+from geo.errors import OutputError, OutputExistsError
 
 
 def write_atomic(
@@ -27,7 +27,8 @@ def write_atomic(
 
     ``overwrite=False`` raises :class:`OutputExistsError` when ``path`` exists (the command
     line maps this to "use --force"). ``backup=True`` copies an existing file to
-    ``path + ".bak"`` before replacing it.
+    ``path + ".bak"`` before replacing it. A destination that cannot be written raises
+    :class:`OutputError` naming the file (no temporary file is left behind).
     """
     target = Path(path)
     if target.exists() and not overwrite:
@@ -36,6 +37,13 @@ def write_atomic(
         )
     payload = data.encode(encoding) if isinstance(data, str) else data
     folder = target.parent if str(target.parent) else Path(".")
+    try:
+        return _replace(target, folder, payload, backup)
+    except OSError as exc:
+        raise OutputError(f"cannot be written: {exc.strerror or exc}", file=str(target)) from None
+
+
+def _replace(target: Path, folder: Path, payload: bytes, backup: bool) -> Path:
     fd, tmp_name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
     try:
         with os.fdopen(fd, "wb") as handle:

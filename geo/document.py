@@ -562,10 +562,7 @@ def save_document(doc: Document, path: str | os.PathLike[str]) -> Path:
     p = Path(path)
     fmt = _format_of(p, str(path))
     text = dumps_document(doc, fmt)  # type: ignore[arg-type]
-    try:
-        return write_atomic(p, text, overwrite=True, backup=True)
-    except OSError as exc:
-        raise DocumentError(f"cannot be written: {exc.strerror or exc}", file=str(path)) from None
+    return write_atomic(p, text, overwrite=True, backup=True)  # OutputError names the file
 
 
 # --------------------------------------------------------------------------------------------

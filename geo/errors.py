@@ -116,3 +116,7 @@ class FitError(LodelineError):
 
 class OutputExistsError(LodelineError):
     """An output file exists and ``--force`` was not given."""
+
+
+class OutputError(LodelineError):
+    """An output file cannot be written (missing folder, a folder of that name, permission)."""

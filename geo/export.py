@@ -513,10 +513,5 @@ def write_exports(
                 )
     written = []
     for target, text in outputs:
-        try:
-            written.append(write_atomic(target, text, overwrite=force))
-        except OSError as exc:
-            raise LodelineError(
-                f"cannot be written: {exc.strerror or exc}", file=str(target)
-            ) from None
+        written.append(write_atomic(target, text, overwrite=force))  # OutputError names it
     return written

@@ -168,3 +168,15 @@ def test_model_messages_name_the_real_problem(argv, expected, capsys):
     assert main(argv) == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and expected in err
+
+
+def test_atomic_write_into_a_missing_folder_is_a_project_error(tmp_path):
+    """Bug: geo.atomic.write_atomic let OSError escape, so the terminal application's report
+    and export (which catch the project's errors) could fail with a traceback."""
+    from geo.atomic import write_atomic
+    from geo.errors import OutputError
+
+    target = tmp_path / "missing" / "out.html"
+    with pytest.raises(OutputError) as info:
+        write_atomic(target, "x")
+    assert info.value.file == str(target) and "cannot be written" in str(info.value)

@@ -158,7 +158,7 @@ class LodelineApp(App[int]):
                 write_recovery(ws)
             else:
                 discard_recovery(ws.path)
-        except OSError as err:
+        except (OSError, LodelineError) as err:
             self.notify(f"⚠ cannot keep the recovery file: {err}", severity="warning")
 
     # -- commands ----------------------------------------------------------------------

@@ -43,12 +43,8 @@ def write_file(path: str | os.PathLike[str], text: str, *, force: bool) -> None:
     exits 2 with one line instead of failing as an internal error.
     """
     from geo.atomic import write_atomic
-    from geo.errors import LodelineError
 
-    try:
-        write_atomic(path, text, overwrite=force)
-    except OSError as exc:
-        raise LodelineError(f"cannot be written: {exc.strerror or exc}", file=str(path)) from None
+    write_atomic(path, text, overwrite=force)  # OutputError names the file
 
 
 def write_output(path: str | None, text: str, *, force: bool) -> None:
