@@ -17,10 +17,12 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+from textual.app import RenderResult
 from textual.binding import Binding
+from textual.css.query import NoMatches
 from textual.events import Resize
 from textual.geometry import Size
-from textual_hires_canvas import HiResMode
+from textual_hires_canvas import Canvas, HiResMode
 from textual_plot import PlotWidget
 
 #: Height of a terminal cell divided by its width (most monospace fonts: about 2).
@@ -188,6 +190,16 @@ class TraverseSketch(PlotWidget):
             ex.append(np.array([length * math.sin(a)]))
             ny.append(np.array([length * math.cos(a)]))
         return np.concatenate(ex), np.concatenate(ny)
+
+    def render(self) -> RenderResult:
+        """Draw the plot with one repaint of its canvas (the canvas would otherwise ask for a
+        repaint after every dot, which costs more than the drawing for a long traverse)."""
+        try:
+            canvas = self.query_one("#plot", Canvas)
+        except NoMatches:
+            return super().render()
+        with canvas.batch_refresh():
+            return super().render()
 
     def _draw(self, *, refit: bool) -> None:
         self._drawing = True
