@@ -67,49 +67,46 @@ def make_document(path: Path, courses: int) -> Path:
 
 #: End times of the frames the desk has written (see :func:`_note_frames`).
 FRAMES: list[float] = []
+#: (revision, complete) -> when a desk first showed those results (see :func:`_note_frames`).
+APPLIED: dict[tuple[int, bool], float] = {}
 
 
 def _note_frames() -> None:
-    """Make every desk note in FRAMES when it has written a frame."""
+    """Make every desk note in FRAMES when it has written a frame (the end of the screen's
+    compositor refresh), and in APPLIED when it has shown results, from its creation on (a
+    desk may show results before the pilot hands over)."""
     paint = Desk._compositor_refresh
+    create = Desk.__init__
 
     def painted(self) -> None:
         paint(self)
         FRAMES.append(time.perf_counter())
 
+    def applied(revision: int, final: bool) -> None:
+        APPLIED.setdefault((revision, final), time.perf_counter())
+
+    def created(self, *args, **kwargs) -> None:
+        create(self, *args, **kwargs)
+        self.on_applied = applied
+
     Desk._compositor_refresh = painted
+    Desk.__init__ = created
 
 
-class _Listener:
-    """Wakes the bench when the desk has shown results (no polling: the app runs freely).
+async def _frame_showing(pilot, revision: int, final: bool) -> float:
+    """When the frame that shows the results of ``revision`` (the first shown, or with
+    ``final`` the complete ones) was written.
 
-    It also notes when each frame has been written (the end of the screen's compositor
-    refresh): a figure is the time from the edit to the first frame written after the desk
+    A figure is the time from the edit to the end of the first frame written after the desk
     applied the results. Textual's pilot pause, which the bench uses to wait, sleeps in steps
     of 20 ms until the process is idle; those sleeps are not part of what the user waits for.
     """
-
-    def __init__(self, desk) -> None:
-        self.desk = desk
-        self.event = asyncio.Event()
-        self.applied_at = 0.0
-        self.frames = FRAMES
-        desk.on_applied = self._applied
-
-    def _applied(self, revision: int, final: bool) -> None:
-        self.applied_at = time.perf_counter()
-        self.event.set()
-
-    async def until(self, pilot, revision: int, final: bool) -> float:
-        """Wait for the results of ``revision``; return when their frame was written."""
-        while not (self.desk.applied[0] == revision and (self.desk.applied[1] or not final)):
-            self.event.clear()
-            await self.event.wait()
-        applied = self.applied_at
-        await pilot.pause()  # the redraw
-        while not any(t >= applied for t in self.frames):
-            await pilot.pause()
-        return next(t for t in self.frames if t >= applied)
+    while (revision, final) not in APPLIED:
+        await pilot.pause()
+    applied = APPLIED[(revision, final)]
+    while not any(t >= applied for t in FRAMES):
+        await pilot.pause()
+    return next(t for t in FRAMES if t >= applied)
 
 
 async def _keystrokes(path: Path, n: int) -> tuple[list[float], list[float], list[float]]:
@@ -122,44 +119,43 @@ async def _keystrokes(path: Path, n: int) -> tuple[list[float], list[float], lis
         await app.workers.wait_for_complete()
         desk = app.desk
         ws = app.workspace
-        listen = _Listener(desk)
         base = ws.courses[100]["call"]
         for k in range(n):
             # reference: a redraw of the same screen with nothing changed
-            listen.frames.clear()
+            FRAMES.clear()
             t0 = time.perf_counter()
             desk.refresh()
             await pilot.pause()
-            floor.append(listen.frames[0] - t0)
+            floor.append(FRAMES[0] - t0)
             # a keystroke in course 101 (a digit of its distance typed or deleted), then the
             # recomputation the debounce starts
             text = base.replace("4 perches", "4.5 perches") if k % 2 == 0 else base
             t0 = time.perf_counter()
             ws.set_course_field(100, "call", text, session=1)
             desk.recompute()
-            table.append(await listen.until(pilot, ws.revision, final=False) - t0)
-            everything.append(await listen.until(pilot, ws.revision, final=True) - t0)
+            table.append(await _frame_showing(pilot, ws.revision, final=False) - t0)
+            everything.append(await _frame_showing(pilot, ws.revision, final=True) - t0)
     return table, everything, floor
 
 
 async def _open(path: Path) -> tuple[float, float, float, float]:
     FRAMES.clear()
+    APPLIED.clear()
     t0 = time.perf_counter()
     app = LodelineApp(load_workspace(path))
     async with app.run_test(size=SIZE) as pilot:
         desk = app.desk
-        listen = _Listener(desk)
         await pilot.pause()
         while not FRAMES:
             await pilot.pause()
         first_screen = FRAMES[0] - t0
-        converted = await listen.until(pilot, app.workspace.revision, final=False) - t0
-        closed = await listen.until(pilot, app.workspace.revision, final=True) - t0
-        listen.frames.clear()
+        converted = await _frame_showing(pilot, app.workspace.revision, final=False) - t0
+        closed = await _frame_showing(pilot, app.workspace.revision, final=True) - t0
+        FRAMES.clear()
         t1 = time.perf_counter()
         desk.refresh()
         await pilot.pause()
-        floor = listen.frames[0] - t1
+        floor = FRAMES[0] - t1
     return first_screen, converted, closed, floor
 
 
