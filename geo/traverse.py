@@ -169,6 +169,11 @@ def march(azimuth_deg: ArrayLike, length_m: ArrayLike) -> Stations:
 # ---------------------------------------------------------------------------------------------
 
 
+#: A computed misclosure below this many metres is floating-point rounding: the figure closes
+#: exactly (no direction, no 1:N). No recorded call is written to a nanometre.
+CLOSES_EXACTLY_BELOW_M = 1e-9
+
+
 @dataclass(frozen=True)
 class Closure:
     """Linear misclosure of a traverse meant to return to its point of beginning.
@@ -177,7 +182,7 @@ class Closure:
     error vector from the point of beginning to the computed end point. ``misclosure_azimuth_deg``
     is the azimuth of that vector (start -> computed end; the correction runs the opposite way),
     None when the misclosure is zero. ``precision`` is N of "1:N" = perimeter / misclosure, None
-    when the misclosure is zero.
+    when the misclosure is zero (below :data:`CLOSES_EXACTLY_BELOW_M`, all three are zero/None).
     """
 
     perimeter_m: float
@@ -196,8 +201,8 @@ def closure(azimuth_deg: ArrayLike, length_m: ArrayLike) -> Closure:
     d_north = math.fsum(lat.tolist())
     d_east = math.fsum(dep.tolist())
     mis = math.hypot(d_north, d_east)
-    if mis == 0.0:
-        return Closure(perimeter, d_north + 0.0, d_east + 0.0, 0.0, None, None)
+    if mis < CLOSES_EXACTLY_BELOW_M:  # rounding of the arithmetic, not a misclosure
+        return Closure(perimeter, 0.0, 0.0, 0.0, None, None)
     return Closure(
         perimeter_m=perimeter,
         misclosure_north_m=d_north,

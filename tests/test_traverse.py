@@ -578,3 +578,19 @@ def test_error_budget_nan_declination_sigma_means_none_published():
     assert b.declination_sigma_deg is None and b.declination_m[-1] == 0.0
     with pytest.raises(InputError):
         error_budget([0.0], [100.0], bearing_sigma_deg=-1.0)
+
+
+def test_a_figure_that_closes_up_to_rounding_closes_exactly():
+    """Bug: a figure whose third course was computed to close the first two (exact in real
+    numbers) showed a misclosure of 2e-14 m and a precision of 1:1e16 from floating-point
+    rounding instead of closing exactly (precision None)."""
+    import math as _m
+
+    from geo.traverse import closure as _closure
+    from geo.traverse import latitudes_departures as _ld
+
+    lat, dep = _ld(np.array([10.0, 130.0]), np.array([101.7, 87.3]))
+    n, e = -float(lat.sum()), -float(dep.sum())
+    az = [10.0, 130.0, _m.degrees(_m.atan2(e, n)) % 360.0]
+    c = _closure(az, [101.7, 87.3, _m.hypot(n, e)])
+    assert c.misclosure_m == 0.0 and c.precision is None and c.misclosure_azimuth_deg is None
