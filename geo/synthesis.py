@@ -196,25 +196,25 @@ def _recursion(nmax: int) -> _Recursion:
     return _Recursion(tuple(b_all), tuple(s_all))
 
 
-def _weights(model: SphericalHarmonicModel, segment: int) -> tuple[NDArray[np.float64], ...]:
-    """Per-order coefficient matrices of one time segment against the scaled table.
+def _weights(model: SphericalHarmonicModel) -> tuple[tuple, ...]:
+    """Per-order coefficient matrices of every time segment against the scaled table.
 
-    Each entry is ``(trig_first, w, w_xs)``. For m = 0, ``w`` has shape (P1, nmax) on rows
-    n = 1..nmax and gives Z' (m = 0 part). For m >= 1 the output groups are
-    0 Z' [times sin theta], 1 X' [times cos theta], 2 X' [times a/r], 3 Y' [times 1], each
-    with P1 rows (time-polynomial coefficients). With ``trig_first`` ``w`` has shape
-    (4 P1, 2 L) against the table rows times cos(m lon) stacked over the rows times
-    sin(m lon); otherwise (8 P1, L), the first 4 P1 rows to be taken times cos(m lon), the
-    next times sin(m lon). For m = 1, ``w_xs`` (P1, L) gives the m = 0 derivative part of X'
-    [times sin theta]. Signs are folded in so that every group is added.
+    Each entry is ``(trig_first, w, w_xs)`` with ``w[j]`` the matrix of segment j. For m = 0,
+    ``w`` has shape (S, P1, nmax) on rows n = 1..nmax and gives Z' (m = 0 part). For m >= 1
+    the output groups are 0 Z' [times sin theta], 1 X' [times cos theta], 2 X' [times a/r],
+    3 Y' [times 1], each with P1 rows (time-polynomial coefficients). With ``trig_first``
+    ``w`` has shape (S, 4 P1, 2 L) against the table rows times cos(m lon) stacked over the
+    rows times sin(m lon); otherwise (S, 8 P1, L), the first 4 P1 rows to be taken times
+    cos(m lon), the next times sin(m lon). For m = 1, ``w_xs`` (S, P1, L) gives the m = 0
+    derivative part of X' [times sin theta]. Signs are folded in so that every group is added.
+    All segments are built at once and cached on the model.
     """
     cache = model._cache
-    key = ("weights", segment)
-    if key in cache:
-        return cache[key]
+    if "weights" in cache:
+        return cache["weights"]
     nmax = model.nmax
     rec = _recursion(nmax)
-    coef = model.coeffs[segment]  # (P1, K)
+    coef = model.coeffs  # (S, P1, K)
     out = []
     for m in range(nmax + 1):
         n = np.arange(max(m, 1), nmax + 1)
@@ -222,32 +222,34 @@ def _weights(model: SphericalHarmonicModel, segment: int) -> tuple[NDArray[np.fl
         gi = np.array([coefficient_index(int(k), m, "g") for k in n], dtype=np.intp)
         if m == 0:
             # Z' = -Br = -(n+1) g_n0 (a/r)^(n+2) P_n0
-            out.append((False, np.ascontiguousarray(-coef[:, gi] * ((n + 1) * scale[1:])), None))
+            w0 = -coef[:, :, gi] * ((n + 1) * scale[1:])
+            out.append((False, np.ascontiguousarray(w0), None))
             continue
         hi = gi + 1
-        g = coef[:, gi] * scale
-        h = coef[:, hi] * scale
+        g = coef[:, :, gi] * scale
+        h = coef[:, :, hi] * scale
         # (a/r)^(n+2) dP_nm/dtheta = n cos(theta) Q~_n - sqrt(n^2-m^2) (a/r) Q~_(n-1):
         # the second part puts gamma_(n+1) [g,h]_(n+1) on row n.
         gamma_next = np.sqrt((n[:-1] + 1.0) ** 2 - m * m) * scale[:-1]
         gs = np.zeros_like(g)
         hs = np.zeros_like(h)
-        gs[:, :-1] = coef[:, gi[1:]] * gamma_next
-        hs[:, :-1] = coef[:, hi[1:]] * gamma_next
-        cos_part = np.concatenate([-g * (n + 1), g * n, -gs, -h * m])
-        sin_part = np.concatenate([-h * (n + 1), h * n, -hs, g * m])
+        gs[:, :, :-1] = coef[:, :, gi[1:]] * gamma_next
+        hs[:, :, :-1] = coef[:, :, hi[1:]] * gamma_next
+        cos_part = np.concatenate([-g * (n + 1), g * n, -gs, -h * m], axis=1)
+        sin_part = np.concatenate([-h * (n + 1), h * n, -hs, g * m], axis=1)
         xs = None
         if m == 1:
             g0 = np.array([coefficient_index(int(k), 0, "g") for k in n], dtype=np.intp)
             # dP_n0/dtheta = -sqrt(n(n+1)/2) sin(theta) Q_n1
-            xs = -coef[:, g0] * (np.sqrt(n * (n + 1) / 2.0) * scale)
+            xs = np.ascontiguousarray(-coef[:, :, g0] * (np.sqrt(n * (n + 1) / 2.0) * scale))
         if len(n) <= _TRIG_FIRST_ROWS:
             # short columns: multiply the table by cos/sin first, then one product
-            out.append((True, np.ascontiguousarray(np.hstack([cos_part, sin_part])), xs))
+            w = np.concatenate([cos_part, sin_part], axis=2)
         else:
-            out.append((False, np.ascontiguousarray(np.vstack([cos_part, sin_part])), xs))
+            w = np.concatenate([cos_part, sin_part], axis=1)
+        out.append((len(n) <= _TRIG_FIRST_ROWS, np.ascontiguousarray(w), xs))
     result = tuple(out)
-    cache[key] = result
+    cache["weights"] = result
     return result
 
 
@@ -263,7 +265,7 @@ def _chunk_size(nmax: int) -> int:
 
 def _synth_chunk(
     model: SphericalHarmonicModel,
-    segment: int,
+    runs: list[tuple[int, int, int]],
     cos_t: NDArray[np.float64],
     sin_t: NDArray[np.float64],
     rho: NDArray[np.float64],
@@ -272,12 +274,15 @@ def _synth_chunk(
 ) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]:
     """Geocentric north, east, down components of one chunk as polynomials in time.
 
-    Returns three arrays of shape (P1, C): the time-polynomial coefficients (powers of the
-    time since the segment start) of X' (north), Y' (east), Z' (down) in nT.
+    ``runs`` lists ``(segment, first, stop)``: the chunk's columns ``first:stop`` lie in time
+    segment ``segment`` (a chunk may hold points of several segments; the Legendre table is
+    built once for all of them and each run is multiplied by its own segment's weights).
+    Returns an array of shape (3, P1, C): the time-polynomial coefficients (powers of the
+    time since each point's segment start) of X' (north), Y' (east), Z' (down) in nT.
     """
     nmax = model.nmax
     rec = _recursion(nmax)
-    weights = _weights(model, segment)
+    weights = _weights(model)
     p1 = model.coeffs.shape[1]
     half = 4 * p1
     c_pts = cos_t.shape[0]
@@ -287,8 +292,8 @@ def _synth_chunk(
     u = cos_t * rho
     v = rho * rho
     acc = np.zeros((half, c_pts))  # groups 0..3 of the weights
-    z0 = None
-    xs = None
+    z0 = np.empty((p1, c_pts))
+    xs = np.zeros((p1, c_pts))
     sectoral = np.empty(c_pts)
     cos_m = np.ones(c_pts)
     sin_m = np.zeros(c_pts)
@@ -315,17 +320,18 @@ def _synth_chunk(
             t[k] -= tmp
         trig_first, w, w_xs = weights[m]
         if m == 0:
-            z0 = w @ t[1:]
+            _run_products(w, t[1:], runs, z0)
             continue
         if w_xs is not None:
-            xs = w_xs @ t
+            _run_products(w_xs, t, runs, xs)
         cos_m, sin_m = cos_m * cos_lon - sin_m * sin_lon, sin_m * cos_lon + cos_m * sin_lon
         if trig_first:
             np.multiply(t, cos_m, out=trig[:length])
             np.multiply(t, sin_m, out=trig[length : 2 * length])
-            acc += w @ trig[: 2 * length]
+            _run_products(w, trig[: 2 * length], runs, acc, add=True)
             continue
-        res = w @ t
+        res = np.empty((2 * half, c_pts))
+        _run_products(w, t, runs, res)
         part = res[:half]
         part *= cos_m
         acc += part
@@ -333,11 +339,30 @@ def _synth_chunk(
         part *= sin_m
         acc += part
     acc = acc.reshape(4, p1, c_pts)
-    if xs is None:  # nmax = 0 cannot occur; keeps the types simple
-        xs = np.zeros((p1, c_pts))
-    north = acc[1] * cos_t + acc[2] * rho + xs * sin_t
-    down = acc[0] * sin_t + z0
-    return north, acc[3], down
+    comps = np.empty((3, p1, c_pts))
+    np.multiply(acc[1], cos_t, out=comps[0])
+    comps[0] += acc[2] * rho
+    comps[0] += xs * sin_t
+    comps[1] = acc[3]
+    np.multiply(acc[0], sin_t, out=comps[2])
+    comps[2] += z0
+    return comps
+
+
+def _run_products(
+    w: NDArray[np.float64],
+    x: NDArray[np.float64],
+    runs: list[tuple[int, int, int]],
+    out: NDArray[np.float64],
+    *,
+    add: bool = False,
+) -> None:
+    """``out[:, a:b] = w[j] @ x[:, a:b]`` (or ``+=`` with ``add``) for each run (j, a, b)."""
+    for j, a, b in runs:
+        if add:
+            out[:, a:b] += w[j] @ x[:, a:b]
+        else:
+            np.matmul(w[j], x[:, a:b], out=out[:, a:b])
 
 
 #: From this many points on, synthesis runs BLAS on one thread (see :func:`synthesize`).
@@ -389,57 +414,68 @@ def _synthesize(
     shape = lat.shape
     lat, lon, hgt, yr = (a.ravel() for a in (lat, lon, hgt, yr))
     npts = lat.size
+    seg = model.segment_of(yr[:1] if np.size(year) == 1 else yr)
+    order = None
+    run_seg = seg[:1]
+    run_bounds = np.array([0, npts])
+    if seg.size > 1 and seg.min() != seg.max():
+        # Points are put in segment order once (a radix sort of small integers); chunks of
+        # consecutive points then hold one or a few runs of equal segment, and the results
+        # are put back in input order once at the end.
+        small = np.int16 if model.coeffs.shape[0] < 2**15 else np.intp
+        order = np.argsort(seg.astype(small), kind="stable")
+        seg = seg[order]
+        lat, lon, hgt, yr = lat[order], lon[order], hgt[order], yr[order]
+        cuts = np.flatnonzero(seg[1:] != seg[:-1]) + 1
+        run_seg = seg[np.concatenate([[0], cuts])]
+        run_bounds = np.concatenate([[0], cuts, [npts]])
+    tau = yr - model.breaks[seg]
     r, cos_t, sin_t, cos_psi, sin_psi = geodetic_to_geocentric(lat, hgt)
     rho = REFERENCE_RADIUS_KM / r
     lon_rad = np.radians(lon)
     cos_lon = np.cos(lon_rad)
     sin_lon = np.sin(lon_rad)
-    seg = model.segment_of(yr)
-    tau = yr - model.breaks[seg]
-    out = np.empty((3, npts))
-    out_rate = np.empty((3, npts))
     size = chunk_size or _chunk_size(model.nmax)
     p1 = model.coeffs.shape[1]
-    if npts and np.all(seg == seg[0]):
-        groups = [(int(seg[0]), np.arange(npts))]
-    else:
-        order = np.argsort(seg, kind="stable")
-        bounds = np.flatnonzero(np.diff(seg[order])) + 1
-        groups = [(int(seg[idx[0]]), idx) for idx in np.split(order, bounds) if idx.size]
-    for j, idx in groups:
-        for start in range(0, idx.size, size):
-            sel = idx[start : start + size]
-            contiguous = sel.size == npts
-            pick = slice(None) if contiguous else sel
-            comps = _synth_chunk(
-                model,
-                j,
-                cos_t[pick],
-                sin_t[pick],
-                rho[pick],
-                cos_lon[pick],
-                sin_lon[pick],
-            )
-            ta = tau[pick]
-            for i, poly in enumerate(comps):
-                value = poly[p1 - 1].copy()
-                rate = np.zeros_like(value)
-                for p in range(p1 - 2, -1, -1):  # Horner for value and derivative
-                    rate = rate * ta + value
-                    value = value * ta + poly[p]
-                out[i, pick] = value
-                out_rate[i, pick] = rate
+    polys = np.empty((3, p1, npts))
+    run = 0
+    for c0 in range(0, npts, size):
+        c1 = min(c0 + size, npts)
+        while run_bounds[run + 1] <= c0:
+            run += 1
+        runs = []
+        k = run
+        while k < run_seg.size and run_bounds[k] < c1:
+            a = max(int(run_bounds[k]), c0) - c0
+            b = min(int(run_bounds[k + 1]), c1) - c0
+            runs.append((int(run_seg[k]), a, b))
+            k += 1
+        part = slice(c0, c1)
+        polys[:, :, part] = _synth_chunk(
+            model, runs, cos_t[part], sin_t[part], rho[part], cos_lon[part], sin_lon[part]
+        )
+    # Horner for value and derivative in the time since each point's segment start
+    out = polys[:, p1 - 1].copy()
+    out_rate = np.zeros_like(out)
+    for p in range(p1 - 2, -1, -1):
+        out_rate *= tau
+        out_rate += out
+        out *= tau
+        out += polys[:, p]
     x_c, y_c, z_c = out
     dx_c, dy_c, dz_c = out_rate
     north = x_c * cos_psi + z_c * sin_psi
     down = -x_c * sin_psi + z_c * cos_psi
     north_rate = dx_c * cos_psi + dz_c * sin_psi
     down_rate = -dx_c * sin_psi + dz_c * cos_psi
-    return FieldComponents(
-        north=north.reshape(shape),
-        east=y_c.reshape(shape),
-        down=down.reshape(shape),
-        north_rate=north_rate.reshape(shape),
-        east_rate=dy_c.reshape(shape),
-        down_rate=down_rate.reshape(shape),
-    )
+    results = (north, y_c, down, north_rate, dy_c, down_rate)
+    if order is not None:
+        results = tuple(_unsort(a, order) for a in results)
+    return FieldComponents(*(a.reshape(shape) for a in results))
+
+
+def _unsort(values: NDArray[np.float64], order: NDArray[np.intp]) -> NDArray[np.float64]:
+    """Values computed in the order ``order`` put back in input order."""
+    result = np.empty_like(values)
+    result[order] = values
+    return result
