@@ -92,25 +92,46 @@ def _deg(value: float | None, precision: float = 1.0 / 60.0) -> str:
     return format_declination(value, precision=precision)
 
 
+#: Plain row and blank flag of each course mapping seen last, by identity: the workspace
+#: shares untouched courses between edits, so a keystroke builds one new row, not all.
+_PLAIN_CACHE: dict[int, tuple[Mapping[str, Any], CallRow, bool]] = {}
+
+
+def _plain_row(course: Mapping[str, Any]) -> tuple[CallRow, bool]:
+    """The row of ``course`` before any computation, and whether the course is blank."""
+    hit = _PLAIN_CACHE.get(id(course))
+    if hit is not None and hit[0] is course:  # the entry holds the mapping: its id is its own
+        return hit[1], hit[2]
+    blank = is_blank_course(course)
+    row = CallRow(
+        MARK_BLANK if blank else "",
+        course_call_text(course),
+        "",
+        "",
+        "",
+        "",
+        "",
+        str(course.get("back", "")),
+        "empty: type a call (blank courses are not saved)" if blank else "",
+    )
+    _PLAIN_CACHE[id(course)] = (course, row, blank)
+    return row, blank
+
+
+def _plain(courses: list[Mapping[str, Any]]) -> tuple[list[CallRow], list[bool]]:
+    """Rows and blank flags of ``courses``; the cache keeps only these courses' entries once
+    it holds more than a few documents' worth."""
+    pairs = [_plain_row(c) for c in courses]
+    if len(_PLAIN_CACHE) > 4 * len(courses) + 1000:
+        keep = {id(c) for c in courses}
+        for key in [k for k in _PLAIN_CACHE if k not in keep]:
+            del _PLAIN_CACHE[key]
+    return [row for row, _ in pairs], [blank for _, blank in pairs]
+
+
 def plain_rows(data: Mapping[str, Any]) -> list[CallRow]:
     """The rows of the table before any computation: calls as typed, blank rows marked."""
-    rows = []
-    for c in data.get("course") or []:
-        blank = is_blank_course(c)
-        rows.append(
-            CallRow(
-                MARK_BLANK if blank else "",
-                course_call_text(c),
-                "",
-                "",
-                "",
-                "",
-                "",
-                str(c.get("back", "")),
-                "empty: type a call (blank courses are not saved)" if blank else "",
-            )
-        )
-    return rows
+    return _plain(list(data.get("course") or []))[0]
 
 
 def compute_results(data: Mapping[str, Any], *, path: Path | None = None) -> Results:
@@ -126,8 +147,8 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
 
     file = path.name if path else None
     raw = list(data.get("course") or [])
-    rows = plain_rows(data)
-    kept = [i for i, c in enumerate(raw) if not is_blank_course(c)]  # course k -> row kept[k]
+    rows, blanks = _plain(raw)
+    kept = [i for i, blank in enumerate(blanks) if not blank]  # course k -> row kept[k]
     clean = {**data, "course": [raw[i] for i in kept]}
     results = Results(rows=rows, panels={})
     results.kept = kept
@@ -208,7 +229,7 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
             rows[row].back,
             ("! " + "; ".join(c.warnings)) if caution else "",
         )
-    results.panels["field"] = _panel(lambda: _field_panel(conv))
+    results.panels["field"] = _panel(lambda: _field_panel_cached(conv))
     results.panels["grid"] = _panel(lambda: _grid_panel(conv))
     if results.first_bad is not None:
         bad = f"course {kept[results.first_bad] + 1} does not read yet; the closure waits for it"
@@ -261,6 +282,40 @@ def _crs_hint(doc: Any) -> str:
 
 
 # -- panels ----------------------------------------------------------------------------------
+
+
+#: The field panel shown last and what it was computed from (see :func:`_field_panel_cached`).
+_FIELD_CACHE: list[tuple[tuple[Any, ...], PanelText]] = []
+
+
+def _field_panel_cached(conv: Any) -> PanelText:
+    """:func:`_field_panel`, reused while its inputs stay the same: the point of beginning,
+    dates, models, height and the stated declination, and the declinations the conversion
+    found at the point of beginning (so a change of the model files shows too). A keystroke
+    in a course changes none of these."""
+    pob = conv.stations[0]
+    doc = conv.document
+    first = conv.courses[0] if conv.courses else None
+    key = (
+        pob.lat,
+        pob.lon,
+        conv.height_m,
+        conv.record_year,
+        str(conv.record_date),
+        conv.target_year,
+        str(conv.target_date),
+        conv.declination_source,
+        conv.stated_declination_deg,
+        doc.record.model,
+        doc.target.model if doc.target is not None else "auto",
+        None if first is None else first.declination_record_deg,
+        None if first is None else first.declination_target_deg,
+    )
+    if _FIELD_CACHE and _FIELD_CACHE[0][0] == key:
+        return _FIELD_CACHE[0][1]
+    panel = _field_panel(conv)
+    _FIELD_CACHE[:] = [(key, panel)]
+    return panel
 
 
 def _field_panel(conv: Any) -> PanelText:

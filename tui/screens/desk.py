@@ -39,6 +39,9 @@ if TYPE_CHECKING:
 
 #: Seconds of quiet typing before the findings are recomputed.
 DEBOUNCE_S = 0.06
+#: Seconds of quiet typing before the sketch is drawn again: while the user types, each
+#: keystroke's frame shows the table and panels, and the sketch follows the pause.
+SKETCH_PAUSE_S = 0.2
 #: Documents with more courses than this are computed in a thread.
 THREAD_ABOVE = 1000
 
@@ -95,6 +98,10 @@ class Desk(Screen):
         super().__init__()
         self._timer: Timer | None = None
         self._recovery_timer: Timer | None = None
+        self._sketch_timer: Timer | None = None
+        self._sketch_pending: tuple[Results, int] | None = None
+        #: True while the results being computed come from typing (see :meth:`_apply`).
+        self._typing = False
         self.results: Results | None = None
         self._editor_session = 0
         #: (revision, complete) of the results shown last; complete: every panel and the
@@ -201,7 +208,7 @@ class Desk(Screen):
         """Recompute once typing pauses for :data:`DEBOUNCE_S`."""
         if self._timer is not None:
             self._timer.stop()
-        self._timer = self.set_timer(DEBOUNCE_S, self.recompute)
+        self._timer = self.set_timer(DEBOUNCE_S, self.recompute_typed)
         self.update_docbar()
         self._schedule_recovery()
 
@@ -210,7 +217,11 @@ class Desk(Screen):
             self._recovery_timer.stop()
         self._recovery_timer = self.set_timer(1.0, self.lode.keep_recovery)
 
-    def recompute(self, *, wait: bool = False) -> None:
+    def recompute_typed(self) -> None:
+        """:meth:`recompute` after a pause in typing: the sketch waits for a longer pause."""
+        self.recompute(typed=True)
+
+    def recompute(self, *, wait: bool = False, typed: bool = False) -> None:
         """Recompute every finding from the document and show it.
 
         A document of up to :data:`THREAD_ABOVE` courses is computed here and shown in one
@@ -219,9 +230,11 @@ class Desk(Screen):
         a large document is shown (opening it), its conversion runs here right after the
         calls are painted, then the closure in the thread: the bearings come quicker than
         from a thread sharing the processor with the screen's start-up. ``wait=True``
-        computes here and now whatever the size.
+        computes here and now whatever the size. ``typed``: the edit was typed, so the
+        sketch is drawn after :data:`SKETCH_PAUSE_S` more of quiet typing.
         """
         self._timer = None
+        self._typing = typed
         ws = self.lode.workspace
         first_time = not self._computed_once
         self._computed_once = True
@@ -267,7 +280,8 @@ class Desk(Screen):
 
     def _apply(self, results: Results, revision: int) -> None:
         """Show ``results`` if they belong to the document as it is now: the table and the
-        panels in one redraw, then the sketch (the slowest to draw) in the next."""
+        panels in one redraw, then the sketch (the slowest to draw) in the next, or, while
+        the user types, once typing pauses for :data:`SKETCH_PAUSE_S`."""
         if revision != self.lode.workspace.revision:
             return
         with self.app.batch_update():
@@ -275,7 +289,16 @@ class Desk(Screen):
         self.applied = (revision, False)
         if self.on_applied is not None:
             self.on_applied(revision, False)
-        self.call_after_refresh(self._show_sketch, results, revision)
+        if self._sketch_timer is not None:
+            self._sketch_timer.stop()
+            self._sketch_timer = None
+        if self._typing:
+            self._sketch_timer = self.set_timer(
+                SKETCH_PAUSE_S, lambda: self._show_sketch(results, revision)
+            )
+            self._sketch_pending = (results, revision)
+        else:
+            self.call_after_refresh(self._show_sketch, results, revision)
 
     def _show(self, results: Results) -> None:
         self.results = results
@@ -290,7 +313,15 @@ class Desk(Screen):
         self._show_row_message()
         self.update_docbar()
 
+    def flush_sketch(self) -> None:
+        """Draw the sketch now if it is waiting for a pause in typing."""
+        if self._sketch_timer is not None and self._sketch_pending is not None:
+            self._sketch_timer.stop()
+            self._show_sketch(*self._sketch_pending)
+
     def _show_sketch(self, results: Results, revision: int) -> None:
+        self._sketch_timer = None
+        self._sketch_pending = None
         if revision != self.lode.workspace.revision:
             return
         sketch = self.query_one(TraverseSketch)
@@ -367,6 +398,7 @@ class Desk(Screen):
     def on_call_editor_finished(self, _event: CallEditor.Finished) -> None:
         if self._timer is not None:
             self.recompute()
+        self.flush_sketch()  # the call is done: the sketch need not wait
         table = self.query_one(CallTable)
         table.focus()
 

@@ -163,6 +163,19 @@ class CallTable(ScrollView, can_focus=True):
         self._bad: list[bool] = []
         self._widths = [len(h) for _k, h in COLUMNS]
         self._cache: dict[tuple, Strip] = {}
+        self._sized: tuple[Size, Size, Size, Size] | None = None
+
+    def _size_updated(
+        self, size: Size, virtual_size: Size, container_size: Size, layout: bool = True
+    ) -> bool:
+        """Textual's scroll view repaints its scroll bars at every layout of the screen; when
+        a findings panel changes height (most keystrokes that change the closure) the table
+        itself has not changed, so nothing of it is repainted or resized."""
+        sized = (size, virtual_size, container_size, self.virtual_size)
+        if sized == self._sized:
+            return False
+        self._sized = sized
+        return super()._size_updated(size, virtual_size, container_size, layout)
 
     # -- data ----------------------------------------------------------------------------
     def show_rows(self, rows: Sequence[CallRow]) -> None:
