@@ -14,8 +14,9 @@ Results are X (north), Y (east), Z (down) in nT and their rates in nT/yr; rates 
 analytically from the time derivative of the coefficients, never from differencing.
 
 Vectorisation. Every point carries its own date. A model's time dependence is held in
-piecewise-polynomial form (see :class:`SphericalHarmonicModel`); points are grouped by time
-segment and processed in chunks of 4096 points. Inside a chunk the loop runs over order m
+piecewise-polynomial form (see :class:`SphericalHarmonicModel`); points are put in time
+segment order once and processed in chunks of 4096 consecutive points, a chunk possibly holding
+runs of several segments that share one Legendre table. Inside a chunk the loop runs over order m
 and degree n only; every operation works on all points of the chunk at once. The Legendre
 functions are built by the standard stable three-term recursion in n for each m, seeded by
 the sectoral recursion in m. Functions with m >= 1 are carried divided by sin(theta) (finite
