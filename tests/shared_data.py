@@ -1,8 +1,7 @@
 """Where the tests find the read-only shared test data (published WMM test values, gufm1).
 
-The data lives beside the project (``../shared/data``), never inside it. ``LODELINE_TEST_DATA``
-names another folder; otherwise the first of ``<repo>/../shared/data`` and
-``/work/shared/data`` that exists is used. Tests that need a file skip with a clear reason
+The data lives beside the project (``<repo>/../shared/data``), never inside it;
+``LODELINE_TEST_DATA`` names another folder. Tests that need a file skip with a clear reason
 when it is absent.
 """
 
@@ -19,11 +18,7 @@ def shared_data_dir() -> Path:
     env = os.environ.get("LODELINE_TEST_DATA")
     if env:
         return Path(env)
-    candidates = [_REPO.parent / "shared" / "data", Path("/work/shared/data")]
-    for folder in candidates:
-        if folder.is_dir():
-            return folder
-    return candidates[0]
+    return _REPO.parent / "shared" / "data"
 
 
 DATA = shared_data_dir()
