@@ -66,7 +66,9 @@ def test_structure_edits_undo_in_order():
     original = ws.doc
     ws.insert_course(1, {"call": "N 80 W 2 chains"})
     assert [c["call"] for c in ws.courses] == [
-        "N 10 E 5 chains", "N 80 W 2 chains", "S 80 E 5 chains",
+        "N 10 E 5 chains",
+        "N 80 W 2 chains",
+        "S 80 E 5 chains",
     ]
     assert ws.move_course(1, 1) == 2
     assert ws.courses[2]["call"] == "N 80 W 2 chains"
@@ -135,3 +137,15 @@ def test_unreadable_recovery_file_is_ignored(tmp_path: Path):
 )
 def test_found_positions_read_or_kept(text, expected):
     assert parse_found(text) == expected
+
+
+def test_call_text_of_parts_reads_as_in_the_commands():
+    """Regression: the desk joined a course's parts by itself and showed an interior-angle
+    course of the 1887 demo as "1547 vara" (angle lost) while every command showed
+    "angle 98 16, 1547 vara"; both now come from geo.document.course_call_text."""
+    from tui.workspace import course_call_text
+
+    assert course_call_text({"angle": "98 16", "distance": 1547.0, "unit": "vara"}) == (
+        "angle 98 16, 1547 vara"
+    )
+    assert course_call_text({"bearing": "N 45 E", "distance": "x"}) == "N 45 E x"

@@ -97,11 +97,21 @@ def with_setting(doc: Mapping[str, Any], key: str, value: Any) -> Document:
 
 
 def course_call_text(course: Mapping[str, Any]) -> str:
-    """The call of a course as the user wrote it: ``call``, or bearing, distance and unit."""
+    """The call of a course as the user wrote it: ``call``, or its parts joined as
+    :func:`geo.document.course_call_text` joins them (so "angle 98 16, 1547 vara" reads the
+    same here as in every command); parts that do not validate are joined as typed."""
     if "call" in course:
         return str(course["call"])
-    parts = [str(course[k]) for k in ("bearing", "distance", "unit") if k in course]
-    return " ".join(parts)
+    from pydantic import ValidationError
+
+    from geo.document import Course
+    from geo.document import course_call_text as document_call_text
+
+    try:
+        return document_call_text(Course.model_validate(dict(course)))
+    except ValidationError:
+        keys = ("bearing", "angle", "distance", "unit")
+        return " ".join(str(course[k]) for k in keys if k in course)
 
 
 def is_blank_course(course: Mapping[str, Any]) -> bool:
