@@ -943,19 +943,30 @@ def format_bearings(
             groups.setdefault(key, []).append(i)
             steps.setdefault(key, p)
     out: list[str] = [""] * count
+    if len(_TEXTS) > _TEXTS_MAX:
+        _TEXTS.clear()
     for key, members in groups.items():
         plan = _plan(steps[key])
         sel = values if every else values[members]
         # _counts(a % 360.0, plan) % full for each: np.mod and Python's % agree on doubles
         counts = np.floor(np.mod(sel, 360.0) * plan.per_degree + 0.5).astype(np.int64)
         counts %= 360 * plan.per_degree
-        seen: dict[int, str] = {}
+        seen = _TEXTS.setdefault((plan, ascii), {})
+        if len(seen) > _TEXTS_PER_PLAN:
+            seen.clear()
         for i, c in zip(range(count) if every else members, counts.tolist(), strict=True):
             text = seen.get(c)
             if text is None:
                 text = seen[c] = _bearing_text(c, plan, ascii)
             out[i] = text
     return out
+
+
+# Texts already written by format_bearings, by (plan, ascii) then count of steps: an editor
+# formats every bearing of a document on each keystroke, and nearly all come out as before.
+_TEXTS: dict[tuple[_Plan, bool], dict[int, str]] = {}
+_TEXTS_MAX = 64  # (plan, ascii) pairs kept
+_TEXTS_PER_PLAN = 100_000  # texts kept per pair (a 0.1″ plan has 12,960,000 steps in a circle)
 
 
 def format_azimuth(

@@ -29,7 +29,7 @@ from textual.worker import get_current_worker
 
 from tui.results import Results, closure_stage, conversion_stage, plain_rows
 from tui.widgets.call_table import CallEditor, CallTable
-from tui.widgets.findings import FindingsPanel, set_text
+from tui.widgets.findings import FindingsPanel, SteadyText, set_text
 from tui.widgets.job_form import JobForm
 from tui.widgets.sketch import TraverseSketch
 from tui.workspace import COURSE_FIELDS, course_call_text
@@ -311,7 +311,7 @@ class Desk(Screen):
         for key, _title in PANELS:
             panel = self.query_one(f"#panel-{key}", FindingsPanel)
             outcome = results.panels[key]
-            panel.show(outcome.lines, error=outcome.error, idle=outcome.idle)
+            panel.show(outcome.lines, error=outcome.error, idle=outcome.idle, hold=self._typing)
         form = self.query_one(JobForm)
         form.mark_invalid(results.invalid_settings)
         form.show_crs_hint(results.crs_hint)
@@ -363,7 +363,14 @@ class Desk(Screen):
             row = results.rows[index]
             if row.message:
                 message = row.message
-        editor.show_message(message)
+        editor.show_message(message, hold=self._typing)
+
+    def release_heights(self) -> None:
+        """Let the findings panels and the editor's message take the height of their text
+        again (typing has stopped; while it goes on they keep their height)."""
+        for panel in self.query(FindingsPanel):
+            panel.release()
+        self.query_one("#editor-message", SteadyText).release()
 
     @staticmethod
     def _field_text(course: dict, field: str) -> str:
@@ -404,6 +411,8 @@ class Desk(Screen):
         if self._timer is not None:
             self.recompute()
         self.flush_sketch()  # the call is done: the sketch need not wait
+        self._typing = False
+        self.release_heights()
         table = self.query_one(CallTable)
         table.focus()
 

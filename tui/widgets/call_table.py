@@ -24,9 +24,9 @@ from textual.message import Message
 from textual.reactive import reactive
 from textual.scroll_view import ScrollView
 from textual.strip import Strip
-from textual.widgets import Input, Label, Static
+from textual.widgets import Input, Label
 
-from tui.widgets.findings import set_text
+from tui.widgets.findings import SteadyText
 
 #: Column keys and headings of the call table.
 COLUMNS: tuple[tuple[str, str], ...] = (
@@ -360,7 +360,7 @@ class CallEditor(Vertical):
         with Horizontal():
             yield Label("Course 1 · call", id="editor-label")
             yield Input(placeholder="e.g. N 45 30 E 20 perches to a white oak", id="editor-input")
-        yield Static("", id="editor-message")
+        yield SteadyText("", id="editor-message")
 
     def load(self, index: int, field: str, value: str, session: int) -> None:
         """Show ``value`` of ``field`` of course ``index`` ready for typing."""
@@ -373,9 +373,10 @@ class CallEditor(Vertical):
             box.value = value
         box.cursor_position = len(value)
 
-    def show_message(self, text: str) -> None:
-        """Show the parser's (or another) message under the editor; ``""`` clears it."""
-        set_text(self.query_one("#editor-message", Static), text)
+    def show_message(self, text: str, *, hold: bool = False) -> None:
+        """Show the parser's (or another) message under the editor; ``""`` clears it.
+        ``hold``: keep the room a longer message took (while the user types)."""
+        self.query_one("#editor-message", SteadyText).show_text(text, hold=hold)
 
     def focus_input(self) -> None:
         self.query_one("#editor-input", Input).focus()

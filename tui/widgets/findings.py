@@ -2,14 +2,21 @@
 
 Each panel shows the result of one core function, already formatted as lines, or the one-line
 error that function raised (prefixed with ``⚠`` so it reads without colour).
+
+While the user types, a panel keeps the height it has reached (:class:`SteadyText`): a
+result that needs fewer lines than the one before is padded, so the screen around it does
+not jump on every keystroke, and Textual repaints the panel instead of laying out the whole
+screen again. The desk lets panels shrink to their text when typing stops.
 """
 
 from __future__ import annotations
 
+import textwrap
 from collections.abc import Sequence
 
 from rich.cells import cell_len
 from rich.text import Text
+from textual import events
 from textual.widgets import Static
 
 
@@ -48,7 +55,72 @@ def set_text(widget: Static, text: str) -> None:
         replace_text(widget, old, text)
 
 
-class FindingsPanel(Static):
+def wrap_lines(text: str, width: int) -> list[str]:
+    """The lines of plain ``text`` wrapped at word boundaries to ``width`` cells (``width``
+    of 0 or less: not wrapped). A wrapped line's continuation keeps the line's indent plus
+    two spaces."""
+    out: list[str] = []
+    for line in text.split("\n"):
+        if width <= 0 or cell_len(line) <= width:
+            out.append(line)
+            continue
+        indent = " " * (len(line) - len(line.lstrip(" ")) + 2)
+        out += textwrap.wrap(
+            line,
+            width=width,
+            subsequent_indent=indent if len(indent) < width // 2 else "",
+            break_long_words=True,
+            break_on_hyphens=False,
+        ) or [""]
+    return out
+
+
+class SteadyText(Static):
+    """Plain text wrapped to the widget's width, whose height can be held while it changes.
+
+    :meth:`show_text` with ``hold=True`` pads a shorter text with blank lines to the height
+    shown before, so a change of text repaints the widget without a layout of the screen;
+    with ``hold=False`` the widget takes the height of its text.
+    """
+
+    def __init__(self, text: str = "", *, id: str | None = None) -> None:
+        super().__init__("", id=id)
+        self._plain = text
+        self._painted: str | None = None
+        self._rows = 0
+        self._width = 0
+
+    @property
+    def plain(self) -> str:
+        """The text shown, without the padding and wrapping."""
+        return self._plain
+
+    def show_text(self, text: str, *, hold: bool = False) -> None:
+        """Show plain ``text``; ``hold``: keep at least the height shown so far."""
+        self._plain = text
+        self._paint(hold)
+
+    def release(self) -> None:
+        """Let the widget take the height of its text (typing has stopped)."""
+        self._paint(False)
+
+    def _paint(self, hold: bool) -> None:
+        self._width = self.content_size.width
+        rows = wrap_lines(self._plain, self._width)
+        if hold and len(rows) < self._rows:
+            rows += [""] * (self._rows - len(rows))
+        self._rows = len(rows)
+        painted = "\n".join(rows)
+        if painted != self._painted:
+            old, self._painted = self._painted, painted
+            replace_text(self, old, painted)
+
+    def on_resize(self, _event: events.Resize) -> None:
+        if self.content_size.width != self._width:
+            self._paint(False)  # wrapped for another width: wrap again
+
+
+class FindingsPanel(SteadyText):
     """A titled block of result lines, or an error line."""
 
     DEFAULT_CSS = """
@@ -67,22 +139,25 @@ class FindingsPanel(Static):
         self.border_title = title
         self._shown: tuple[tuple[str, ...], str | None, bool] | None = None
 
-    def show(self, lines: Sequence[str], *, error: str | None = None, idle: bool = False) -> None:
+    def show(
+        self,
+        lines: Sequence[str],
+        *,
+        error: str | None = None,
+        idle: bool = False,
+        hold: bool = False,
+    ) -> None:
         """Show ``lines``; with ``error`` show the error instead (``idle``: nothing to show,
-        the lines explain why, in muted text)."""
+        the lines explain why, in muted text). ``hold``: keep the panel's height (typing)."""
         key = (tuple(lines), error, idle)
         if key == self._shown:
             return
-        old = None if self._shown is None else self.text
         self._shown = key
         self.set_class(error is not None, "-error")
         self.set_class(idle and error is None, "-idle")
-        replace_text(self, old, self.text)
+        self.show_text(("⚠ " + error) if error is not None else "\n".join(lines), hold=hold)
 
     @property
     def text(self) -> str:
         """The plain text shown (for tests and the bench)."""
-        if self._shown is None:
-            return ""
-        lines, error, _ = self._shown
-        return ("⚠ " + error) if error is not None else "\n".join(lines)
+        return self.plain
