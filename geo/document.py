@@ -784,11 +784,12 @@ def _parse_course(
     index: int,
     previous_azimuth: float | None,
     doc: Document,
-    ctx: dict[str, Any],
+    ctx_items: tuple[tuple[str, Any], ...],
     file: str | None,
 ) -> RecordedCourse:
     """Parse one course (cached on the course's keys and context: an editor re-parses a whole
-    document on every keystroke, and only the edited course is new)."""
+    document on every keystroke, and only the edited course is new). ``ctx_items``: the
+    items of the document's unit context (:func:`_unit_context`)."""
     try:
         fields = _parse_course_cached(
             course,
@@ -796,7 +797,7 @@ def _parse_course(
             previous_azimuth if course.bearing is None and course.call is None else None,
             doc.record.angles,
             doc.record.distance_unit,
-            tuple(ctx.items()),
+            ctx_items,
         )
     except LodelineError as err:
         if (err.field or "").startswith("record."):
@@ -907,11 +908,11 @@ def parse_courses(doc: Document, *, file: str | None = None) -> tuple[RecordedCo
     Raises the first :class:`DocumentError` (file, course, key) met, courses in order.
     Courses given by an angle take their azimuth from the previous course (unadjusted).
     """
-    ctx = _unit_context(doc)
+    ctx_items = tuple(_unit_context(doc).items())
     out: list[RecordedCourse] = []
     previous: float | None = None
     for i, course in enumerate(doc.course, start=1):
-        parsed = _parse_course(course, i, previous, doc, ctx, file)
+        parsed = _parse_course(course, i, previous, doc, ctx_items, file)
         out.append(parsed)
         previous = parsed.azimuth_deg
     return tuple(out)
@@ -935,10 +936,11 @@ def document_problems(doc: Document, *, file: str | None = None) -> list[Documen
     except LodelineError as err:
         problems.append(_locate(err, file, None, "record"))
         return problems
+    ctx_items = tuple(ctx.items())
     previous: float | None = None
     for i, course in enumerate(doc.course, start=1):
         try:
-            previous = _parse_course(course, i, previous, doc, ctx, file).azimuth_deg
+            previous = _parse_course(course, i, previous, doc, ctx_items, file).azimuth_deg
         except LodelineError as err:
             problems.append(
                 err if isinstance(err, DocumentError) else _locate(err, file, i, "call")

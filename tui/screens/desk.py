@@ -299,11 +299,6 @@ class Desk(Screen):
             self._sketch_pending = (results, revision)
         else:
             self.call_after_refresh(self._show_sketch, results, revision)
-        paint = getattr(self, "_on_timer_update", None)  # Textual's frame tick
-        if paint is not None and self.is_current:
-            # Paint now: Textual paints on its next frame tick (up to 1/60 s away), which
-            # the user would wait for on every keystroke.
-            paint()
 
     def _show(self, results: Results) -> None:
         self.results = results
