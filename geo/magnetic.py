@@ -154,17 +154,7 @@ def field_at(
     comps = np.empty((6, size))
     for name in unique:
         sel = names == name if len(unique) > 1 else slice(None)
-        res = synthesize(
-            load_model(name),
-            lat_deg=flat[0][sel],
-            lon_deg=flat[1][sel],
-            height_m=flat[2][sel],
-            year=flat[3][sel],
-        )
-        for i, arr in enumerate(
-            (res.north, res.east, res.down, res.north_rate, res.east_rate, res.down_rate)
-        ):
-            comps[i, sel] = arr
+        comps[:, sel] = _components(name, *(a[sel] for a in flat))
     x, y, z, dx, dy, dz = comps
     hz = np.hypot(x, y)
     f = np.hypot(hz, z)
@@ -214,6 +204,49 @@ def field_at(
         model=model_out,
         warnings=warn[0] if shape == () else warn,
     )
+
+
+#: Components already computed, by (model, lat, lon, height, year) of the point: an editor
+#: evaluates the stations of a document on every keystroke, and only those after the edited
+#: course have moved. Kept for batches of up to _MEMO_BATCH points (a grid or a file of points
+#: is computed whole), at most _MEMO_MAX points (then forgotten at once).
+_MEMO: dict[tuple[str, float, float, float, float], tuple[float, ...]] = {}
+_MEMO_BATCH = 4096
+_MEMO_MAX = 50_000
+
+
+def _components(
+    name: str,
+    lat: NDArray[np.float64],
+    lon: NDArray[np.float64],
+    h: NDArray[np.float64],
+    year: NDArray[np.float64],
+) -> NDArray[np.float64]:
+    """X, Y, Z (geodetic north, east, down, nT) and their yearly rates at flat points, shape
+    (6, points), from model ``name`` (:func:`geo.synthesis.synthesize`)."""
+
+    def synthesized(at: tuple[NDArray[np.float64], ...]) -> NDArray[np.float64]:
+        res = synthesize(load_model(name), lat_deg=at[0], lon_deg=at[1], height_m=at[2], year=at[3])
+        return np.array(
+            [res.north, res.east, res.down, res.north_rate, res.east_rate, res.down_rate],
+            dtype=float,
+        ).reshape(6, -1)
+
+    if lat.size > _MEMO_BATCH:
+        return synthesized((lat, lon, h, year))
+    keys = list(
+        zip([name] * lat.size, lat.tolist(), lon.tolist(), h.tolist(), year.tolist(), strict=True)
+    )
+    found = [_MEMO.get(k) for k in keys]
+    missing = [i for i, v in enumerate(found) if v is None]
+    if missing:
+        at = np.array(missing)
+        fresh = synthesized((lat[at], lon[at], h[at], year[at])).T.tolist()
+        if len(_MEMO) + len(missing) > _MEMO_MAX:
+            _MEMO.clear()
+        for i, values in zip(missing, fresh, strict=True):
+            found[i] = _MEMO[keys[i]] = tuple(values)
+    return np.array(found, dtype=float).reshape(-1, 6).T
 
 
 def _warnings(h_nt: float) -> tuple[str, ...]:

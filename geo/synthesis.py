@@ -174,6 +174,7 @@ class _Recursion:
 
     b_coef: tuple[NDArray[np.float64], ...]  # per m, indexed by row n - m
     scale: tuple[NDArray[np.float64], ...]  # K_n per m, indexed by row n - m
+    b_table: NDArray[np.float64]  # b_coef as one (nmax + 1, nmax + 1) array, zero-padded
 
 
 @functools.lru_cache(maxsize=16)
@@ -194,7 +195,10 @@ def _recursion(nmax: int) -> _Recursion:
         b[2:] = beta[2:] * scale[:-2] / scale[2:]
         b_all.append(b)
         s_all.append(scale)
-    return _Recursion(tuple(b_all), tuple(s_all))
+    b_table = np.zeros((nmax + 1, nmax + 1))
+    for m, b in enumerate(b_all):
+        b_table[m, : b.size] = b
+    return _Recursion(tuple(b_all), tuple(s_all), b_table)
 
 
 def _weights(model: SphericalHarmonicModel) -> tuple[tuple, ...]:
@@ -287,11 +291,16 @@ def _synth_chunk(
     p1 = model.coeffs.shape[1]
     half = 4 * p1
     c_pts = cos_t.shape[0]
-    table = np.empty((nmax + 1, c_pts))
-    trig = np.empty((2 * min(nmax + 1, _TRIG_FIRST_ROWS), c_pts))
-    tmp = np.empty(c_pts)
     u = cos_t * rho
     v = rho * rho
+    every_order = (
+        _table_of_every_order(nmax, rec, u, v, rho, sin_t)
+        if c_pts <= _TABLE_POINTS and (nmax + 1) ** 2 * c_pts * 8 <= _TABLE_BYTES
+        else None
+    )
+    table = np.empty((nmax + 1, c_pts)) if every_order is None else None
+    trig = np.empty((2 * min(nmax + 1, _TRIG_FIRST_ROWS), c_pts))
+    tmp = np.empty(c_pts)
     acc = np.zeros((half, c_pts))  # groups 0..3 of the weights
     z0 = np.empty((p1, c_pts))
     xs = np.zeros((p1, c_pts))
@@ -301,24 +310,11 @@ def _synth_chunk(
     for m in range(nmax + 1):
         b = rec.b_coef[m]
         length = nmax + 1 - m
-        t = table[:length]
-        if m == 0:
-            np.copyto(t[0], v)  # (a/r)^2 P_00
-        elif m == 1:
-            np.multiply(rho, v, out=sectoral)  # (a/r)^3 P_11 / sin(theta)
-            t[0] = sectoral
+        if every_order is not None:
+            t = every_order[m, :length]
         else:
-            sectoral *= sin_t
-            sectoral *= rho
-            sectoral *= math.sqrt((2 * m - 1) / (2 * m))
-            t[0] = sectoral
-        if length > 1:
-            np.multiply(u, t[0], out=t[1])
-        for k in range(2, length):
-            np.multiply(u, t[k - 1], out=t[k])
-            np.multiply(v, t[k - 2], out=tmp)
-            tmp *= b[k]
-            t[k] -= tmp
+            t = table[:length]
+            _table_of_order(m, t, b, u, v, rho, sin_t, sectoral, tmp)
         trig_first, w, w_xs = weights[m]
         if m == 0:
             _run_products(w, t[1:], runs, z0)
@@ -348,6 +344,89 @@ def _synth_chunk(
     np.multiply(acc[0], sin_t, out=comps[2])
     comps[2] += z0
     return comps
+
+
+def _table_of_order(
+    m: int,
+    t: NDArray[np.float64],
+    b: NDArray[np.float64],
+    u: NDArray[np.float64],
+    v: NDArray[np.float64],
+    rho: NDArray[np.float64],
+    sin_t: NDArray[np.float64],
+    sectoral: NDArray[np.float64],
+    tmp: NDArray[np.float64],
+) -> None:
+    """Fill ``t`` (rows n = m..nmax) with the scaled table of order ``m`` (see _Recursion),
+    orders taken in turn from 0: ``sectoral`` carries the sectoral term from order m - 1."""
+    length = t.shape[0]
+    if m == 0:
+        np.copyto(t[0], v)  # (a/r)^2 P_00
+    elif m == 1:
+        np.multiply(rho, v, out=sectoral)  # (a/r)^3 P_11 / sin(theta)
+        t[0] = sectoral
+    else:
+        sectoral *= sin_t
+        sectoral *= rho
+        sectoral *= math.sqrt((2 * m - 1) / (2 * m))
+        t[0] = sectoral
+    if length > 1:
+        np.multiply(u, t[0], out=t[1])
+    for k in range(2, length):
+        np.multiply(u, t[k - 1], out=t[k])
+        np.multiply(v, t[k - 2], out=tmp)
+        tmp *= b[k]
+        t[k] -= tmp
+
+
+#: Chunks of up to this many points, whose table of every order at once takes at most
+#: _TABLE_BYTES, build that table (:func:`_table_of_every_order`); larger chunks build one
+#: order's table at a time, which is as quick once the arithmetic outweighs the number of
+#: array operations (measured: from about 250 points for degree 13 and for degree 133).
+_TABLE_POINTS = 256
+_TABLE_BYTES = 40 * 2**20
+
+
+def _table_of_every_order(
+    nmax: int,
+    rec: _Recursion,
+    u: NDArray[np.float64],
+    v: NDArray[np.float64],
+    rho: NDArray[np.float64],
+    sin_t: NDArray[np.float64],
+) -> NDArray[np.float64]:
+    """The scaled tables of every order at once, shape (nmax + 1, nmax + 1, points): entry
+    [m, k] is row n = m + k of order m (entries with m + k > nmax are not filled).
+
+    The same operations, in the same order, as :func:`_table_of_order` for each order, but
+    each step of the recursion is taken for every order together: a few hundred array
+    operations instead of one per (n, m). For a few points of a high-degree model (degree
+    133: some 9,000 (n, m) pairs) this is what keeps one evaluation in milliseconds.
+    """
+    size = nmax + 1
+    c_pts = u.shape[0]
+    table = np.empty((size, size, c_pts))
+    sectoral = np.empty(c_pts)
+    table[0, 0] = v
+    if size > 1:
+        np.multiply(rho, v, out=sectoral)
+        table[1, 0] = sectoral
+    for m in range(2, size):
+        sectoral *= sin_t
+        sectoral *= rho
+        sectoral *= math.sqrt((2 * m - 1) / (2 * m))
+        table[m, 0] = sectoral
+    if size > 1:
+        np.multiply(u, table[: size - 1, 0], out=table[: size - 1, 1])
+    b_of = rec.b_table
+    tmp = np.empty((size, c_pts))
+    for k in range(2, size):
+        rows = size - k  # the orders m <= nmax - k have a row n = m + k
+        np.multiply(u, table[:rows, k - 1], out=table[:rows, k])
+        np.multiply(v, table[:rows, k - 2], out=tmp[:rows])
+        tmp[:rows] *= b_of[:rows, k, None]
+        table[:rows, k] -= tmp[:rows]
+    return table
 
 
 def _run_products(
@@ -416,6 +495,57 @@ def _synthesize(
     lat, lon, hgt, yr = (a.ravel() for a in (lat, lon, hgt, yr))
     npts = lat.size
     seg = model.segment_of(yr[:1] if np.size(year) == 1 else yr)
+    seg_all = np.broadcast_to(seg, (npts,))
+    # A place asked for at several dates of one time segment (a record and a target date a
+    # few years apart, say) has one set of time polynomials: compute it once.
+    spread = None
+    if 1 < npts <= _SHARED_PLACES_MAX and np.size(year) > 1:
+        key = np.column_stack([lat, lon, hgt, seg_all.astype(float)])
+        _, first, inverse = np.unique(key, axis=0, return_index=True, return_inverse=True)
+        if first.size < npts:
+            spread = inverse.ravel()
+            places = (lat[first], lon[first], hgt[first], seg_all[first])
+    if spread is None:
+        polys, cos_psi, sin_psi = _polynomials(model, lat, lon, hgt, seg_all, chunk_size)
+    else:
+        polys, cos_psi, sin_psi = _polynomials(model, *places, chunk_size)
+        polys, cos_psi, sin_psi = polys[:, :, spread], cos_psi[spread], sin_psi[spread]
+    tau = yr - model.breaks[seg_all]
+    # Horner for value and derivative in the time since each point's segment start
+    p1 = polys.shape[1]
+    out = polys[:, p1 - 1].copy()
+    out_rate = np.zeros_like(out)
+    for p in range(p1 - 2, -1, -1):
+        out_rate *= tau
+        out_rate += out
+        out *= tau
+        out += polys[:, p]
+    x_c, y_c, z_c = out
+    dx_c, dy_c, dz_c = out_rate
+    north = x_c * cos_psi + z_c * sin_psi
+    down = -x_c * sin_psi + z_c * cos_psi
+    north_rate = dx_c * cos_psi + dz_c * sin_psi
+    down_rate = -dx_c * sin_psi + dz_c * cos_psi
+    results = (north, y_c, down, north_rate, dy_c, down_rate)
+    return FieldComponents(*(a.reshape(shape) for a in results))
+
+
+#: Batches of up to this many points are searched for places repeated at several dates.
+_SHARED_PLACES_MAX = 4096
+
+
+def _polynomials(
+    model: SphericalHarmonicModel,
+    lat: NDArray[np.float64],
+    lon: NDArray[np.float64],
+    hgt: NDArray[np.float64],
+    seg: NDArray[np.intp],
+    chunk_size: int | None,
+) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]:
+    """Time polynomials of the geocentric X', Y', Z' at flat points, each in its time segment
+    ``seg`` (shape (3, P1, points), see :func:`_synth_chunk`), and the cosine and sine of the
+    angle from the geocentric to the geodetic frame at each point."""
+    npts = lat.size
     order = None
     run_seg = seg[:1]
     run_bounds = np.array([0, npts])
@@ -426,11 +556,10 @@ def _synthesize(
         small = np.int16 if model.coeffs.shape[0] < 2**15 else np.intp
         order = np.argsort(seg.astype(small), kind="stable")
         seg = seg[order]
-        lat, lon, hgt, yr = lat[order], lon[order], hgt[order], yr[order]
+        lat, lon, hgt = lat[order], lon[order], hgt[order]
         cuts = np.flatnonzero(seg[1:] != seg[:-1]) + 1
         run_seg = seg[np.concatenate([[0], cuts])]
         run_bounds = np.concatenate([[0], cuts, [npts]])
-    tau = yr - model.breaks[seg]
     r, cos_t, sin_t, cos_psi, sin_psi = geodetic_to_geocentric(lat, hgt)
     rho = REFERENCE_RADIUS_KM / r
     lon_rad = np.radians(lon)
@@ -455,24 +584,10 @@ def _synthesize(
         polys[:, :, part] = _synth_chunk(
             model, runs, cos_t[part], sin_t[part], rho[part], cos_lon[part], sin_lon[part]
         )
-    # Horner for value and derivative in the time since each point's segment start
-    out = polys[:, p1 - 1].copy()
-    out_rate = np.zeros_like(out)
-    for p in range(p1 - 2, -1, -1):
-        out_rate *= tau
-        out_rate += out
-        out *= tau
-        out += polys[:, p]
-    x_c, y_c, z_c = out
-    dx_c, dy_c, dz_c = out_rate
-    north = x_c * cos_psi + z_c * sin_psi
-    down = -x_c * sin_psi + z_c * cos_psi
-    north_rate = dx_c * cos_psi + dz_c * sin_psi
-    down_rate = -dx_c * sin_psi + dz_c * cos_psi
-    results = (north, y_c, down, north_rate, dy_c, down_rate)
     if order is not None:
-        results = tuple(_unsort(a, order) for a in results)
-    return FieldComponents(*(a.reshape(shape) for a in results))
+        polys = polys[:, :, np.argsort(order)]
+        cos_psi, sin_psi = _unsort(cos_psi, order), _unsort(sin_psi, order)
+    return polys, cos_psi, sin_psi
 
 
 def _unsort(values: NDArray[np.float64], order: NDArray[np.intp]) -> NDArray[np.float64]:

@@ -149,3 +149,32 @@ def test_field_is_finite_and_in_range(lat, lon, height, year):
         ):
             assert math.isfinite(float(getattr(f, name)))
         assert abs(float(f.declination_rate_deg_per_year)) < 2.0
+
+
+@pytest.mark.parametrize("model", ["igrf14", "wmmhr2025"])
+def test_points_computed_before_give_the_same_field(model):
+    # field_at keeps the components of points it has computed (an editor evaluates the same
+    # stations on every keystroke); a batch mixing such points with new ones, in another
+    # order, must give what the synthesis gives for every point afresh.
+    import geo.magnetic as gm
+    from geo.models import load_model
+    from geo.synthesis import synthesize
+
+    rng = np.random.default_rng(7)
+    lat = rng.uniform(-80, 80, 40)
+    lon = rng.uniform(-180, 180, 40)
+    year = rng.uniform(2025.0, 2029.9, 40)
+    field_at(lat=lat[:25], lon=lon[:25], year=year[:25], model=model)  # 25 of them known
+    order = rng.permutation(40)
+    got = field_at(lat=lat[order], lon=lon[order], year=year[order], model=model)
+    ref = synthesize(
+        load_model(model), lat_deg=lat[order], lon_deg=lon[order], height_m=0.0, year=year[order]
+    )
+    for name, want in (
+        ("north_nT", ref.north),
+        ("east_nT", ref.east),
+        ("down_nT", ref.down),
+        ("down_rate_nT_per_year", ref.down_rate),
+    ):
+        np.testing.assert_allclose(getattr(got, name), want, rtol=0, atol=1e-9, err_msg=name)
+    assert any(key[0] == model for key in gm._MEMO)  # the points were indeed kept

@@ -260,3 +260,53 @@ def test_dipole_only_model_matches_closed_form():
     assert float(f.north) == pytest.approx(29950.0 * ratio, rel=1e-12)
     assert float(f.down) == pytest.approx(0.0, abs=1e-9)
     assert float(f.north_rate) == pytest.approx(-10.0 * ratio, rel=1e-12)
+
+
+@pytest.mark.parametrize("model_name", ["igrf14", "wmmhr2025"])
+def test_table_of_every_order_gives_the_same_bits_as_one_order_at_a_time(model_name, monkeypatch):
+    # Small chunks build the Legendre tables of every order in one pass of the recursion;
+    # larger ones build one order at a time. Both take the same operations in the same order,
+    # so the field must be identical to the last bit, for points at several dates.
+    import geo.synthesis as gs
+    from geo.models import load_model
+
+    model = load_model(model_name)
+    rng = np.random.default_rng(3)
+    lat = rng.uniform(-89.9, 89.9, 50)
+    lon = rng.uniform(-180, 180, 50)
+    h = rng.uniform(-500, 30_000, 50)
+    lo, hi = (2020.0, 2029.9) if model_name == "igrf14" else (2025.0, 2029.9)
+    year = rng.uniform(lo, hi, 50)
+    one_pass = gs.synthesize(model, lat_deg=lat, lon_deg=lon, height_m=h, year=year)
+    monkeypatch.setattr(gs, "_TABLE_POINTS", 0)
+    by_order = gs.synthesize(model, lat_deg=lat, lon_deg=lon, height_m=h, year=year)
+    for name in ("north", "east", "down", "north_rate", "east_rate", "down_rate"):
+        assert np.array_equal(getattr(one_pass, name), getattr(by_order, name)), name
+
+
+def test_a_place_at_several_dates_is_the_field_at_each_date():
+    # A batch holding each place twice (a record and a target date of one WMM segment, and a
+    # date of another IGRF segment) shares the time polynomials of a place within a segment;
+    # the result must be what each date gives on its own.
+    from geo.models import load_model
+
+    rng = np.random.default_rng(11)
+    lat = rng.uniform(-85, 85, 30)
+    lon = rng.uniform(-180, 180, 30)
+    for name, dates in (("wmm2025", (2025.2, 2029.7)), ("igrf14", (1903.5, 1907.0, 1993.2))):
+        model = load_model(name)
+        k = len(dates)
+        both = synthesize(
+            model,
+            lat_deg=np.tile(lat, k),
+            lon_deg=np.tile(lon, k),
+            height_m=0.0,
+            year=np.repeat(dates, 30),
+        )
+        for i, year in enumerate(dates):
+            alone = synthesize(model, lat_deg=lat, lon_deg=lon, height_m=0.0, year=year)
+            part = slice(30 * i, 30 * (i + 1))
+            for comp in ("north", "east", "down", "north_rate", "east_rate", "down_rate"):
+                np.testing.assert_allclose(
+                    getattr(both, comp)[part], getattr(alone, comp), rtol=0, atol=1e-9
+                )

@@ -14,6 +14,7 @@ F2, F3 and F4 bring the job, the calls and the findings forward in every arrange
 
 from __future__ import annotations
 
+import gc
 from collections.abc import Callable
 from typing import TYPE_CHECKING
 
@@ -239,8 +240,17 @@ class Desk(Screen):
         first_time = not self._computed_once
         self._computed_once = True
         if wait or len(ws.courses) <= THREAD_ABOVE:
-            # both stages, then one redraw: quicker than showing the conversion first
-            self._apply(closure_stage(conversion_stage(ws.doc, path=ws.path)), ws.revision)
+            # both stages, then one redraw: quicker than showing the conversion first. The
+            # collector of reference cycles waits until that redraw is on the screen (what
+            # the computation leaves is mostly freed as it goes; the rest can wait a frame).
+            collecting = gc.isenabled()
+            gc.disable()
+            try:
+                results = closure_stage(conversion_stage(ws.doc, path=ws.path))
+                self._apply(results, ws.revision)
+            finally:
+                if collecting:
+                    self.call_after_refresh(gc.enable)
             return
         # start after the next paint, so the screen is drawn before the computation
         if first_time:
