@@ -101,20 +101,21 @@ def _sincos_deg(az: Array) -> tuple[Array, Array]:
 
 
 def _cumsum(values: Array) -> Array:
-    """Running sums with Neumaier compensation (prefix sums nearly correctly rounded)."""
-    sums = [0.0]
-    keep = sums.append
-    total = 0.0
-    comp = 0.0
-    for v in values.tolist():
-        t = total + v
-        if abs(total) >= abs(v):
-            comp += (total - t) + v
-        else:
-            comp += (v - t) + total
-        total = t
-        keep(total + comp)
-    return np.array(sums, dtype=float)
+    """Running sums, starting with 0, compensated as in Ogita, Rump and Oishi's Sum2 ("Accurate
+    sum and dot product", SIAM J. Sci. Comput. 26, 2005): each prefix is as accurate as if
+    summed in twice the working precision, then rounded (error about eps |sum| + n^2 eps^2
+    sum |v|).
+
+    numpy's running sum adds in order, s_i = fl(s_(i-1) + v_i); Knuth's TwoSum gives the exact
+    rounding error of each of those additions, and the running sum of the errors corrects
+    each prefix.
+    """
+    v = np.asarray(values, dtype=float).ravel()
+    s = np.cumsum(v)
+    before = np.concatenate([[0.0], s[:-1]])
+    part = s - before
+    errors = (before - (s - part)) + (v - part)  # TwoSum: before + v == s + errors exactly
+    return np.concatenate([[0.0], s + np.cumsum(errors)])
 
 
 def _azimuth_of(d_north: Array, d_east: Array) -> Array:

@@ -594,3 +594,34 @@ def test_a_figure_that_closes_up_to_rounding_closes_exactly():
     az = [10.0, 130.0, _m.degrees(_m.atan2(e, n)) % 360.0]
     c = _closure(az, [101.7, 87.3, _m.hypot(n, e)])
     assert c.misclosure_m == 0.0 and c.precision is None and c.misclosure_azimuth_deg is None
+
+
+@settings(max_examples=200, deadline=None)
+@given(
+    st.lists(
+        st.floats(min_value=-1e9, max_value=1e9, allow_nan=False, allow_infinity=False),
+        min_size=1,
+        max_size=300,
+    )
+)
+def test_running_sums_meet_the_sum2_error_bound(values):
+    # The latitudes and departures are summed with compensation (Sum2 of Ogita, Rump and
+    # Oishi, "Accurate sum and dot product", SIAM J. Sci. Comput. 26, 2005): every prefix
+    # must meet their error bound, |sum2 - s| <= eps |s| + gamma(n-1)^2 sum |v| with
+    # eps = 2^-53 and gamma(k) = k eps / (1 - k eps) (their Proposition 4.1), against the
+    # exact sum computed in rational arithmetic (Python's fractions).
+    from fractions import Fraction
+
+    from geo.traverse import _cumsum
+
+    eps = 2.0**-53
+    sums = _cumsum(np.array(values))
+    assert sums[0] == 0.0
+    exact = Fraction(0)
+    absolute = 0.0
+    for i, v in enumerate(values, start=1):
+        exact += Fraction(v)
+        absolute += abs(v)
+        gamma = (i - 1) * eps / (1 - (i - 1) * eps)
+        bound = eps * abs(float(exact)) + gamma * gamma * absolute * (1 + 1e-9)
+        assert abs(Fraction(float(sums[i])) - exact) <= Fraction(bound), (i, sums[i])

@@ -4,7 +4,8 @@ Run: ``python tests/bench/bench_document.py [--repeat 5]`` (not collected by pyt
 each size, the time of
 
 - ``load``: :func:`geo.document.load_document` of the file (TOML, schema, every call parsed),
-  with the parsed-course cache emptied first (opening a document);
+  with the parsed-course cache and the field engine's memory of computed points emptied
+  first (opening a document);
 - ``convert``: :func:`geo.north.convert_document` right after the load (the courses are then
   cached, as in the terminal application after a keystroke);
 - ``close``: :func:`geo.survey.close_document` of that conversion;
@@ -37,6 +38,7 @@ from pyproj import CRS, Proj, Transformer  # noqa: E402
 
 from geo import document as _document  # noqa: E402
 from geo import grid as _grid  # noqa: E402
+from geo import magnetic as _magnetic  # noqa: E402
 from geo.document import load_document  # noqa: E402
 from geo.north import convert_document  # noqa: E402
 from geo.survey import close_document  # noqa: E402
@@ -72,6 +74,7 @@ def make_document(path: Path, courses: int, seed: int = 1925) -> Path:
 
 def _once(path: Path) -> tuple[float, float, float, object]:
     _document._parse_course_cached.cache_clear()
+    _magnetic._MEMO.clear()  # the field at every station is computed afresh, as on opening
     t0 = time.perf_counter()
     doc = load_document(path)
     t1 = time.perf_counter()

@@ -229,9 +229,9 @@ class Desk(Screen):
         redraw. A larger one is computed in a thread, so the keyboard stays live: the
         conversion is shown as soon as it is ready, then the closure and fit. The first time
         a large document is shown (opening it), its conversion runs here right after the
-        calls are painted, then the closure in the thread: the bearings come quicker than
-        from a thread sharing the processor with the screen's start-up. ``wait=True``
-        computes here and now whatever the size. ``typed``: the edit was typed, so the
+        calls are painted, and its closure here right after the bearings are painted: both
+        come quicker than from a thread sharing the processor with the screen's start-up.
+        ``wait=True`` computes here and now whatever the size. ``typed``: the edit was typed, so the
         sketch is drawn after :data:`SKETCH_PAUSE_S` more of quiet typing.
         """
         self._timer = None
@@ -265,7 +265,13 @@ class Desk(Screen):
         first = conversion_stage(doc, path=path)
         self._apply(first, revision)
         if not first.final:
-            self._close(first, revision)
+            # then the closure, here too once the bearings are painted: a worker thread would
+            # share the processor with the screen's first frames and finish later
+            self.call_after_refresh(self._close_here, first, revision)
+
+    def _close_here(self, first: Results, revision: int) -> None:
+        if revision == self.lode.workspace.revision:  # else the edit's recompute follows
+            self._apply(closure_stage(first), revision)
 
     # A description of our own: by default Textual writes the repr of every argument (the
     # whole document and its results), which takes most of a second for 5,000 courses.
@@ -280,12 +286,6 @@ class Desk(Screen):
             return
         final = closure_stage(first)
         if not worker.is_cancelled:
-            self.app.call_from_thread(self._apply, final, revision)
-
-    @work(thread=True, exclusive=True, group="compute", description="compute the closure")
-    def _close(self, first: Results, revision: int) -> None:
-        final = closure_stage(first)
-        if not get_current_worker().is_cancelled:
             self.app.call_from_thread(self._apply, final, revision)
 
     def _apply(self, results: Results, revision: int) -> None:
