@@ -166,6 +166,30 @@ async def test_call_that_does_not_read_is_kept_and_marked(doc_path: Path):
 
 
 @sync
+async def test_course_the_schema_refuses_waits_like_a_call_that_does_not_read(doc_path: Path):
+    # Course 2 keeps a note, so clearing its call leaves a course the schema refuses (an
+    # empty call) rather than a blank row: it is marked, course 1 still converts, and the
+    # closure waits for it, as for a call that does not read.
+    doc_path.write_text(
+        DOC.replace('call = "S 80 E 10 chains"', 'call = "S 80 E 10 chains"\nnote = "fence"'),
+        encoding="utf-8",
+    )
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await _settle(pilot)
+        await pilot.press("down", "enter")
+        await _paste(pilot, "")
+        await _settle(pilot)
+        rows = app.desk.results.rows
+        assert rows[1].mark == "✗" and "empty" in rows[1].message
+        assert rows[0].true.startswith("N 10")
+        assert rows[2].true == ""  # after the refused course: waits
+        assert "does not read" in " ".join(app.desk.results.panels["closure"].lines)
+        assert app.desk.results.panels["field"].error is None
+        assert app.desk.results.problem_count == 1
+
+
+@sync
 async def test_add_insert_delete_move_and_undo_all(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:

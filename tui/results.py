@@ -160,16 +160,28 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
         results.final = True
         return results
 
-    try:
-        doc = document_from_dict(clean, file=file, check=False)
-    except LodelineError as err:
-        results.problem_count = 1
-        if err.course is not None:
+    # A course the schema refuses (an empty call, a negative distance...) is marked and the
+    # courses before it are converted, as for a call that does not read; a refused setting
+    # stops everything.
+    schema_bad: int | None = None
+    while True:
+        try:
+            doc = document_from_dict(clean, file=file, check=False)
+        except LodelineError as err:
+            results.problem_count += 1
+            if err.course is None or not 1 <= err.course <= len(clean["course"]):
+                if err.field:
+                    results.invalid_settings.add(err.field)
+                return fail_all(str(err))
             row = kept[err.course - 1]
-            rows[row] = _replace(rows[row], mark=MARK_BAD, message=f"{MARK_BAD} {err.message}")
-        elif err.field:
-            results.invalid_settings.add(err.field)
-        return fail_all(str(err))
+            where = f"'{err.field}': " if err.field and err.field != "call" else ""
+            rows[row] = _replace(
+                rows[row], mark=MARK_BAD, message=f"{MARK_BAD} {where}{err.message}"
+            )
+            schema_bad = err.course - 1
+            clean = {**clean, "course": clean["course"][:schema_bad]}
+            continue
+        break
     results.document = doc
     results.crs_hint = _crs_hint(doc)
     from geo.north import convert_document
@@ -191,7 +203,7 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
                 first_bad = err.course - 1 if first_bad is None else min(first_bad, err.course - 1)
             elif err.field:
                 results.invalid_settings.add(err.field)
-        results.problem_count = len(problems)
+        results.problem_count += len(problems)
         record_problems = [e for e in problems if e.course is None]
         if record_problems:
             return fail_all(str(record_problems[0]))
@@ -214,6 +226,8 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
                 results.invalid_settings.add(err.field)
             results.problem_count = max(results.problem_count, 1)
             return fail_all(str(err))
+    if results.first_bad is None:
+        results.first_bad = schema_bad
     results.conversion = conv
     for k, c in enumerate(conv.courses):
         row = kept[k]
