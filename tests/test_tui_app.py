@@ -190,6 +190,38 @@ async def test_course_the_schema_refuses_waits_like_a_call_that_does_not_read(do
 
 
 @sync
+async def test_old_magnetic_record_without_a_declination_closes_and_fits(tmp_path: Path):
+    # A deed of 1796 in magnetic bearings, no declination stated and no model covering 1796
+    # (IGRF starts in 1900): the desk keeps what does not depend on that declination, closes
+    # the figure in magnetic north of the record date and lets the fit find the declination
+    # from the found corners (the retracement case; common practice). Demo data: invented.
+    demo = Path(__file__).parents[1] / "demo_traverses" / "ashgrove_hollow_1796.toml"
+    text = "".join(
+        line
+        for line in demo.read_text(encoding="utf-8").splitlines(keepends=True)
+        if not line.startswith("declination")
+    )
+    path = tmp_path / "ashgrove.toml"
+    path.write_text(text, encoding="utf-8")
+    app = LodelineApp(load_workspace(path))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await _settle(pilot, 0.3)
+        results = app.desk.results
+        assert results.problem_count == 0
+        first = results.rows[0]
+        assert first.mag_record.startswith("N 22")
+        assert first.true == first.grid == first.mag_target == "—"
+        closure = "\n".join(results.panels["closure"].lines)
+        assert "(magnetic, record date)" in closure and "acres" in closure
+        fit = "\n".join(results.panels["fit"].lines)
+        assert "empirical D" in fit
+        field = "\n".join(results.panels["field"].lines)
+        assert "no field model covers this date" in field
+        assert results.sketch is not None and results.sketch.up == "magnetic north of 1796"
+        assert "magnetic north of 1796" in str(app.desk.query_one("#sketch").border_title)
+
+
+@sync
 async def test_add_insert_delete_move_and_undo_all(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:

@@ -21,7 +21,7 @@ from typing import Any
 
 import numpy as np
 
-from geo.errors import DocumentError, LodelineError
+from geo.errors import DocumentError, LodelineError, ModelRangeError
 from tui.widgets.call_table import CallRow
 from tui.widgets.sketch import NorthMark, SketchFigure
 from tui.workspace import course_call_text, is_blank_course
@@ -189,7 +189,7 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
     usable = doc
     try:
         # the common case: everything reads, and the conversion parses every course itself
-        conv = convert_document(usable, file=file)
+        conv = convert_document(usable, file=file, allow_unknown_declination=True)
     except LodelineError as first_error:
         problems = document_problems(doc, file=file)
         first_bad: int | None = None
@@ -213,7 +213,7 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
         try:
             if first_bad is None:
                 raise first_error
-            conv = convert_document(usable, file=file)
+            conv = convert_document(usable, file=file, allow_unknown_declination=True)
         except LodelineError as err:
             if (
                 isinstance(err, DocumentError)
@@ -237,9 +237,9 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
             rows[row].call,
             _length_text(c.length_value, c.length_unit),
             c.bearing.magnetic_record or "—",
-            c.bearing.true,
-            c.bearing.grid,
-            c.bearing.magnetic_target,
+            c.bearing.true or "—",
+            c.bearing.grid or "—",
+            c.bearing.magnetic_target or "—",
             rows[row].back,
             ("! " + "; ".join(c.warnings)) if caution else "",
         )
@@ -351,6 +351,11 @@ def _field_panel(conv: Any) -> PanelText:
     for label, year, model in dates:
         try:
             f = field_at(lat=pob.lat, lon=pob.lon, year=year, height_m=conv.height_m, model=model)
+        except ModelRangeError:
+            lines.append(f"{label}: ⚠ no field model covers this date")
+            if label.startswith("record") and _unknown_declination(conv):
+                lines.append("  D unknown: state it, add a model or fit it from found corners")
+            continue
         except LodelineError as err:
             lines.append(f"{label}: ⚠ {err.message}")
             continue
@@ -395,11 +400,18 @@ def _grid_panel(conv: Any) -> PanelText:
     )
 
 
+def _unknown_declination(conv: Any) -> bool:
+    """True for a magnetic record whose declination at the record date is not known (no model
+    covers the date and none is stated): only what does not depend on it is computed."""
+    return conv.reference == "magnetic" and conv.declination_source is None
+
+
 def _closure(conv: Any) -> Any:
-    """The closure of the converted document (geo.survey.close_document), true north."""
+    """The closure of the converted document (geo.survey.close_document), in true north, or
+    in magnetic north of the record date when the declination then is not known."""
     from geo.survey import close_document
 
-    return close_document(conv, north="true")
+    return close_document(conv, north="magnetic" if _unknown_declination(conv) else "true")
 
 
 def _closure_panel(closure: Any) -> PanelText:
@@ -411,7 +423,8 @@ def _closure_panel(closure: Any) -> PanelText:
         lines.append("misclosure 0 m (closes exactly)")
     else:
         lines.append(f"misclosure {closure.misclosure_m:,.3f} m")
-        lines.append(f"  toward {closure.misclosure_bearing} (true)")
+        north = "magnetic, record date" if closure.north == "magnetic" else closure.north
+        lines.append(f"  toward {closure.misclosure_bearing} ({north})")
         lines.append(f"precision 1:{closure.precision:,.0f}")
     area = closure.area
     if area is not None:
@@ -479,9 +492,27 @@ def _fit_panel(conv: Any) -> PanelText:
 
 
 def _sketch(conv: Any) -> tuple[SketchFigure | None, str]:
-    """Stations in grid metres from the point of beginning, grid north up, and the norths."""
+    """Stations in grid metres from the point of beginning, grid north up, and the norths;
+    with no declination known at the record date, the recorded figure in ground metres,
+    magnetic north of the record date up (true and grid north cannot be placed)."""
     if not conv.courses:
         return None, "no courses yet"
+    if _unknown_declination(conv):
+        from geo.traverse import march
+
+        st = march(
+            [c.recorded.azimuth_deg for c in conv.courses], [c.length_m for c in conv.courses]
+        )
+        when = conv.record_date.year if conv.record_date else f"{conv.record_year:.1f}"
+        up = NorthMark("M", f"magnetic {when} (record; D unknown)", 0.0)
+        figure = SketchFigure(
+            np.asarray(st.east_m),
+            np.asarray(st.north_m),
+            bool(conv.document.closed),
+            (up,),
+            up=f"magnetic north of {when}",
+        )
+        return figure, ""
     unit = conv.grid_unit_m
     e0, n0 = conv.stations[0].easting, conv.stations[0].northing
     east = np.array([s.easting - e0 for s in conv.stations]) * unit

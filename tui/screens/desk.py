@@ -336,6 +336,8 @@ class Desk(Screen):
             return
         sketch = self.query_one(TraverseSketch)
         sketch.show_figure(results.sketch, results.sketch_message)
+        if results.sketch is not None:
+            sketch.border_title = f"Sketch (to scale, {results.sketch.up} up)"
         key = TraverseSketch.key_text(results.sketch) if results.sketch else ""
         set_text(self.query_one("#sketch-key", Static), key)
         if results.final:

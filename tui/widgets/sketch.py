@@ -52,6 +52,8 @@ class SketchFigure:
     closed: bool
     norths: tuple[NorthMark, ...]
     gap_label: str = "misclosure"
+    #: The north at the top of the sketch, as the sketch's title names it.
+    up: str = "grid north"
 
 
 def _same(a: SketchFigure | None, b: SketchFigure | None) -> bool:
@@ -59,6 +61,7 @@ def _same(a: SketchFigure | None, b: SketchFigure | None) -> bool:
         return a is b
     return (
         a.closed == b.closed
+        and a.up == b.up
         and a.norths == b.norths
         and np.array_equal(a.east, b.east)
         and np.array_equal(a.north, b.north)
