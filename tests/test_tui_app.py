@@ -498,3 +498,45 @@ async def test_found_positions_typed_give_the_fit(doc_path: Path):
         rotation = float(text.split("rotation ")[1].split("°")[0])
         assert rotation == pytest.approx(-conv.courses[0].convergence_deg, abs=0.01)
         assert "rms 0.000 m" in text
+
+
+@sync
+async def test_a_document_the_schema_refuses_opens_to_be_put_right(doc_path: Path):
+    # A latitude of 95 is refused by the schema; the document opens as written, the
+    # setting is marked (✗ before its label, not only a colour), saving waits, and once the
+    # latitude is put right the bearings appear and the file saves.
+    doc_path.write_text(DOC.replace("lat = 40.0", "lat = 95.0"), encoding="utf-8")
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await _settle(pilot)
+        desk = app.desk
+        assert "latitude 95" in (desk.results.panels["closure"].error or "")
+        label = desk.query_one("#set-place--lat-label")
+        assert str(label.render()).startswith("✗")
+        await pilot.press("ctrl+s")
+        await _settle(pilot)
+        assert "lat = 95.0" in doc_path.read_text(encoding="utf-8")  # not saved yet
+        app.workspace.set_setting("place.lat", 40.0)
+        desk.reload()
+        await _settle(pilot)
+        assert desk.results.rows[0].true.startswith("N 10")
+        assert not str(label.render()).startswith("✗")
+        await pilot.press("ctrl+s")
+        await _settle(pilot)
+    assert "lat = 40.0" in doc_path.read_text(encoding="utf-8")
+
+
+def test_a_file_that_is_not_a_traverse_document_still_refuses_to_open(tmp_path: Path):
+    from geo.errors import DocumentError
+
+    for name, text in (
+        ("other.toml", "format_version = 2\n"),
+        ("broken.toml", "title = [unclosed\n"),
+        ("list.json", "[1, 2]"),
+        ("courses.toml", 'format_version = 1\ncourse = "N 10 E 4 perches"\n'),
+    ):
+        path = tmp_path / name
+        path.write_text(text, encoding="utf-8")
+        with pytest.raises(DocumentError) as caught:
+            load_workspace(path)
+        assert name in str(caught.value)

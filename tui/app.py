@@ -41,8 +41,14 @@ DOCUMENT_SUFFIXES = (".toml", ".json")
 
 def load_workspace(path: Path | None) -> Workspace:
     """A workspace on document ``path``: read it if it exists (calls that do not read are
-    kept), or a new document to be saved there. Raises :class:`DocumentError` for a file
-    that is not a traverse document (before any screen opens)."""
+    kept), or a new document to be saved there.
+
+    A document the schema refuses (a latitude of 95, a course with a negative distance, a
+    misspelt key) opens as written, so that it can be put right here: the desk marks what is
+    wrong, and saving waits until it is valid. Raises :class:`DocumentError` for a file that
+    is not a traverse document at all (not TOML or JSON, another format_version, no table of
+    courses), before any screen opens.
+    """
     from geo.document import document_to_dict, load_document
 
     if path is None:
@@ -51,9 +57,38 @@ def load_workspace(path: Path | None) -> Workspace:
         raise DocumentError("a traverse document ends in .toml or .json", file=str(path))
     if not path.exists():
         return Workspace(doc=new_document(), path=path)
-    doc = document_to_dict(load_document(path, check=False))
+    try:
+        doc = document_to_dict(load_document(path, check=False))
+    except DocumentError as refused:
+        doc = _as_written(path)
+        if doc is None:
+            raise refused from None
     doc["course"] = [dict(c) for c in doc.get("course") or ()] or [{"call": ""}]
     return Workspace(doc=doc, path=path)
+
+
+def _as_written(path: Path) -> dict[str, Any] | None:
+    """The mapping of a TOML or JSON file that has the shape of a traverse document of
+    format_version 1 (tables where the document has tables, a list of course tables), or
+    ``None``."""
+    import json
+    import tomllib
+
+    try:
+        text = path.read_bytes().decode("utf-8").removeprefix("\ufeff")
+        data = json.loads(text) if path.suffix.lower() == ".json" else tomllib.loads(text)
+    except (OSError, UnicodeDecodeError, ValueError, RecursionError):
+        return None
+    if not isinstance(data, dict) or data.get("format_version") != 1:
+        return None
+    if any(
+        not isinstance(data.get(key, {}), dict) for key in ("place", "grid", "record", "target")
+    ):
+        return None
+    courses = data.get("course", [])
+    if not isinstance(courses, list) or not all(isinstance(c, dict) for c in courses):
+        return None
+    return data
 
 
 _FOUND_KEYS = {

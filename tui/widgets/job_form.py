@@ -119,6 +119,7 @@ class JobForm(VerticalScroll):
     def __init__(self, *, id: str | None = None) -> None:
         super().__init__(id=id)
         self._session = 0
+        self._invalid: set[str] = set()
         self.border_title = "Job"
 
     def compose(self) -> ComposeResult:
@@ -128,7 +129,7 @@ class JobForm(VerticalScroll):
             if key == "closed":
                 yield Checkbox(label, value=True, id=_widget_id(key))
                 continue
-            yield Label(label)
+            yield Label(label, id=_widget_id(key) + "-label")
             if key in CHOICE_KEYS:
                 yield Select(
                     [(c, c) for c in CHOICE_KEYS[key]], allow_blank=True, id=_widget_id(key)
@@ -161,10 +162,18 @@ class JobForm(VerticalScroll):
         set_text(self.query_one("#crs-hint", Static), text)
 
     def mark_invalid(self, keys: set[str]) -> None:
-        """Mark the fields of ``keys`` as holding a value the document check refused."""
-        for key in SETTING_LABELS:
+        """Mark the fields of ``keys`` as holding a value the document check refused: a red
+        border, and ``✗`` before the label (so it reads without colour)."""
+        if keys == self._invalid:
+            return
+        self._invalid = set(keys)
+        for key, text in SETTING_LABELS.items():
             widget = self.query_one("#" + _widget_id(key))
             widget.set_class(key in keys, "-invalid")
+            if key == "closed":
+                continue
+            label = self.query_one("#" + _widget_id(key) + "-label", Label)
+            label.update(f"✗ {text}" if key in keys else text)
 
     # -- events --------------------------------------------------------------------------
     def on_descendant_focus(self) -> None:
