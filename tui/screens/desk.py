@@ -14,8 +14,9 @@ F2, F3 and F4 bring the job, the calls and the findings forward in every arrange
 
 from __future__ import annotations
 
+import contextlib
 import gc
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from typing import TYPE_CHECKING
 
 from textual import work
@@ -240,17 +241,10 @@ class Desk(Screen):
         first_time = not self._computed_once
         self._computed_once = True
         if wait or len(ws.courses) <= THREAD_ABOVE:
-            # both stages, then one redraw: quicker than showing the conversion first. The
-            # collector of reference cycles waits until that redraw is on the screen (what
-            # the computation leaves is mostly freed as it goes; the rest can wait a frame).
-            collecting = gc.isenabled()
-            gc.disable()
-            try:
+            # both stages, then one redraw: quicker than showing the conversion first
+            with self._collector_waits():
                 results = closure_stage(conversion_stage(ws.doc, path=ws.path))
                 self._apply(results, ws.revision)
-            finally:
-                if collecting:
-                    self.call_after_refresh(gc.enable)
             return
         # start after the next paint, so the screen is drawn before the computation
         if first_time:
@@ -262,8 +256,9 @@ class Desk(Screen):
         if revision != self.lode.workspace.revision:
             self.recompute()  # edited meanwhile: compute what is there now
             return
-        first = conversion_stage(doc, path=path)
-        self._apply(first, revision)
+        with self._collector_waits():
+            first = conversion_stage(doc, path=path)
+            self._apply(first, revision)
         if not first.final:
             # then the closure, here too once the bearings are painted: a worker thread would
             # share the processor with the screen's first frames and finish later
@@ -271,7 +266,21 @@ class Desk(Screen):
 
     def _close_here(self, first: Results, revision: int) -> None:
         if revision == self.lode.workspace.revision:  # else the edit's recompute follows
-            self._apply(closure_stage(first), revision)
+            with self._collector_waits():
+                self._apply(closure_stage(first), revision)
+
+    @contextlib.contextmanager
+    def _collector_waits(self) -> Iterator[None]:
+        """Hold Python's collector of reference cycles until the screen has been painted:
+        what a computation leaves is mostly freed as it goes, the rest can wait a frame, and
+        a full collection in the middle of it would delay what the user is waiting for."""
+        collecting = gc.isenabled()
+        gc.disable()
+        try:
+            yield
+        finally:
+            if collecting:
+                self.call_after_refresh(gc.enable)
 
     # A description of our own: by default Textual writes the repr of every argument (the
     # whole document and its results), which takes most of a second for 5,000 courses.
