@@ -55,6 +55,17 @@ def test_json_has_exactly_the_keys_and_the_field(capsys):
     assert obj["total_nT"] == pytest.approx(float(ref.total_nT), abs=1e-9)
 
 
+@pytest.mark.parametrize("given, shown", [("287.1", -72.9), ("360", 0.0), ("180", 180.0)])
+def test_longitude_in_0_to_360_is_shown_brought_to_minus_180_to_180(capsys, given, shown):
+    # 287.1 E is 72.9 W (common practice); the echo reads -72.9 exactly, and the field is
+    # the field at -72.9.
+    code, out, _ = run(capsys, "field", "--lat", "44", "--lon", given, "--date", "2025.0", "--json")
+    obj = json.loads(out)
+    assert code == 0 and obj["lon"] == shown
+    ref = field_at(lat=44.0, lon=shown, year=2025.0)
+    assert obj["declination_deg"] == pytest.approx(float(ref.declination_deg), abs=1e-9)
+
+
 def test_human_output(capsys):
     code, out, _ = run(
         capsys, "field", "--lat", "45", "--lon", "0", "--date", "2026.5", "--model", "wmm2025"

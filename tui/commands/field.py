@@ -113,6 +113,17 @@ def _dm(value: float, *, signed: bool = True) -> str:
     return f"{sign}{int(deg)}° {minutes:04.1f}'"
 
 
+def _shown_lon(given: float, normalised: float) -> float:
+    """The longitude as shown: one given in 180..360 is brought to -180..0 in decimal
+    arithmetic on the number as written, so 287.1 reads -72.9, not -72.89999999999998 (the
+    field is computed at the float, which differs by less than 1e-13 degrees)."""
+    if given <= 180.0:
+        return normalised
+    from decimal import Decimal
+
+    return float(Decimal(repr(given)) - 360)
+
+
 def _record(result, i: int, lat: float, lon: float, label: str, height: float) -> dict:
     def val(name: str) -> float:
         return float(getattr(result, name).ravel()[i])
@@ -189,7 +200,7 @@ def _single(args) -> int:
     label, year = _date(args.date)
     lat_a, lon_a, _h = validate_position(lat, lon, height)
     result = field_at(lat=lat, lon=lon, year=year, height_m=height, model=args.model)
-    rec = _record(result, 0, float(lat_a), float(lon_a), label, height)
+    rec = _record(result, 0, float(lat_a), _shown_lon(lon, float(lon_a)), label, height)
     if args.json:
         from tui.commands.common import print_json
 
