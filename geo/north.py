@@ -18,9 +18,12 @@ Stations
     of a course are those of its starting station. Because the stations depend on D and gamma
     and those depend on the stations, the march is repeated (each pass one vectorised field
     evaluation of every station at both dates and one vectorised grid-factor evaluation) until
-    no station moves by more than 1 mm (the first pass uses the values at the point of
-    beginning for every course; two or three more passes suffice). The closure, export,
-    report and terminal application all take their stations and per-course figures from here.
+    no station moves by more than 1 mm. The first pass evaluates at the point of beginning
+    and two probes 1 km grid east and north of it and takes the values as linear in grid
+    position, which puts the stations of a figure of a few kilometres well within that
+    millimetre, so one pass over every station usually confirms them (another follows when it
+    does not). The closure, export, report and terminal application all take their stations
+    and per-course figures from here.
 
 Declinations
     The record date's D comes from ``record.declination`` when the document states it (one value
