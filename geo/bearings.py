@@ -931,17 +931,11 @@ def format_bearings(
         values = np.array([finite_number(a, "azimuth") for a in azimuths_deg], dtype=float)
     count = values.size
     if (
-        not isinstance(precision, str)
-        and isinstance(precision, Sequence | np.ndarray)
+        isinstance(precision, list | tuple)
         and len(precision) == count > 0
-        and not any(isinstance(p, str) for p in precision)
+        and all(type(p) is float and p == precision[0] for p in precision)
     ):
-        try:
-            steps_deg = np.asarray(precision, dtype=float)
-        except (TypeError, ValueError):
-            steps_deg = None  # _plan says what is wrong with the bad step, below
-        if steps_deg is not None and np.all(steps_deg == steps_deg[0]):
-            precision = float(steps_deg[0])  # one step for all (the usual case)
+        precision = precision[0]  # one step for all (the usual case)
     if isinstance(precision, str) or not isinstance(precision, Sequence | np.ndarray):
         groups: dict[tuple[type, Any], list[int]] = {(type(precision), precision): []}
         steps: dict[tuple[type, Any], Any] = {(type(precision), precision): precision}

@@ -515,6 +515,28 @@ def loads_document(
 
     Raises :class:`DocumentError` (and nothing else) for anything that is not a valid document.
     """
+    return document_from_dict(loads_mapping(text, fmt, file=file), file=file, check=check)
+
+
+def load_mapping(path: str | os.PathLike[str]) -> Any:
+    """The data of a ``.toml`` or ``.json`` file as read, before any schema check (TOML dates
+    and times are kept as :mod:`datetime` objects). Raises :class:`DocumentError` naming the
+    file when it cannot be read or is not TOML or JSON text."""
+    p = Path(path)
+    file = str(path)
+    fmt = _format_of(p, file)
+    try:
+        raw = p.read_bytes()
+    except OSError as exc:
+        raise DocumentError(f"cannot be read: {exc.strerror or exc}", file=file) from None
+    return loads_mapping(raw, fmt, file=file)  # type: ignore[arg-type]
+
+
+def loads_mapping(
+    text: str | bytes, fmt: Literal["toml", "json"] = "toml", *, file: str | None = None
+) -> Any:
+    """The data of TOML or JSON text as read, before any schema check (see
+    :func:`load_mapping`)."""
     if isinstance(text, bytes):
         try:
             text = text.decode("utf-8")
@@ -532,7 +554,7 @@ def loads_document(
         raise DocumentError(f"is not valid TOML: {exc}", file=file) from None
     except (RecursionError, ValueError) as exc:
         raise DocumentError(f"cannot be read: {exc}", file=file) from None
-    return document_from_dict(data, file=file, check=check)
+    return data
 
 
 def load_document(path: str | os.PathLike[str], *, check: bool = True) -> Document:
@@ -541,14 +563,20 @@ def load_document(path: str | os.PathLike[str], *, check: bool = True) -> Docume
     Raises :class:`DocumentError` naming the file (and course and key) for a file that cannot
     be read or is not a valid document.
     """
-    p = Path(path)
-    file = str(path)
-    fmt = _format_of(p, file)
-    try:
-        raw = p.read_bytes()
-    except OSError as exc:
-        raise DocumentError(f"cannot be read: {exc.strerror or exc}", file=file) from None
-    return loads_document(raw, fmt, file=file, check=check)  # type: ignore[arg-type]
+    return document_from_dict(load_mapping(path), file=str(path), check=check)
+
+
+def plain_values(data: Any) -> Any:
+    """``data`` (tables, lists, values as a TOML or JSON reader gives them) with TOML dates,
+    date-times and times written as ISO text, the way the document keeps dates: what can be
+    written as JSON and shown in a text field."""
+    if isinstance(data, dict):
+        return {k: plain_values(v) for k, v in data.items()}
+    if isinstance(data, list):
+        return [plain_values(v) for v in data]
+    if isinstance(data, _dt.datetime | _dt.date | _dt.time):
+        return data.isoformat()
+    return data
 
 
 def save_document(doc: Document, path: str | os.PathLike[str]) -> Path:

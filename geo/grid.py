@@ -212,8 +212,9 @@ def utm_crs_for(*, lat: float, lon: float) -> str:
     _check_geographic(np.asarray(lat_f), np.asarray(lon_f))
     if not -80.0 <= lat_f <= 84.0:
         raise GridError(
-            f"latitude {lat_f:g} is outside the UTM range 80 S..84 N; give a polar grid "
-            "(e.g. EPSG:5041 north, EPSG:5042 south) in the document"
+            f"latitude {lat_f:g} is outside the UTM range 80 S..84 N; give a polar grid with "
+            'east and north axes in grid.crs, e.g. "+proj=ups +datum=WGS84" (north) or '
+            '"+proj=ups +south +datum=WGS84" (south)'
         )
     zone = min(int(math.floor((lon_f + 180.0) / 6.0)) + 1, 60)
     if 56.0 <= lat_f < 64.0 and 3.0 <= lon_f < 12.0:

@@ -206,11 +206,11 @@ def field_at(
     )
 
 
-#: Components already computed, by (model, lat, lon, height, year) of the point: an editor
+#: Components already computed are kept with the loaded model (a model file that changes is
+#: loaded afresh, with nothing kept), by (lat, lon, height, year) of the point: an editor
 #: evaluates the stations of a document on every keystroke, and only those after the edited
 #: course have moved. Kept for batches of up to _MEMO_BATCH points (a grid or a file of points
-#: is computed whole), at most _MEMO_MAX points (then forgotten at once).
-_MEMO: dict[tuple[str, float, float, float, float], tuple[float, ...]] = {}
+#: is computed whole), at most _MEMO_MAX points a model (then forgotten at once).
 _MEMO_BATCH = 4096
 _MEMO_MAX = 50_000
 
@@ -225,8 +225,10 @@ def _components(
     """X, Y, Z (geodetic north, east, down, nT) and their yearly rates at flat points, shape
     (6, points), from model ``name`` (:func:`geo.synthesis.synthesize`)."""
 
+    model = load_model(name)
+
     def synthesized(at: tuple[NDArray[np.float64], ...]) -> NDArray[np.float64]:
-        res = synthesize(load_model(name), lat_deg=at[0], lon_deg=at[1], height_m=at[2], year=at[3])
+        res = synthesize(model, lat_deg=at[0], lon_deg=at[1], height_m=at[2], year=at[3])
         return np.array(
             [res.north, res.east, res.down, res.north_rate, res.east_rate, res.down_rate],
             dtype=float,
@@ -234,18 +236,17 @@ def _components(
 
     if lat.size > _MEMO_BATCH:
         return synthesized((lat, lon, h, year))
-    keys = list(
-        zip([name] * lat.size, lat.tolist(), lon.tolist(), h.tolist(), year.tolist(), strict=True)
-    )
-    found = [_MEMO.get(k) for k in keys]
+    memo: dict[tuple[float, ...], tuple[float, ...]] = model._cache.setdefault("points", {})
+    keys = list(zip(lat.tolist(), lon.tolist(), h.tolist(), year.tolist(), strict=True))
+    found = [memo.get(k) for k in keys]
     missing = [i for i, v in enumerate(found) if v is None]
     if missing:
         at = np.array(missing)
         fresh = synthesized((lat[at], lon[at], h[at], year[at])).T.tolist()
-        if len(_MEMO) + len(missing) > _MEMO_MAX:
-            _MEMO.clear()
+        if len(memo) + len(missing) > _MEMO_MAX:
+            memo.clear()
         for i, values in zip(missing, fresh, strict=True):
-            found[i] = _MEMO[keys[i]] = tuple(values)
+            found[i] = memo[keys[i]] = tuple(values)
     return np.array(found, dtype=float).reshape(-1, 6).T
 
 

@@ -681,11 +681,11 @@ def _linear(at_probes: np.ndarray, de: np.ndarray, dn: np.ndarray) -> np.ndarray
     """A value (an angle in degrees, or a factor) taken as linear in grid position from its
     values at the point of beginning and at the probes east and north of it; ``de``, ``dn``:
     offsets from the point of beginning in probe distances. Differences of angles are taken
-    in (-180, 180]."""
+    in (-180, 180] (:func:`geo.angles.angle_difference`; a factor differs by far less)."""
+    from geo.angles import angle_difference
+
     v0, ve, vn = (float(x) for x in at_probes[:3])
-    ge = (ve - v0 + 180.0) % 360.0 - 180.0
-    gn = (vn - v0 + 180.0) % 360.0 - 180.0
-    return v0 + ge * de + gn * dn
+    return v0 + angle_difference(ve, v0) * de + angle_difference(vn, v0) * dn
 
 
 class _Split:

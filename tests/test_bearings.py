@@ -432,3 +432,42 @@ def test_parsing_is_linear(unit):
     a = _line_events(parse_bearing, small)
     b = _line_events(parse_bearing, large)
     assert b <= 300 * max(a, 1), (a, b)
+
+
+_STEPS = [1.0, 1.0 / 60.0, 1.0 / 3600.0, 0.1 / 3600.0, 0.5, 0.25, 1.0 / 120.0, "minute"]
+
+
+@settings(max_examples=150, deadline=None)
+@given(
+    st.lists(
+        st.tuples(
+            st.floats(min_value=-720.0, max_value=720.0, allow_nan=False),
+            st.sampled_from(_STEPS),
+        ),
+        min_size=1,
+        max_size=40,
+    ),
+    st.booleans(),
+    st.booleans(),
+)
+def test_many_bearings_at_once_read_as_each_alone(pairs, ascii, one_step):
+    # format_bearings writes many azimuths in one call (numpy rounding, texts reused across
+    # calls, one step for all taken at once): every text must be format_bearing's own.
+    from geo.bearings import format_bearings
+
+    azimuths = [a for a, _ in pairs]
+    steps = [pairs[0][1]] * len(pairs) if one_step else [p for _, p in pairs]
+    pairs_out = zip(azimuths, steps, strict=True)
+    want = [format_bearing(a, precision=p, ascii=ascii) for a, p in pairs_out]
+    for _ in range(2):  # the second call finds the texts already written
+        assert format_bearings(azimuths, precision=steps, ascii=ascii) == want
+
+
+@pytest.mark.parametrize("bad", [[True, True], [float("nan")] * 2, [None, None], [-1.0, -1.0]])
+def test_many_bearings_refuse_a_bad_step_as_one_bearing_does(bad):
+    from geo.bearings import format_bearings
+
+    with pytest.raises(InputError):
+        format_bearing(10.0, precision=bad[0])
+    with pytest.raises(InputError):
+        format_bearings([10.0, 20.0], precision=bad)

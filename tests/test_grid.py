@@ -432,11 +432,20 @@ def test_utm_crs_for_agrees_with_pyproj_database():
         assert got in {f"{i.auth_name}:{i.code}" for i in infos}, (lat, lon)
 
 
-def test_utm_crs_for_polar_is_an_error():
-    with pytest.raises(GridError, match="UTM range"):
-        utm_crs_for(lat=85.0, lon=0.0)
-    with pytest.raises(GridError):
-        utm_crs_for(lat=-80.5, lon=0.0)
+def test_utm_crs_for_polar_is_an_error_whose_advice_works():
+    import re
+
+    from geo.grid import projected_crs, to_grid
+
+    for lat in (85.0, -80.5):
+        with pytest.raises(GridError, match="UTM range") as caught:
+            utm_crs_for(lat=lat, lon=0.0)
+        # every grid the message suggests is one the conversion accepts, and it works there
+        for crs in re.findall(r'"(\+proj=[^"]+)"', str(caught.value)):
+            projected_crs(crs)
+            if ("+south" in crs) == (lat < 0):
+                e, n = to_grid(crs, lat=lat, lon=0.0)
+                assert np.isfinite(e) and np.isfinite(n)
 
 
 @pytest.mark.parametrize(

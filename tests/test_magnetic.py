@@ -11,6 +11,7 @@ from hypothesis import strategies as st
 
 from geo.errors import InputError
 from geo.magnetic import declination_at, field_at
+from geo.models import load_model
 
 
 @pytest.mark.parametrize(
@@ -156,8 +157,6 @@ def test_points_computed_before_give_the_same_field(model):
     # field_at keeps the components of points it has computed (an editor evaluates the same
     # stations on every keystroke); a batch mixing such points with new ones, in another
     # order, must give what the synthesis gives for every point afresh.
-    import geo.magnetic as gm
-    from geo.models import load_model
     from geo.synthesis import synthesize
 
     rng = np.random.default_rng(7)
@@ -177,4 +176,35 @@ def test_points_computed_before_give_the_same_field(model):
         ("down_rate_nT_per_year", ref.down_rate),
     ):
         np.testing.assert_allclose(getattr(got, name), want, rtol=0, atol=1e-9, err_msg=name)
-    assert any(key[0] == model for key in gm._MEMO)  # the points were indeed kept
+    assert len(load_model(model)._cache.get("points", {})) >= 40  # the points were kept
+
+
+def test_a_model_file_that_changes_is_evaluated_afresh(tmp_path, monkeypatch):
+    # The components kept for computed points belong to the loaded model: when an installed
+    # model file changes (another size or time), the field comes from the new file.
+    from geo.models import install_model, shipped_models, shipped_path
+
+    monkeypatch.setenv("LODELINE_DATA", str(tmp_path / "data"))
+    igrf = next(m for m in shipped_models() if m.name == "igrf14")
+    src = tmp_path / "mine.shc"
+    src.write_bytes(shipped_path(igrf).read_bytes())
+    info = install_model(src, name="mine")
+    before = float(field_at(lat=40.0, lon=-80.0, year=1990.0, model="mine").declination_deg)
+    want = float(field_at(lat=40.0, lon=-80.0, year=1990.0, model="igrf14").declination_deg)
+    assert before == want
+    lines = info.path.read_text().splitlines(keepends=True)
+    # halve g(1,1) at every epoch: in an SHC file the row "1 1" holds g(1,1) (h has m < 0)
+    rows = [i for i, line in enumerate(lines) if line.split()[:2] == ["1", "1"]]
+    first = lines[rows[0]].split()
+    lines[rows[0]] = " ".join(first[:2] + [repr(float(v) / 2) for v in first[2:]]) + "\n"
+    info.path.write_text("".join(lines))
+    after = float(field_at(lat=40.0, lon=-80.0, year=1990.0, model="mine").declination_deg)
+    fresh = synthesize_declination(load_model("mine"), 40.0, -80.0, 1990.0)
+    assert after != before and after == pytest.approx(fresh, abs=1e-12)
+
+
+def synthesize_declination(model, lat: float, lon: float, year: float) -> float:
+    from geo.synthesis import synthesize
+
+    res = synthesize(model, lat_deg=lat, lon_deg=lon, height_m=0.0, year=year)
+    return math.degrees(math.atan2(float(res.east), float(res.north)))

@@ -23,6 +23,7 @@ from tui.dialogs.choice import ChoiceDialog
 from tui.dialogs.file_prompt import FileNamePrompt
 from tui.screens.key_guide import KeyGuide
 from tui.widgets.call_table import CallEditor, CallTable
+from tui.widgets.findings import wrap_lines
 from tui.workspace import read_recovery, write_recovery
 
 DOC = """\
@@ -187,6 +188,27 @@ async def test_course_the_schema_refuses_waits_like_a_call_that_does_not_read(do
         assert "does not read" in " ".join(app.desk.results.panels["closure"].lines)
         assert app.desk.results.panels["field"].error is None
         assert app.desk.results.problem_count == 1
+
+
+def test_every_refused_or_unread_course_is_marked_and_counted(doc_path: Path):
+    # Courses 2 and 4 both wrong (one refused by the schema, one that does not read, in
+    # either order): both are marked and counted, course 1 still converts.
+    from tui.results import compute_results
+
+    ws = load_workspace(doc_path)
+    for second, fourth in (
+        ({"call": "", "note": "fence"}, {"call": "", "note": "wall"}),
+        ({"call": "", "note": "fence"}, {"call": "N 95 E 10 chains"}),
+        ({"call": "N 95 E 10 chains"}, {"call": "", "note": "wall"}),
+    ):
+        doc = {**ws.doc, "course": [dict(c) for c in ws.doc["course"]]}
+        doc["course"][1] = second
+        doc["course"][3] = fourth
+        results = compute_results(doc, path=doc_path)
+        assert [row.mark for row in results.rows] == ["", "✗", "", "✗"]
+        assert results.problem_count == 2
+        assert results.rows[0].true.startswith("N 10")
+        assert results.first_bad == 1
 
 
 @sync
@@ -540,3 +562,43 @@ def test_a_file_that_is_not_a_traverse_document_still_refuses_to_open(tmp_path: 
         with pytest.raises(DocumentError) as caught:
             load_workspace(path)
         assert name in str(caught.value)
+
+
+@sync
+async def test_panels_keep_their_height_while_typing_and_give_it_back_after(doc_path: Path):
+    # While a call is typed, a panel whose text gets shorter keeps its height (padded), so
+    # the screen does not jump; leaving the editor gives each panel its text's height.
+    app = LodelineApp(load_workspace(doc_path))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await _settle(pilot)
+        desk = app.desk
+        panel = desk.query_one("#panel-closure")
+        full = panel.size.height
+        await pilot.press("enter")
+        await _retype(pilot, "N 10 E")  # no distance yet: the closure waits (one line)
+        await _settle(pilot)
+        assert "does not read" in panel.text
+        held = panel.size.height
+        assert held >= full  # never shorter while typing (it may have grown on the way)
+        await pilot.press("enter")  # back to the table: the call stays as typed
+        await _settle(pilot)
+        wrapped = wrap_lines(panel.text, panel.content_size.width)
+        assert panel.size.height == len(wrapped) < held  # its own text's height again
+        assert app.workspace.courses[0]["call"] == "N 10 E"
+
+
+def test_a_refused_document_with_toml_dates_keeps_its_recovery(doc_path: Path):
+    # Opened as written, a document's TOML dates (unquoted) become text as in every other
+    # document, so its unsaved changes can be kept in the recovery file.
+    text = DOC.replace("lat = 40.0", "lat = 95.0").replace(
+        '[target]\ndate = "2025-06-01"', "[target]\ndate = 2025-06-01"
+    )
+    assert "date = 2025-06-01" in text
+    doc_path.write_text(text, encoding="utf-8")
+    ws = load_workspace(doc_path)
+    assert ws.doc["target"]["date"] == "2025-06-01"
+    ws.set_setting("place.lat", 40.5)
+    write_recovery(ws)
+    kept = read_recovery(doc_path)
+    assert kept is not None and kept.doc["place"]["lat"] == 40.5
+    assert kept.doc["target"]["date"] == "2025-06-01"

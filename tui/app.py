@@ -39,13 +39,18 @@ from tui.workspace import (
 DOCUMENT_SUFFIXES = (".toml", ".json")
 
 
+#: Not empty once the start-up heap has been frozen out of the collector (once a process).
+_FROZEN: list[bool] = []
+
+
 def load_workspace(path: Path | None) -> Workspace:
     """A workspace on document ``path``: read it if it exists (calls that do not read are
     kept), or a new document to be saved there.
 
     A document the schema refuses (a latitude of 95, a course with a negative distance, a
-    misspelt key) opens as written, so that it can be put right here: the desk marks what is
-    wrong, and saving waits until it is valid. Raises :class:`DocumentError` for a file that
+    misspelt key) opens as written: the desk marks what is wrong and saving waits until it is
+    valid. Settings and courses can be put right here; a key the format does not know has to
+    be removed from the file itself. Raises :class:`DocumentError` for a file that
     is not a traverse document at all (not TOML or JSON, another format_version, no table of
     courses), before any screen opens.
     """
@@ -68,16 +73,14 @@ def load_workspace(path: Path | None) -> Workspace:
 
 
 def _as_written(path: Path) -> dict[str, Any] | None:
-    """The mapping of a TOML or JSON file that has the shape of a traverse document of
-    format_version 1 (tables where the document has tables, a list of course tables), or
-    ``None``."""
-    import json
-    import tomllib
+    """The data of a TOML or JSON file that has the shape of a traverse document of
+    format_version 1 (tables where the document has tables, a list of course tables), with
+    dates as text, or ``None``."""
+    from geo.document import load_mapping, plain_values
 
     try:
-        text = path.read_bytes().decode("utf-8").removeprefix("\ufeff")
-        data = json.loads(text) if path.suffix.lower() == ".json" else tomllib.loads(text)
-    except (OSError, UnicodeDecodeError, ValueError, RecursionError):
+        data = load_mapping(path)
+    except DocumentError:
         return None
     if not isinstance(data, dict) or data.get("format_version") != 1:
         return None
@@ -88,7 +91,7 @@ def _as_written(path: Path) -> dict[str, Any] | None:
     courses = data.get("course", [])
     if not isinstance(courses, list) or not all(isinstance(c, dict) for c in courses):
         return None
-    return data
+    return plain_values(data)
 
 
 _FOUND_KEYS = {
@@ -153,7 +156,9 @@ class LodelineApp(App[int]):
         # Everything alive once the screen is up (Textual, the document, the models) lasts
         # the session: keep it out of the collector's full passes, which otherwise walk it
         # all every few hundred keystrokes and stall one of them by tens of milliseconds.
-        self.call_after_refresh(gc.freeze)
+        if not _FROZEN:
+            _FROZEN.append(True)
+            self.call_after_refresh(gc.freeze)
 
     @property
     def desk(self) -> Desk:
@@ -198,7 +203,7 @@ class LodelineApp(App[int]):
                 write_recovery(ws)
             else:
                 discard_recovery(ws.path)
-        except (OSError, LodelineError) as err:
+        except (OSError, LodelineError, TypeError, ValueError) as err:
             self.notify(f"⚠ cannot keep the recovery file: {err}", severity="warning")
 
     # -- commands ----------------------------------------------------------------------

@@ -160,74 +160,81 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
         results.final = True
         return results
 
-    # A course the schema refuses (an empty call, a negative distance...) is marked and the
-    # courses before it are converted, as for a call that does not read; a refused setting
-    # stops everything.
-    schema_bad: int | None = None
+    def mark(k: int, err: LodelineError) -> None:
+        """Mark document course ``k`` (0-based) with ``err``'s message."""
+        where = f"'{err.field}': " if err.field and err.field != "call" else ""
+        rows[kept[k]] = _replace(
+            rows[kept[k]], mark=MARK_BAD, message=f"{MARK_BAD} {where}{err.message}"
+        )
+
+    # Courses the schema refuses (an empty call, a negative distance...) are marked, every one,
+    # and left out of the check of the rest; a refused setting stops everything.
+    remaining = list(range(len(clean["course"])))  # document courses still in the check
+    refused: list[int] = []
     while True:
         try:
-            doc = document_from_dict(clean, file=file, check=False)
+            checked = document_from_dict(
+                {**clean, "course": [clean["course"][k] for k in remaining]},
+                file=file,
+                check=False,
+            )
         except LodelineError as err:
             results.problem_count += 1
-            if err.course is None or not 1 <= err.course <= len(clean["course"]):
+            if err.course is None or not 1 <= err.course <= len(remaining):
                 if err.field:
                     results.invalid_settings.add(err.field)
                 return fail_all(str(err))
-            row = kept[err.course - 1]
-            where = f"'{err.field}': " if err.field and err.field != "call" else ""
-            rows[row] = _replace(
-                rows[row], mark=MARK_BAD, message=f"{MARK_BAD} {where}{err.message}"
-            )
-            schema_bad = err.course - 1
-            clean = {**clean, "course": clean["course"][:schema_bad]}
+            k = remaining.pop(err.course - 1)
+            mark(k, err)
+            refused.append(k)
             continue
         break
+    # The courses before the first that is refused or does not read are converted (their
+    # stations do not depend on later courses); the closure waits for the others.
+    first_bad = min(refused) if refused else None
+    doc = (
+        checked
+        if first_bad is None
+        else checked.model_copy(update={"course": checked.course[:first_bad]})
+    )
     results.document = doc
     results.crs_hint = _crs_hint(doc)
     from geo.north import convert_document
 
-    usable = doc
     try:
         # the common case: everything reads, and the conversion parses every course itself
-        conv = convert_document(usable, file=file, allow_unknown_declination=True)
-    except LodelineError as first_error:
-        problems = document_problems(doc, file=file)
-        first_bad: int | None = None
+        conv = None if refused else convert_document(doc, file=file, allow_unknown_declination=True)
+        first_error: LodelineError | None = None
+    except LodelineError as err:
+        conv, first_error = None, err
+    if conv is None:
+        problems = document_problems(checked, file=file)
         for err in problems:
             if err.course is not None:
-                row = kept[err.course - 1]
-                where = f"'{err.field}': " if err.field and err.field != "call" else ""
-                rows[row] = _replace(
-                    rows[row], mark=MARK_BAD, message=f"{MARK_BAD} {where}{err.message}"
-                )
-                first_bad = err.course - 1 if first_bad is None else min(first_bad, err.course - 1)
+                k = remaining[err.course - 1]
+                mark(k, err)
+                first_bad = k if first_bad is None else min(first_bad, k)
             elif err.field:
                 results.invalid_settings.add(err.field)
         results.problem_count += len(problems)
         record_problems = [e for e in problems if e.course is None]
         if record_problems:
             return fail_all(str(record_problems[0]))
-        results.first_bad = first_bad
-        if first_bad is not None:
-            usable = doc.model_copy(update={"course": doc.course[:first_bad]})
         try:
             if first_bad is None:
+                assert first_error is not None
                 raise first_error
+            usable = checked.model_copy(update={"course": checked.course[:first_bad]})
             conv = convert_document(usable, file=file, allow_unknown_declination=True)
         except LodelineError as err:
-            if (
-                isinstance(err, DocumentError)
-                and err.course is not None
-                and err.course <= len(kept)
-            ):
-                row = kept[err.course - 1]
-                rows[row] = _replace(rows[row], mark=MARK_BAD, message=f"{MARK_BAD} {err.message}")
+            located = isinstance(err, DocumentError) and err.course is not None
+            if located and 1 <= err.course <= len(remaining):
+                mark(remaining[err.course - 1], err)
             if err.field and err.course is None:
                 results.invalid_settings.add(err.field)
             results.problem_count = max(results.problem_count, 1)
             return fail_all(str(err))
-    if results.first_bad is None:
-        results.first_bad = schema_bad
+    results.first_bad = first_bad
     results.conversion = conv
     for k, c in enumerate(conv.courses):
         row = kept[k]
@@ -351,10 +358,12 @@ def _field_panel(conv: Any) -> PanelText:
     for label, year, model in dates:
         try:
             f = field_at(lat=pob.lat, lon=pob.lon, year=year, height_m=conv.height_m, model=model)
-        except ModelRangeError:
-            lines.append(f"{label}: ⚠ no field model covers this date")
+        except ModelRangeError as err:
             if label.startswith("record") and _unknown_declination(conv):
+                lines.append(f"{label}: ⚠ no field model covers this date")
                 lines.append("  D unknown: state it, add a model or fit it from found corners")
+            else:
+                lines.append(f"{label}: ⚠ {err.message}")
             continue
         except LodelineError as err:
             lines.append(f"{label}: ⚠ {err.message}")

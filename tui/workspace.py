@@ -349,7 +349,8 @@ def write_recovery(workspace: Workspace) -> Path:
         "saved_at": time.time(),
         "document": workspace.doc,
     }
-    write_atomic(target, json.dumps(payload, ensure_ascii=False, indent=1))
+    # default=str: a value JSON has no type for (a date object) is kept as its text
+    write_atomic(target, json.dumps(payload, ensure_ascii=False, indent=1, default=str))
     return target
 
 

@@ -38,8 +38,8 @@ from pyproj import CRS, Proj, Transformer  # noqa: E402
 
 from geo import document as _document  # noqa: E402
 from geo import grid as _grid  # noqa: E402
-from geo import magnetic as _magnetic  # noqa: E402
 from geo.document import load_document  # noqa: E402
+from geo.models import load_model  # noqa: E402
 from geo.north import convert_document  # noqa: E402
 from geo.survey import close_document  # noqa: E402
 
@@ -74,7 +74,8 @@ def make_document(path: Path, courses: int, seed: int = 1925) -> Path:
 
 def _once(path: Path) -> tuple[float, float, float, object]:
     _document._parse_course_cached.cache_clear()
-    _magnetic._MEMO.clear()  # the field at every station is computed afresh, as on opening
+    for name in ("igrf14", "wmm2025"):  # the field at every station computed afresh
+        load_model(name)._cache.pop("points", None)
     t0 = time.perf_counter()
     doc = load_document(path)
     t1 = time.perf_counter()

@@ -26,7 +26,7 @@ from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.reactive import reactive
 from textual.screen import Screen
 from textual.timer import Timer
-from textual.widgets import Footer, Static
+from textual.widgets import Footer, Input, Static
 from textual.worker import get_current_worker
 
 from tui.results import Results, closure_stage, conversion_stage, plain_rows
@@ -113,6 +113,8 @@ class Desk(Screen):
         self.on_applied: Callable[[int, bool], None] | None = None
         #: False until the first document has been computed once (see :meth:`recompute`).
         self._computed_once = False
+        #: True while the desk holds the cycle collector (see :meth:`_collector_waits`).
+        self._holding_collector = False
 
     @property
     def lode(self) -> LodelineApp:
@@ -274,13 +276,23 @@ class Desk(Screen):
         """Hold Python's collector of reference cycles until the screen has been painted:
         what a computation leaves is mostly freed as it goes, the rest can wait a frame, and
         a full collection in the middle of it would delay what the user is waiting for."""
-        collecting = gc.isenabled()
+        collecting = gc.isenabled() or self._holding_collector
         gc.disable()
+        self._holding_collector = collecting
         try:
             yield
         finally:
             if collecting:
-                self.call_after_refresh(gc.enable)
+                # after the paint, or in a second at the latest (a callback after the
+                # refresh can be dropped when a dialog closes first)
+                if not self.call_after_refresh(self._release_collector):
+                    self._release_collector()
+                self.set_timer(1.0, self._release_collector)
+
+    def _release_collector(self) -> None:
+        if self._holding_collector:
+            self._holding_collector = False
+            gc.enable()
 
     # A description of our own: by default Textual writes the repr of every argument (the
     # whole document and its results), which takes most of a second for 5,000 courses.
@@ -472,6 +484,17 @@ class Desk(Screen):
         if event.action == "insert":
             self.open_editor(event.index, "call")
         self._schedule_recovery()
+
+    def on_descendant_blur(self, event) -> None:
+        """Leaving a text field ends its typing: panels take their text's height again."""
+        if not isinstance(event.widget, Input):
+            return
+        if self._timer is not None:  # what was typed last is computed now, not typed
+            self._timer.stop()
+            self.recompute()
+        if self._typing:
+            self._typing = False
+            self.release_heights()
 
     def on_job_form_changed(self, event: JobForm.Changed) -> None:
         self.lode.workspace.set_setting(event.key, event.value, session=event.session)

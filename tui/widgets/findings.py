@@ -58,7 +58,8 @@ def set_text(widget: Static, text: str) -> None:
 def wrap_lines(text: str, width: int) -> list[str]:
     """The lines of plain ``text`` wrapped at word boundaries to ``width`` cells (``width``
     of 0 or less: not wrapped). A wrapped line's continuation keeps the line's indent plus
-    two spaces."""
+    two spaces. Widths are counted in characters, which is cells for the text of the panels
+    (no double-width characters)."""
     out: list[str] = []
     for line in text.split("\n"):
         if width <= 0 or cell_len(line) <= width:
@@ -84,7 +85,7 @@ class SteadyText(Static):
     """
 
     def __init__(self, text: str = "", *, id: str | None = None) -> None:
-        super().__init__("", id=id)
+        super().__init__(text, id=id)
         self._plain = text
         self._painted: str | None = None
         self._rows = 0
@@ -151,6 +152,8 @@ class FindingsPanel(SteadyText):
         the lines explain why, in muted text). ``hold``: keep the panel's height (typing)."""
         key = (tuple(lines), error, idle)
         if key == self._shown:
+            if not hold:
+                self.release()  # the same text, no longer held at a taller height
             return
         self._shown = key
         self.set_class(error is not None, "-error")
