@@ -81,6 +81,11 @@ def doc_path(tmp_path: Path) -> Path:
 
 async def _settle(pilot, seconds: float = 0.08) -> None:
     await pilot.pause(seconds)
+    for _ in range(100):  # a recomputation still waiting for a pause in typing
+        desk = next((s for s in pilot.app.screen_stack if hasattr(s, "recompute_typed")), None)
+        if desk is None or desk._timer is None:
+            break
+        await pilot.pause(0.02)
     await pilot.app.workers.wait_for_complete()
     await pilot.pause()
 

@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import contextlib
 import gc
+import time
 from collections.abc import Callable, Iterator
 from typing import TYPE_CHECKING
 
@@ -39,8 +40,11 @@ from tui.workspace import COURSE_FIELDS, course_call_text
 if TYPE_CHECKING:
     from tui.app import LodelineApp
 
-#: Seconds of quiet typing before the findings are recomputed.
-DEBOUNCE_S = 0.06
+#: Seconds of quiet typing before the findings are recomputed: at least this, and at least
+#: as long as the last recomputation took (so a long document is not recomputed between
+#: every two keystrokes of quick typing), at most DEBOUNCE_MAX_S.
+DEBOUNCE_S = 0.03
+DEBOUNCE_MAX_S = 0.5
 #: Seconds of quiet typing before the sketch is drawn again: while the user types, each
 #: keystroke's frame shows the table and panels, and the sketch follows the pause.
 SKETCH_PAUSE_S = 0.2
@@ -115,6 +119,8 @@ class Desk(Screen):
         self._computed_once = False
         #: True while the desk holds the cycle collector (see :meth:`_collector_waits`).
         self._holding_collector = False
+        #: Seconds the last recomputation after typing took (see :data:`DEBOUNCE_S`).
+        self._last_compute_s = 0.0
 
     @property
     def lode(self) -> LodelineApp:
@@ -209,10 +215,11 @@ class Desk(Screen):
             )
 
     def schedule_recompute(self) -> None:
-        """Recompute once typing pauses for :data:`DEBOUNCE_S`."""
+        """Recompute once typing pauses (see :data:`DEBOUNCE_S`)."""
         if self._timer is not None:
             self._timer.stop()
-        self._timer = self.set_timer(DEBOUNCE_S, self.recompute_typed)
+        pause = min(max(DEBOUNCE_S, self._last_compute_s), DEBOUNCE_MAX_S)
+        self._timer = self.set_timer(pause, self.recompute_typed)
         self.update_docbar()
         self._schedule_recovery()
 
@@ -244,9 +251,12 @@ class Desk(Screen):
         self._computed_once = True
         if wait or len(ws.courses) <= THREAD_ABOVE:
             # both stages, then one redraw: quicker than showing the conversion first
+            started = time.perf_counter()
             with self._collector_waits():
                 results = closure_stage(conversion_stage(ws.doc, path=ws.path))
                 self._apply(results, ws.revision)
+            if typed:  # what typing costs (a first computation also loads models and grids)
+                self._last_compute_s = time.perf_counter() - started
             return
         # start after the next paint, so the screen is drawn before the computation
         if first_time:
