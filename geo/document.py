@@ -62,7 +62,11 @@ Keys beyond the issue that introduced the format, and why:
   angles of a figure run counter-clockwise) or ``"left"`` (counter-clockwise; interior angles of
   a figure run clockwise). The first course needs a ``bearing`` (it may also carry the angle at
   the point of beginning, used only for the angular misclosure). Unadjusted azimuths follow
-  ``az_i = az_(i-1) + 180 + angle`` (right) or ``- angle`` (left).
+  ``az_i = az_(i-1) + 180 + angle`` (right) or ``- angle`` (left). A ``call`` may be written
+  the same way, ``"angle 95 30, 20 perches to a stake"`` (the angle, a comma, the distance and
+  any note), which is how the commands and the terminal application show a course given by
+  ``angle`` and ``distance``; a course whose call gives a bearing may carry ``angle`` too (the
+  angle at its starting station, for the angular misclosure).
 
 Every error is a :class:`geo.errors.DocumentError` with the file, the 1-based course number and
 the key (``record.date``, ``found.easting`` ...), printed as one line.
@@ -74,6 +78,7 @@ import datetime as _dt
 import json
 import math
 import os
+import re
 import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass
@@ -302,8 +307,9 @@ class Course(_Table):
         parts = {"bearing": self.bearing, "angle": self.angle, "distance": self.distance}
         parts["unit"] = self.unit
         if self.call is not None:
+            # a call may carry the angle at its starting station (see course.angle)
             for key, value in parts.items():
-                if value is not None:
+                if value is not None and key != "angle":
                     raise _fail(key, f"give either 'call' or '{key}' (with the other parts)")
             if not self.call.strip():
                 raise _fail("call", "is empty")
@@ -659,6 +665,24 @@ def course_call_text(course: Course, default_unit: str | None = None) -> str:
     return " ".join(p for p in parts if p)
 
 
+_ANGLE_CALL = re.compile(r"\s*angle\b\s*(?P<angle>[^,]*?)\s*(?:,\s*(?P<rest>.*))?$", re.I | re.S)
+
+
+def _angle_call(text: str) -> tuple[str, str] | None:
+    """``(angle, rest)`` of a call written as an angle turned and a distance ("angle 98 16,
+    1547 varas to a mesquite", the form the courses given by parts are written in), or
+    ``None`` for any other call. Raises DocumentError for an angle call without its comma."""
+    match = _ANGLE_CALL.match(text)
+    if match is None:
+        return None
+    if not match.group("angle") or match.group("rest") is None:
+        raise DocumentError(
+            "an angle call is the angle, a comma, then the distance: 'angle 98 16, 1547 varas'",
+            field="call",
+        )
+    return match.group("angle"), match.group("rest")
+
+
 def _plain(value: float | str | None) -> str:
     if value is None:
         return ""
@@ -819,10 +843,11 @@ def _parse_course(
     document on every keystroke, and only the edited course is new). ``ctx_items``: the
     items of the document's unit context (:func:`_unit_context`)."""
     try:
+        turned = course.bearing is None and (course.call is None or _angle_call(course.call))
         fields = _parse_course_cached(
             course,
             index == 1,
-            previous_azimuth if course.bearing is None and course.call is None else None,
+            previous_azimuth if turned else None,
             doc.record.angles,
             doc.record.distance_unit,
             ctx_items,
@@ -849,7 +874,31 @@ def _parse_course_cached(
     where: dict[str, Any] = {}
     call_note: str | None = None
     angle_deg: float | None = None
-    if course.call is not None:
+    angle_text: str | float | None = None
+    angle_field = "angle"
+    angle_call = _angle_call(course.call) if course.call is not None else None
+    if angle_call is not None:
+        # "angle 98 16, 1547 varas to a mesquite": the angle, a comma, the distance [note]
+        angle_text, rest = angle_call
+        angle_field = "call"
+        bearing = None
+        if course.angle is not None:
+            raise DocumentError(
+                "the call turns an angle already: give the angle once", field="angle"
+            )
+        try:
+            call = parse_call(rest, **ctx)
+        except LodelineError as err:
+            raise _locate(err, None, None, "call") from None
+        if call.bearing is not None:
+            raise DocumentError(
+                "an angle call gives an angle and a distance, not a bearing too", field="call"
+            )
+        if call.distance is None:
+            raise DocumentError("gives no distance after the angle", field="call", **where)
+        distance = call.distance
+        call_note = call.note or None
+    elif course.call is not None:
         try:
             call = parse_call(course.call, **ctx)
         except LodelineError as err:
@@ -860,6 +909,7 @@ def _parse_course_cached(
             raise DocumentError("gives no distance", field="call", **where)
         bearing, distance = call.bearing, call.distance
         call_note = call.note or None
+        angle_text = course.angle  # with a bearing: the angle at the station, for the closure
     else:
         bearing = None
         if course.bearing is not None:
@@ -867,26 +917,27 @@ def _parse_course_cached(
                 bearing = parse_bearing(course.bearing)
             except LodelineError as err:
                 raise _locate(err, None, None, "bearing") from None
-        if course.angle is not None:
-            try:
-                angle_deg, angle_precision = _parse_angle(course.angle)
-            except LodelineError as err:
-                raise _locate(err, None, None, "angle") from None
-            if angles is None:
-                raise DocumentError(
-                    "courses give angles: say in record.angles whether they were turned to the "
-                    "right (clockwise) or to the left",
-                    field="record.angles",
-                )
-        if bearing is None and previous_azimuth is None:
-            raise DocumentError(
-                "the first course needs a bearing (angles are turned from it)"
-                if first
-                else "the angle cannot be turned: the previous course has no azimuth",
-                field="bearing" if first else "angle",
-                **where,
-            )
+        angle_text = course.angle
         distance = _course_distance(course, ctx, None, None)
+    if angle_text is not None:
+        try:
+            angle_deg, angle_precision = _parse_angle(angle_text)
+        except LodelineError as err:
+            raise _locate(err, None, None, angle_field) from None
+        if angles is None:
+            raise DocumentError(
+                "courses give angles: say in record.angles whether they were turned to the "
+                "right (clockwise) or to the left",
+                field="record.angles",
+            )
+    if bearing is None and previous_azimuth is None:
+        raise DocumentError(
+            "the first course needs a bearing (angles are turned from it)"
+            if first
+            else "the angle cannot be turned: the previous course has no azimuth",
+            field="bearing" if first and angle_field == "angle" else angle_field,
+            **where,
+        )
     if bearing is not None:
         azimuth, precision, bearing_text = bearing.azimuth_deg, bearing.precision_deg, bearing.text
     else:

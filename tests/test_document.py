@@ -485,3 +485,62 @@ _JSONISH = st.recursive(
 def test_fuzz_random_structures_only_raise_document_error(data):
     with contextlib.suppress(DocumentError):
         document_from_dict(data, file="fuzz.json")
+
+
+def test_a_course_given_by_parts_reads_the_same_written_as_its_call():
+    # The commands and the desk show a course given by angle and distance as "angle 98 16,
+    # 1547 vara"; typed back as a call it must give the same azimuth, length and precision
+    # (the demo's field notes turn interior angles to the left; demo data, invented). The
+    # first course keeps its angle at the point of beginning beside its call.
+    from geo.document import course_call_text, parse_courses
+
+    demo = Path(__file__).parents[1] / "demo_traverses" / "piedra_lisa_survey_1887.toml"
+    doc = load_document(demo)
+    data = document_to_dict(doc)
+    as_calls = []
+    for course, raw in zip(doc.course, data["course"], strict=True):
+        rewritten = {"call": course_call_text(course, doc.record.distance_unit)}
+        if course.bearing is not None and course.angle is not None:
+            rewritten["angle"] = raw["angle"]
+        as_calls.append(rewritten)
+    typed = document_from_dict({**data, "course": as_calls})
+    for parts, call in zip(parse_courses(doc), parse_courses(typed), strict=True):
+        assert call.azimuth_deg == parts.azimuth_deg
+        assert call.length_m == parts.length_m
+        assert call.precision_deg == parts.precision_deg
+        assert call.angle_deg == parts.angle_deg
+    assert as_calls[1]["call"].startswith("angle ")
+
+
+@pytest.mark.parametrize(
+    "call, extra, words",
+    [
+        ("angle 98 16", {}, "the angle, a comma, then the distance"),
+        ("angle, 40 varas", {}, "the angle, a comma, then the distance"),
+        ("angle 98 16, N 10 E 40 varas", {}, "not a bearing too"),
+        ("angle 98 16, 40 varas", {"angle": "90"}, "give the angle once"),
+        ("angle N 10 E, 40 varas", {}, "is a bearing"),
+    ],
+)
+def test_angle_calls_that_cannot_be_read_name_the_course(call, extra, words):
+    from geo.document import check_document
+
+    doc = document_from_dict(
+        {
+            "format_version": 1,
+            "place": {"lat": 30.0, "lon": -98.0},
+            "record": {
+                "reference": "true",
+                "distance_unit": "vara",
+                "foot": "us",
+                "vara_inches": 33.333,
+                "angles": "left",
+            },
+            "course": [{"call": "N 10 E 100 varas"}, {"call": call, **extra}],
+        },
+        file="notes.toml",
+        check=False,
+    )
+    with pytest.raises(DocumentError) as caught:
+        check_document(doc, file="notes.toml")
+    assert "course 2" in str(caught.value) and words in str(caught.value)

@@ -149,3 +149,24 @@ def test_call_text_of_parts_reads_as_in_the_commands():
         "angle 98 16, 1547 vara"
     )
     assert course_call_text({"bearing": "N 45 E", "distance": "x"}) == "N 45 E x"
+
+
+def test_editing_the_call_of_a_course_given_by_parts_keeps_its_meaning():
+    # The desk shows a course given by angle and distance as its call ("angle 98 16, 1547
+    # vara"); writing that call replaces the parts and the course reads the same. The first
+    # course (bearing, distance and the angle at the point of beginning) keeps its angle.
+    from geo.document import document_from_dict, parse_courses
+    from tui.app import load_workspace
+    from tui.workspace import course_call_text
+
+    demo = Path(__file__).parents[1] / "demo_traverses" / "piedra_lisa_survey_1887.toml"
+    ws = load_workspace(demo)
+    before = parse_courses(document_from_dict(ws.doc))
+    for index in (0, 1):
+        ws.set_course_field(index, "call", course_call_text(ws.courses[index]))
+    first, second = ws.courses[0], ws.courses[1]
+    assert "bearing" not in first and "distance" not in first and "angle" in first
+    assert second["call"].startswith("angle ") and "angle" not in second
+    after = parse_courses(document_from_dict(ws.doc))
+    for a, b in zip(before, after, strict=True):
+        assert (a.azimuth_deg, a.length_m, a.angle_deg) == (b.azimuth_deg, b.length_m, b.angle_deg)

@@ -221,12 +221,17 @@ class Workspace:
         """Set key ``name`` of course ``index`` (0-based); ``None`` or ``""`` removes it,
         except the call, which is kept even when empty.
 
-        Writing ``call`` replaces a course given as ``bearing``/``distance``/``unit``.
+        Writing ``call`` replaces a course given by parts (``bearing`` or ``angle``,
+        ``distance``, ``unit``): the call as the desk shows it reads the same ("angle 98 16,
+        1547 vara").
         """
         courses = self.courses
         course = dict(courses[index])
         if name == "call":
-            for key in ("bearing", "distance", "unit"):
+            # an angle that gives the direction is in the call as shown; one measured at a
+            # course with a bearing (for the angular misclosure) stays beside the call
+            drop = ["bearing", "distance", "unit"] + ([] if "bearing" in course else ["angle"])
+            for key in drop:
                 course.pop(key, None)
             if course.get("call") == value:
                 return
