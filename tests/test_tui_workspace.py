@@ -162,8 +162,10 @@ def test_editing_the_call_of_a_course_given_by_parts_keeps_its_meaning():
     demo = Path(__file__).parents[1] / "demo_traverses" / "piedra_lisa_survey_1887.toml"
     ws = load_workspace(demo)
     before = parse_courses(document_from_dict(ws.doc))
+    shown = [course_call_text(ws.courses[i], "vara") for i in (0, 1)]
+    assert shown[1] == "angle 98 16, 1547 vara"  # as the commands write it
     for index in (0, 1):
-        ws.set_course_field(index, "call", course_call_text(ws.courses[index]))
+        ws.set_course_field(index, "call", shown[index])
     first, second = ws.courses[0], ws.courses[1]
     assert "bearing" not in first and "distance" not in first and "angle" in first
     assert second["call"].startswith("angle ") and "angle" not in second

@@ -24,7 +24,7 @@ import numpy as np
 from geo.errors import DocumentError, LodelineError, ModelRangeError
 from tui.widgets.call_table import CallRow
 from tui.widgets.sketch import NorthMark, SketchFigure
-from tui.workspace import course_call_text, is_blank_course
+from tui.workspace import course_call_text, distance_unit_of, is_blank_course
 
 MARK_BAD = "✗"
 MARK_CAUTION = "!"
@@ -92,20 +92,21 @@ def _deg(value: float | None, precision: float = 1.0 / 60.0) -> str:
     return format_declination(value, precision=precision)
 
 
-#: Plain row and blank flag of each course mapping seen last, by identity: the workspace
-#: shares untouched courses between edits, so a keystroke builds one new row, not all.
-_PLAIN_CACHE: dict[int, tuple[Mapping[str, Any], CallRow, bool]] = {}
+#: Plain row and blank flag of each course mapping seen last, by identity (and the
+#: document's distance unit): the workspace shares untouched courses between edits, so a
+#: keystroke builds one new row, not all.
+_PLAIN_CACHE: dict[int, tuple[Mapping[str, Any], str | None, CallRow, bool]] = {}
 
 
-def _plain_row(course: Mapping[str, Any]) -> tuple[CallRow, bool]:
+def _plain_row(course: Mapping[str, Any], unit: str | None) -> tuple[CallRow, bool]:
     """The row of ``course`` before any computation, and whether the course is blank."""
     hit = _PLAIN_CACHE.get(id(course))
-    if hit is not None and hit[0] is course:  # the entry holds the mapping: its id is its own
-        return hit[1], hit[2]
+    if hit is not None and hit[0] is course and hit[1] == unit:  # the entry holds the mapping
+        return hit[2], hit[3]
     blank = is_blank_course(course)
     row = CallRow(
         MARK_BLANK if blank else "",
-        course_call_text(course),
+        course_call_text(course, unit),
         "",
         "",
         "",
@@ -114,14 +115,14 @@ def _plain_row(course: Mapping[str, Any]) -> tuple[CallRow, bool]:
         str(course.get("back", "")),
         "empty: type a call (blank courses are not saved)" if blank else "",
     )
-    _PLAIN_CACHE[id(course)] = (course, row, blank)
+    _PLAIN_CACHE[id(course)] = (course, unit, row, blank)
     return row, blank
 
 
-def _plain(courses: list[Mapping[str, Any]]) -> tuple[list[CallRow], list[bool]]:
+def _plain(courses: list[Mapping[str, Any]], unit: str | None) -> tuple[list[CallRow], list[bool]]:
     """Rows and blank flags of ``courses``; the cache keeps only these courses' entries once
     it holds more than a few documents' worth."""
-    pairs = [_plain_row(c) for c in courses]
+    pairs = [_plain_row(c, unit) for c in courses]
     if len(_PLAIN_CACHE) > 4 * len(courses) + 1000:
         keep = {id(c) for c in courses}
         for key in [k for k in _PLAIN_CACHE if k not in keep]:
@@ -131,7 +132,7 @@ def _plain(courses: list[Mapping[str, Any]]) -> tuple[list[CallRow], list[bool]]
 
 def plain_rows(data: Mapping[str, Any]) -> list[CallRow]:
     """The rows of the table before any computation: calls as typed, blank rows marked."""
-    return _plain(list(data.get("course") or []))[0]
+    return _plain(list(data.get("course") or []), distance_unit_of(data))[0]
 
 
 def compute_results(data: Mapping[str, Any], *, path: Path | None = None) -> Results:
@@ -147,7 +148,7 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
 
     file = path.name if path else None
     raw = list(data.get("course") or [])
-    rows, blanks = _plain(raw)
+    rows, blanks = _plain(raw, distance_unit_of(data))
     kept = [i for i, blank in enumerate(blanks) if not blank]  # course k -> row kept[k]
     clean = {**data, "course": [raw[i] for i in kept]}
     results = Results(rows=rows, panels={})

@@ -96,10 +96,11 @@ def with_setting(doc: Mapping[str, Any], key: str, value: Any) -> Document:
     return out
 
 
-def course_call_text(course: Mapping[str, Any]) -> str:
+def course_call_text(course: Mapping[str, Any], default_unit: str | None = None) -> str:
     """The call of a course as the user wrote it: ``call``, or its parts joined as
     :func:`geo.document.course_call_text` joins them (so "angle 98 16, 1547 vara" reads the
-    same here as in every command); parts that do not validate are joined as typed."""
+    same here as in every command; ``default_unit``: the document's record.distance_unit);
+    parts that do not validate are joined as typed."""
     if "call" in course:
         return str(course["call"])
     from pydantic import ValidationError
@@ -108,10 +109,16 @@ def course_call_text(course: Mapping[str, Any]) -> str:
     from geo.document import course_call_text as document_call_text
 
     try:
-        return document_call_text(Course.model_validate(dict(course)))
+        return document_call_text(Course.model_validate(dict(course)), default_unit)
     except ValidationError:
         keys = ("bearing", "angle", "distance", "unit")
         return " ".join(str(course[k]) for k in keys if k in course)
+
+
+def distance_unit_of(doc: Mapping[str, Any]) -> str | None:
+    """The document's record.distance_unit (the unit of a distance given without one)."""
+    unit = get_setting(doc, "record.distance_unit")
+    return unit if isinstance(unit, str) else None
 
 
 def is_blank_course(course: Mapping[str, Any]) -> bool:

@@ -35,7 +35,7 @@ from tui.widgets.call_table import CallEditor, CallTable
 from tui.widgets.findings import FindingsPanel, SteadyText, set_text
 from tui.widgets.job_form import JobForm
 from tui.widgets.sketch import TraverseSketch
-from tui.workspace import COURSE_FIELDS, course_call_text
+from tui.workspace import COURSE_FIELDS, course_call_text, distance_unit_of
 
 if TYPE_CHECKING:
     from tui.app import LodelineApp
@@ -410,10 +410,9 @@ class Desk(Screen):
             panel.release()
         self.query_one("#editor-message", SteadyText).release()
 
-    @staticmethod
-    def _field_text(course: dict, field: str) -> str:
+    def _field_text(self, course: dict, field: str) -> str:
         if field == "call":
-            return course_call_text(course)
+            return course_call_text(course, distance_unit_of(self.lode.workspace.doc))
         value = course.get(field)
         if field == "found" and isinstance(value, dict):
             return ", ".join(f"{k}={v}" for k, v in value.items())
