@@ -164,7 +164,7 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
     def mark(k: int, err: LodelineError) -> None:
         """Mark document course ``k`` (0-based) with ``err``'s message."""
         where = f"'{err.field}': " if err.field and err.field != "call" else ""
-        rows[kept[k]] = _replace(
+        rows[kept[k]] = replace(
             rows[kept[k]], mark=MARK_BAD, message=f"{MARK_BAD} {where}{err.message}"
         )
 
@@ -282,10 +282,6 @@ def closure_stage(results: Results) -> Results:
         panels["attraction"] = _panel(lambda: _attraction_panel(closure))
     panels["fit"] = _panel(lambda: _fit_panel(conv))
     return replace(results, panels=panels, final=True)
-
-
-def _replace(row: CallRow, **changes: Any) -> CallRow:
-    return replace(row, **changes)
 
 
 def _crs_hint(doc: Any) -> str:

@@ -445,11 +445,8 @@ class Desk(Screen):
         self.schedule_recompute()
 
     def on_call_editor_finished(self, _event: CallEditor.Finished) -> None:
-        if self._timer is not None:
-            self.recompute()
+        self._end_typing()
         self.flush_sketch()  # the call is done: the sketch need not wait
-        self._typing = False
-        self.release_heights()
         table = self.query_one(CallTable)
         table.focus()
 
@@ -495,10 +492,14 @@ class Desk(Screen):
         self._schedule_recovery()
 
     def on_descendant_blur(self, event) -> None:
-        """Leaving a text field ends its typing: panels take their text's height again."""
-        if not isinstance(event.widget, Input):
-            return
-        if self._timer is not None:  # what was typed last is computed now, not typed
+        """Leaving a text field ends its typing."""
+        if isinstance(event.widget, Input):
+            self._end_typing()
+
+    def _end_typing(self) -> None:
+        """Typing has stopped: what was typed last is computed now (not as typed), and the
+        panels take their text's height again."""
+        if self._timer is not None:
             self._timer.stop()
             self.recompute()
         if self._typing:
