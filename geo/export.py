@@ -18,17 +18,18 @@ Public API
     anything) unless ``force``.
 
 Positions
-    Each course runs from its (adjusted) starting station along its **grid** azimuth for its
-    grid length (ground length x combined factor at the course's starting station), as in
-    :mod:`geo.north`; a closed traverse is adjusted in the grid plane by the compass (default)
-    or transit rule (:func:`geo.traverse.adjust`), an open one is marched as recorded (the
-    default ``"none"``; an open traverse cannot be adjusted). Angles balanced by
-    :func:`geo.survey.record_figure` turn the grid azimuths by the same amount. Easting and
-    northing are in the CRS's unit; latitude/longitude come from the inverse projection
-    (:func:`geo.grid.to_geographic`). With ``adjust="none"`` the stations are exactly those of
-    the conversion. Intermediate points (``every``) lie on their course at every multiple of
-    the spacing (ground distance from the course's start) short of the course's end, placed
-    proportionally along the adjusted course.
+    The stations are those of the conversion (:mod:`geo.north`: each course marched on the
+    grid as the line it stands for) and, adjusted, those of the closure
+    (:func:`geo.survey.adjusted_grid_stations`: the one plane figure adjusted once, in grid
+    north, and scaled back to the grid by the figure's mean combined factor), so the
+    exported gap and the closure's misclosure are one number. With ``adjust="none"`` easting,
+    northing, latitude and longitude are exactly the conversion's stations. Easting and
+    northing are in the CRS's unit, named beside them (``grid_unit``); latitude/longitude
+    of adjusted stations come from the inverse projection (:func:`geo.grid.to_geographic`).
+    Intermediate points (``every``) lie on their course's marched path
+    (:attr:`geo.north.CourseConversion.path`) at every multiple of the spacing (ground
+    distance from the course's start) short of the course's end, moved by the adjustment of
+    the course's ends in proportion to the distance along it.
 
 GeoJSON (RFC 7946)
     A FeatureCollection of: the figure (a Polygon for a closed traverse, exterior ring
@@ -48,8 +49,10 @@ GeoJSON (RFC 7946)
 
 CSV (RFC 4180, UTF-8, CRLF line ends, a header row)
     ``OUT.csv``: one row per station and intermediate point, columns ``index, kind, course,
-    along_m, easting, northing, latitude, longitude``; ``kind`` is ``station`` (``index`` the
-    station number, ``course`` the course it ends, empty for the point of beginning) or
+    along_m, easting_U, northing_U, latitude, longitude`` where ``U`` names the CRS's unit
+    (``m``, ``ft``, ``us_ft``: :func:`geo.grid.grid_unit_name`); ``kind`` is ``station``
+    (``index`` the station number, ``course`` the course it ends, empty for the point of
+    beginning) or
     ``point`` (``index`` numbers the points from 1, ``course`` the course it lies on,
     ``along_m`` its ground distance from the course's start). ``OUT-courses.csv``: one row per
     course with every bearing and length (see :data:`COURSE_COLUMNS`).
@@ -83,6 +86,7 @@ __all__ = [
     "geojson_collection",
     "geojson_text",
     "points_csv",
+    "point_columns",
     "positions",
     "write_exports",
 ]
@@ -150,6 +154,7 @@ class Positions:
 
     crs: str
     grid_unit_m: float
+    grid_unit: str
     closed: bool
     adjustment: str
     stations: tuple[Position, ...]
@@ -163,63 +168,27 @@ def positions(conv: DocumentConversion, *, adjust: str | None = None) -> Positio
     """Station and intermediate-point positions of a converted document.
 
     ``adjust``: ``"compass"``, ``"transit"`` or ``"none"`` (default compass for a closed
-    traverse, none for an open one). Raises DocumentError for a document without courses,
-    TraverseError for an adjustment asked of an open traverse, GridError from the projection.
+    traverse, none for an open one). The stations are those of the closure
+    (:func:`geo.survey.adjusted_grid_stations`). Raises DocumentError for a document without
+    courses, TraverseError for an adjustment asked of an open traverse, GridError from the
+    projection.
     """
     from geo import grid as _grid
-    from geo import traverse as tv
-    from geo.angles import normalize_azimuth
-    from geo.survey import record_figure, resolve_adjustment
+    from geo.survey import adjusted_grid_stations
+    from geo.traverse import azimuth_of
 
     if not conv.courses:
         from geo.errors import DocumentError
 
         raise DocumentError("has no courses: nothing to export", file=conv.file, field="course")
-    method = resolve_adjustment(conv, adjust)
-    figure = record_figure(conv)
-    balance = np.asarray(figure.azimuth_deg) - np.asarray(figure.recorded_azimuth_deg)
-    grid_az = np.asarray(
-        normalize_azimuth(np.array([c.azimuth.grid for c in conv.courses]) + balance), dtype=float
-    )
-    grid_len = np.array([c.grid_length_m for c in conv.courses], dtype=float)
-    closed = bool(conv.document.closed)
-    try:
-        if closed:
-            adj = tv.adjust(grid_az, grid_len, method=method)
-            north_m, east_m = adj.north_m, adj.east_m
-            out_az, out_len = adj.azimuth_deg, adj.length_m
-            mis: float | None = adj.closure.misclosure_m
-            if method == "none":
-                out_az, out_len = grid_az, grid_len
-        else:
-            st = tv.march(grid_az, grid_len)
-            north_m, east_m = st.north_m, st.east_m
-            out_az, out_len, mis = grid_az, grid_len, None
-    except LodelineError as err:
-        raise err.located(file=conv.file) from None
+    method, e_st, n_st, plane = adjusted_grid_stations(conv, adjust)
     unit = conv.grid_unit_m
-    p0 = conv.stations[0]
-    e_st = p0.easting + east_m / unit
-    n_st = p0.northing + north_m / unit
-
-    # Intermediate points: fractions along each adjusted course.
-    pts: list[tuple[int, float, float, float]] = []  # course, along_m, easting, northing
-    for i, c in enumerate(conv.courses):
-        spacing = c.recorded.every_m
-        if not spacing:
-            continue
-        count = math.ceil(c.length_m / spacing - 1e-9) - 1
-        for k in range(1, count + 1):
-            along = k * spacing
-            f = along / c.length_m
-            pts.append(
-                (
-                    c.index,
-                    along,
-                    e_st[i] + f * (e_st[i + 1] - e_st[i]),
-                    n_st[i] + f * (n_st[i + 1] - n_st[i]),
-                )
-            )
+    d_e, d_n = np.diff(e_st) * unit, np.diff(n_st) * unit
+    out_az, out_len = azimuth_of(d_n, d_e), np.hypot(d_n, d_e)
+    mis = None
+    if conv.document.closed:
+        mis = math.hypot(plane.north_m[-1], plane.east_m[-1]) * plane.factor
+    pts = _intermediate(conv, e_st, n_st)
     all_e = np.concatenate([e_st, [p[2] for p in pts]])
     all_n = np.concatenate([n_st, [p[3] for p in pts]])
     try:
@@ -228,41 +197,25 @@ def positions(conv: DocumentConversion, *, adjust: str | None = None) -> Positio
         raise err.located(file=conv.file, field="grid.crs") from None
     lat = np.atleast_1d(np.asarray(lat, dtype=float))
     lon = np.atleast_1d(np.asarray(lon, dtype=float))
-    lat[0], lon[0] = p0.lat, p0.lon
     n = len(conv.courses)
-    if method == "none":  # exactly the conversion's stations
-        for s in conv.stations:
-            lat[s.index], lon[s.index] = s.lat, s.lon
+    stations_ll = conv.stations if method == "none" else conv.stations[:1]
+    for s in stations_ll:  # exactly the conversion's stations
+        lat[s.index], lon[s.index] = s.lat, s.lon
     stations = tuple(
-        Position(
-            "station",
-            i,
-            None if i == 0 else i,
-            None,
-            float(e_st[i]),
-            float(n_st[i]),
-            float(lat[i]),
-            float(lon[i]),
-        )
+        Position("station", i, None if i == 0 else i, None, float(e_st[i]), float(n_st[i]),
+                 float(lat[i]), float(lon[i]))
         for i in range(n + 1)
-    )
+    )  # fmt: skip
     points = tuple(
-        Position(
-            "point",
-            k + 1,
-            p[0],
-            float(p[1]),
-            float(p[2]),
-            float(p[3]),
-            float(lat[n + 1 + k]),
-            float(lon[n + 1 + k]),
-        )
+        Position("point", k + 1, p[0], float(p[1]), float(p[2]), float(p[3]),
+                 float(lat[n + 1 + k]), float(lon[n + 1 + k]))
         for k, p in enumerate(pts)
-    )
+    )  # fmt: skip
     return Positions(
         crs=conv.crs,
         grid_unit_m=unit,
-        closed=closed,
+        grid_unit=_grid.grid_unit_name(conv.crs),
+        closed=bool(conv.document.closed),
         adjustment=method,
         stations=stations,
         points=points,
@@ -270,6 +223,34 @@ def positions(conv: DocumentConversion, *, adjust: str | None = None) -> Positio
         grid_length_m=tuple(float(x) for x in out_len),
         grid_misclosure_m=mis,
     )
+
+
+def _intermediate(
+    conv: DocumentConversion, e_st: np.ndarray, n_st: np.ndarray
+) -> list[tuple[int, float, float, float]]:
+    """Intermediate points ``(course, along_m, easting, northing)``: on each course's marched
+    path (:attr:`geo.north.CourseConversion.path`) at every multiple of its spacing, moved by
+    the adjustment's correction in proportion to the distance along the course."""
+    pts: list[tuple[int, float, float, float]] = []
+    for i, c in enumerate(conv.courses):
+        spacing = c.recorded.every_m
+        if not spacing:
+            continue
+        count = math.ceil(c.length_m / spacing - 1e-9) - 1
+        if count < 1:
+            continue
+        along = spacing * np.arange(1, count + 1)
+        pe, pn = c.path_at(along)
+        f = along / c.length_m
+        s0, s1 = c.start, c.end
+        shift_e = (e_st[i] - s0.easting) + f * ((e_st[i + 1] - s1.easting) - (e_st[i] - s0.easting))
+        shift_n = (n_st[i] - s0.northing) + f * (
+            (n_st[i + 1] - s1.northing) - (n_st[i] - s0.northing)
+        )
+        for k in range(count):
+            pts.append((c.index, float(along[k]), float(pe[k] + shift_e[k]),
+                        float(pn[k] + shift_n[k])))  # fmt: skip
+    return pts
 
 
 # --------------------------------------------------------------------------------------------
@@ -372,6 +353,7 @@ def geojson_collection(
                     "along_m": p.along_m,
                     "easting": p.easting,
                     "northing": p.northing,
+                    "grid_unit": pos.grid_unit,
                     "note": None
                     if p.kind != "station" or p.index == 0
                     else conv.courses[p.index - 1].recorded.call_note,
@@ -390,6 +372,8 @@ def geojson_collection(
         "declination_target_deg": first.declination_target_deg,
         "convergence_deg": first.convergence_deg,
         "crs": conv.crs,
+        "grid_unit": pos.grid_unit,
+        "grid_unit_m": pos.grid_unit_m,
         "adjustment": pos.adjustment,
         "misclosure_m": clo.misclosure_m,
         "misclosure_azimuth_deg": clo.misclosure_azimuth_deg,
@@ -425,13 +409,19 @@ def _csv(header: tuple[str, ...], rows: list[list[Any]]) -> str:
     return buffer.getvalue()
 
 
+def point_columns(grid_unit: str) -> tuple[str, ...]:
+    """The points table's columns: :data:`POINT_COLUMNS` with the grid coordinates named by
+    their unit (``easting_m``, ``easting_us_ft``...; see :func:`geo.grid.grid_unit_name`)."""
+    return tuple(f"{c}_{grid_unit}" if c in ("easting", "northing") else c for c in POINT_COLUMNS)
+
+
 def points_csv(pos: Positions) -> str:
-    """One row per station and intermediate point (columns :data:`POINT_COLUMNS`)."""
+    """One row per station and intermediate point (columns :func:`point_columns`)."""
     rows = [
         [p.index, p.kind, p.course, p.along_m, p.easting, p.northing, p.lat, p.lon]
         for p in (*pos.stations, *pos.points)
     ]
-    return _csv(POINT_COLUMNS, rows)
+    return _csv(point_columns(pos.grid_unit), rows)
 
 
 def courses_csv(conv: DocumentConversion, pos: Positions) -> str:

@@ -199,6 +199,20 @@ def grid_unit_m(crs: str | CRS) -> float:
     return _grid(crs).unit_m
 
 
+#: Short names of the usual grid units, by metres per unit (EPSG's definitions).
+_UNIT_NAMES = {1.0: "m", 0.3048: "ft", 1200.0 / 3937.0: "us_ft"}
+
+
+def grid_unit_name(crs: str | CRS) -> str:
+    """A short name of the CRS's linear unit: ``"m"``, ``"ft"`` (international foot),
+    ``"us_ft"`` (US survey foot), else the unit's own name as PROJ gives it."""
+    grid = _grid(crs)
+    for unit_m, name in _UNIT_NAMES.items():
+        if abs(grid.unit_m - unit_m) <= 1e-12 * unit_m:
+            return name
+    return str(grid.crs.axis_info[0].unit_name).replace(" ", "_")
+
+
 def utm_crs_for(*, lat: float, lon: float) -> str:
     """Return the WGS84 UTM zone CRS of a place: "EPSG:326zz" (north) or "EPSG:327zz" (south).
 

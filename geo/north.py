@@ -53,6 +53,7 @@ from geo.errors import DocumentError, LodelineError, ModelRangeError
 
 __all__ = [
     "CourseConversion",
+    "CoursePath",
     "DocumentConversion",
     "References",
     "Station",
@@ -105,6 +106,27 @@ class References:
             f"grid{suffix}": self.grid,
             f"magnetic_target{suffix}": self.magnetic_target,
         }
+
+
+@dataclass(frozen=True)
+class CoursePath:
+    """The line one course stands for, as marched on the grid (see the module docstring).
+
+    ``along_m``: ground distances from the course's start, metres, 0 first and the course's
+    length last; ``easting``, ``northing``: the marched grid position there, in the CRS's unit.
+    Between nodes the line is taken as straight on the grid (the nodes are close enough that
+    halving their spacing moves the course's end by less than a millimetre).
+    """
+
+    along_m: tuple[float, ...]
+    easting: tuple[float, ...]
+    northing: tuple[float, ...]
+
+    def at(self, along_m: Any) -> tuple[np.ndarray, np.ndarray]:
+        """Grid ``(easting, northing)`` (CRS unit) at ground distances ``along_m`` (metres)
+        from the course's start, interpolated between the nodes."""
+        x = np.asarray(along_m, dtype=float)
+        return np.interp(x, self.along_m, self.easting), np.interp(x, self.along_m, self.northing)
 
 
 @dataclass(frozen=True)
@@ -166,6 +188,23 @@ class CourseConversion:
     bearing: References
     found: Station | None
     warnings: tuple[str, ...]
+    path_nodes: CoursePath | None = None
+
+    @property
+    def path(self) -> CoursePath:
+        """The course's marched line on the grid (:class:`CoursePath`): its nodes from start
+        to end (a straight grid line from start to end when it was marched in one step)."""
+        if self.path_nodes is not None:
+            return self.path_nodes
+        return CoursePath(
+            (0.0, self.length_m),
+            (self.start.easting, self.end.easting),
+            (self.start.northing, self.end.northing),
+        )
+
+    def path_at(self, along_m: Any) -> tuple[np.ndarray, np.ndarray]:
+        """Grid ``(easting, northing)`` at ground distances ``along_m`` along the course."""
+        return self.path.at(along_m)
 
     def as_dict(self) -> dict[str, Any]:
         """The course as the ``lodeline convert --json`` object (plain JSON values)."""
@@ -242,6 +281,17 @@ class DocumentConversion:
     courses: tuple[CourseConversion, ...]
     stations: tuple[Station, ...]
     warnings: tuple[str, ...]
+    marched_stations: tuple[Station, ...] = ()
+    angles: Any = None
+    angles_note: str | None = None
+
+    @property
+    def figure_stations(self) -> tuple[Station, ...]:
+        """The stations of the marched figure: :attr:`stations`, or for a magnetic record with
+        no declination known at its date the figure marched with the recorded bearings taken
+        as true (its stations withheld from :attr:`stations`): the closure in magnetic north
+        of the record date works from it."""
+        return self.marched_stations or self.stations
 
     @property
     def model_label(self) -> str:
@@ -422,7 +472,13 @@ def convert_document(
     e0, n0, lat0, lon0 = float(e0), float(n0), float(lat0), float(lon0)
 
     n = len(courses)
-    recorded = np.array([c.azimuth_deg for c in courses], dtype=float)
+    from geo.survey import angular_closure
+
+    angles, angles_note = angular_closure(courses, doc, file)
+    recorded = np.array(
+        angles.azimuth_deg if angles is not None else [c.azimuth_deg for c in courses],
+        dtype=float,
+    )
     length_m = np.array([c.length_m for c in courses], dtype=float)
     lat = np.full(n + 1, lat0)
     lon = np.full(n + 1, lon0)
@@ -605,6 +661,7 @@ def convert_document(
     grid_t = format_bearings(grid_az, precision=own if reference == "grid" else derived)
     mag2_t = format_bearings(mag2, precision=derived)
     out: list[CourseConversion] = []
+    marched = stations if unknown_d1 else ()
     if unknown_d1:
         true_l = grid_l = mag2_l = [None] * n
         true_t = grid_t = mag2_t = [None] * n
@@ -674,6 +731,9 @@ def convert_document(
         courses=tuple(out),
         stations=stations,
         warnings=tuple(dict.fromkeys(notes)),
+        marched_stations=marched,
+        angles=angles,
+        angles_note=angles_note,
     )
 
 

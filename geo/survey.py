@@ -27,17 +27,26 @@ attraction_tolerance_deg=None) -> SurveyClosure``
 
 Every result is a frozen dataclass holding floats and tuples (no mutable arrays).
 
-The ground plane and the choice of north
-    The closure is a property of the record: the courses are the recorded (horizontal, ground)
-    lengths along the recorded azimuths, the figure the original surveyor described. Referring
-    it to another north (``north="true"``, ``"grid"`` or ``"magnetic"`` = magnetic north at the
-    record date) turns the whole figure by **one** angle, ``rotation_deg`` = the chosen north's
-    azimuth minus the recorded azimuth of course 1 at the point of beginning (from
-    :mod:`geo.north`: D and gamma at station 0). So every closure figure (misclosure length,
-    precision, area, corrections' sizes) is exactly independent of the choice of north, and
-    only directions change. Per-course bearings in :mod:`geo.north` use D and gamma at each
-    course's own start and can differ from these by the change of D and gamma across the
-    figure (a few thousandths of a degree per kilometre).
+One figure: the marched stations
+    The closure is the closure of the stations :mod:`geo.north` marched (the one conversion
+    every output takes its stations from): :func:`plane_figure` reduces their grid offsets
+    from the point of beginning to the ground by one factor, the length-weighted mean
+    combined factor of the courses. The misclosure is the gap between the marched closing
+    station and the point of beginning; the adjustment is made once on that figure, along
+    grid north and east (the transit rule depends on the meridian it is taken along); the
+    area is the shoelace area of the adjusted figure; the export's adjusted stations are the
+    same figure scaled back to the grid (:func:`adjusted_grid_stations`). Referring the
+    closure to another north (``north="true"``, ``"grid"`` or ``"magnetic"`` = magnetic north
+    at the record date) turns the whole figure by **one** angle, ``rotation_deg``: gamma at
+    the point of beginning for true north, gamma - D (record date) there for magnetic north.
+    So no closure figure (misclosure length, precision, area, corrections' sizes) depends on
+    the choice of north. Each course's ``bearing``/``azimuth_deg`` is the conversion's (the
+    same text ``lodeline convert`` shows, at the course's own station); its latitude and
+    departure are the components of its marched chord in the turned figure, which differ from
+    ``L cos az`` of that bearing by the change of gamma (and D) between the course's station
+    and the point of beginning. Course ``length_m`` is the chord's length in the figure (the
+    recorded length times the course's own factor over the figure's); ``perimeter_m`` is the
+    sum of the recorded ground lengths.
 
 Sign conventions
     Azimuths are degrees clockwise from the chosen north in [0, 360). A latitude is the north
@@ -72,7 +81,8 @@ Local attraction
     record is closed as written), the corrected bearings are given beside it.
 
 Error budget
-    Lateral displacement of each station from a bearing uncertainty (``bearing_sigma_deg``,
+    On the plane figure: lateral displacement of each station from a bearing uncertainty
+    (``bearing_sigma_deg``,
     default half the coarsest precision of the calls) and, for a magnetic record, the field
     model's published 1σ declination uncertainty at the record date (none for a stated
     declination or a model without an error model).
@@ -94,6 +104,7 @@ Fit
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Literal
 
@@ -194,14 +205,19 @@ class RecordFigure:
     angles_note: str | None
 
 
-def _angular_closure(conv: DocumentConversion) -> tuple[AngularClosure | None, str | None]:
+def angular_closure(
+    rec: Sequence[Any], document: Any, file: str | None
+) -> tuple[AngularClosure | None, str | None]:
+    """The angular misclosure of parsed courses ``rec`` (:class:`geo.document.RecordedCourse`)
+    of ``document`` when it gives every angle of a closed figure, else ``(None, why not)``
+    (``(None, None)`` when it gives none). :func:`geo.north.convert_document` marches the
+    figure with the balanced azimuths (see the module docstring, *Angles*)."""
     from geo.traverse import adjust_interior_angles
 
-    rec = [c.recorded for c in conv.courses]
     given = [r.angle_deg is not None for r in rec]
     if not any(given):
         return None, None
-    if not conv.document.closed:
+    if not document.closed:
         return None, "angles on an open traverse: no angular misclosure (no figure to close)"
     if not all(given) or len(rec) < 3:
         missing = [r.index for r in rec if r.angle_deg is None]
@@ -213,7 +229,7 @@ def _angular_closure(conv: DocumentConversion) -> tuple[AngularClosure | None, s
         return None, f"no angular misclosure: the angle is missing on {where}"
     angles = np.array([r.angle_deg for r in rec], dtype=float)
     n = angles.size
-    right = conv.document.record.angles == "right"
+    right = document.record.angles == "right"
     # Turned to the right (clockwise), interior angles belong to a figure run counter-clockwise.
     direction = "counterclockwise" if right else "clockwise"
     total = math.fsum(angles.tolist())
@@ -228,7 +244,7 @@ def _angular_closure(conv: DocumentConversion) -> tuple[AngularClosure | None, s
             angles, first_azimuth_deg=rec[0].azimuth_deg, direction=direction
         )
     except LodelineError as err:
-        raise err.located(file=conv.file) from None
+        raise err.located(file=file) from None
     adjusted = aa.adjusted_angles_deg if kind == "interior" else 360.0 - aa.adjusted_angles_deg
     sign = 1.0 if kind == "interior" else -1.0
     return (
@@ -249,13 +265,13 @@ def record_figure(conv: DocumentConversion) -> RecordFigure:
     """The record figure of a converted document (see the module docstring, *Angles*)."""
     recorded = tuple(float(c.recorded.azimuth_deg) for c in conv.courses)
     lengths = tuple(float(c.length_m) for c in conv.courses)
-    angles, note = _angular_closure(conv)
+    angles = conv.angles
     return RecordFigure(
         recorded_azimuth_deg=recorded,
         azimuth_deg=angles.azimuth_deg if angles is not None else recorded,
         length_m=lengths,
         angles=angles,
-        angles_note=note,
+        angles_note=conv.angles_note,
     )
 
 
@@ -416,6 +432,8 @@ class SurveyClosure:
     bearing_sigma_deg: float
     declination_sigma_deg: float | None
     budget: tuple[BudgetStation, ...]
+    combined_factor: float
+    grid_unit_m: float
     notes: tuple[str, ...]
 
     @property
@@ -473,7 +491,8 @@ class SurveyClosure:
             "area_acres": None if area is None else area.acres,
             "grid_area_m2": None if area is None else area.grid_m2,
             "area_kind": None if area is None else "ground",
-            "combined_factor": None if area is None else area.combined_factor,
+            "combined_factor": self.combined_factor,
+            "grid_unit_m": self.grid_unit_m,
             "crossing_courses": None if self.crossing is None else list(self.crossing),
             "angular_misclosure": None
             if ang is None
@@ -520,25 +539,25 @@ class SurveyClosure:
 
 
 def _north_rotation(conv: DocumentConversion, north: str) -> float:
-    """Degrees to add to a recorded azimuth to refer it to ``north`` (at the point of beginning)."""
+    """Degrees to add to a grid azimuth of the figure to refer it to ``north`` at the point of
+    beginning: gamma there for true north, gamma - D (record date) for magnetic north (gamma
+    alone when D is unknown: the figure was then marched with the recorded bearings as true)."""
     if north not in NORTHS:
         raise InputError(f"unknown north {north!r}: use true, grid or magnetic", field="north")
     first = conv.courses[0]
-    target = {
-        "true": first.azimuth.true,
-        "grid": first.azimuth.grid,
-        "magnetic": first.azimuth.magnetic_record,
-    }[north]
-    if target is None:
+    if north == "grid":
+        return 0.0
+    gamma = float(first.convergence_deg)
+    if north == "true":
+        return gamma
+    if first.azimuth.magnetic_record is None:
         raise InputError(
             "no magnetic north at the record date: the document gives neither a record date a "
             "field model covers nor a stated declination (use --north true or grid)",
             file=conv.file,
             field="north",
         )
-    from geo.angles import angle_difference
-
-    return float(angle_difference(target, first.recorded.azimuth_deg))
+    return gamma - float(first.declination_record_deg or 0.0)
 
 
 def _acre_foot(conv: DocumentConversion) -> str:
@@ -612,6 +631,240 @@ def resolve_adjustment(conv: DocumentConversion, adjust: str | None) -> str:
     return adjust
 
 
+@dataclass(frozen=True)
+class PlaneFigure:
+    """The marched figure of :mod:`geo.north` in the plane of the closure.
+
+    The stations are the conversion's (grid CRS) reduced to ground metres by one factor:
+    ``north_m``/``east_m`` (n + 1) = grid offsets from the point of beginning x metres per
+    grid unit / ``factor``, in **grid north**. ``factor`` is the mean combined factor of the
+    courses weighted by their lengths (each course's own factor is its grid path length over
+    its ground length). ``azimuth_deg``/``length_m`` (n) are the courses' chords in this plane
+    (grid azimuth, metres), ``recorded_length_m`` their recorded ground lengths. One factor and
+    (for another north) one rotation keep the figure the exported one: the gap between its
+    last station and the point of beginning is the exported gap reduced to the ground.
+    """
+
+    factor: float
+    north_m: np.ndarray
+    east_m: np.ndarray
+    azimuth_deg: np.ndarray
+    length_m: np.ndarray
+    recorded_length_m: np.ndarray
+
+
+def plane_figure(conv: DocumentConversion) -> PlaneFigure:
+    """The conversion's marched stations as a plane figure (see :class:`PlaneFigure`)."""
+    from geo.traverse import azimuth_of
+
+    stations = conv.figure_stations
+    unit = conv.grid_unit_m
+    recorded = np.array([c.length_m for c in conv.courses], dtype=float)
+    grid_len = np.array([c.grid_length_m for c in conv.courses], dtype=float)
+    total = math.fsum(recorded.tolist())
+    factor = math.fsum(grid_len.tolist()) / total if total > 0.0 else 1.0
+    if not math.isfinite(factor):
+        factor = float(np.nanmean(np.array([c.combined_factor for c in conv.courses])))
+    e0, n0 = stations[0].easting, stations[0].northing
+    east = np.array([s.easting - e0 for s in stations], dtype=float) * (unit / factor)
+    north = np.array([s.northing - n0 for s in stations], dtype=float) * (unit / factor)
+    d_n, d_e = np.diff(north), np.diff(east)
+    return PlaneFigure(
+        factor=factor,
+        north_m=north,
+        east_m=east,
+        azimuth_deg=np.asarray(azimuth_of(d_n, d_e), dtype=float),
+        length_m=np.hypot(d_n, d_e),
+        recorded_length_m=recorded,
+    )
+
+
+def _turned(north_m: Any, east_m: Any, angle_deg: float) -> tuple[np.ndarray, np.ndarray]:
+    """Vectors (north, east components, metres) referred to a north ``angle_deg`` to the left
+    of their own: every azimuth grows by ``angle_deg`` (clockwise positive)."""
+    c, s = math.cos(math.radians(angle_deg)), math.sin(math.radians(angle_deg))
+    n, e = np.asarray(north_m, dtype=float), np.asarray(east_m, dtype=float)
+    return n * c - e * s, e * c + n * s
+
+
+@dataclass(frozen=True)
+class _Adjusted:
+    """The plane figure adjusted (grid north): corrections, adjusted courses and stations."""
+
+    lat_c: np.ndarray
+    dep_c: np.ndarray
+    lat: np.ndarray
+    dep: np.ndarray
+    north_m: np.ndarray
+    east_m: np.ndarray
+    closure: Any
+
+
+def _adjusted(conv: DocumentConversion, plane: PlaneFigure, method: str) -> _Adjusted:
+    """Adjust the plane figure in grid north (the compass rule turns with the figure; the
+    transit rule does not, so the figure is adjusted once, along grid north and east, and the
+    result turned to the chosen north). An open traverse keeps its stations."""
+    from geo import traverse as tv
+
+    try:
+        if conv.document.closed:
+            adj = tv.adjust(plane.azimuth_deg, plane.length_m, method=method)
+            return _Adjusted(
+                adj.latitude_corrections_m,
+                adj.departure_corrections_m,
+                adj.latitudes_m,
+                adj.departures_m,
+                adj.north_m if method != "none" else plane.north_m,
+                adj.east_m if method != "none" else plane.east_m,
+                adj.closure,
+            )
+    except LodelineError as err:
+        raise err.located(file=conv.file) from None
+    zeros = np.zeros(plane.length_m.size)
+    return _Adjusted(
+        zeros, zeros, np.diff(plane.north_m), np.diff(plane.east_m), plane.north_m,
+        plane.east_m, None,
+    )  # fmt: skip
+
+
+def adjusted_grid_stations(
+    conv: DocumentConversion, adjust: str | None = None
+) -> tuple[str, np.ndarray, np.ndarray, PlaneFigure]:
+    """``(rule, easting, northing, plane)``: the stations adjusted as the closure adjusts them,
+    in the grid CRS's unit (with ``"none"`` exactly the conversion's stations). The export
+    takes its positions from here."""
+    method = resolve_adjustment(conv, adjust)
+    plane = plane_figure(conv)
+    adj = _adjusted(conv, plane, method)
+    p0 = conv.figure_stations[0]
+    if method == "none":
+        e = np.array([s.easting for s in conv.figure_stations], dtype=float)
+        n = np.array([s.northing for s in conv.figure_stations], dtype=float)
+        return method, e, n, plane
+    scale = plane.factor / conv.grid_unit_m
+    return method, p0.easting + adj.east_m * scale, p0.northing + adj.north_m * scale, plane
+
+
+def _closure_courses(
+    conv: DocumentConversion, north: str, adj: _Adjusted, plane: PlaneFigure, rotation: float
+) -> tuple[ClosureCourse, ...]:
+    """Per course: the conversion's bearing in ``north`` (as every output shows it), the plane
+    components turned to ``north``, corrections and adjusted course."""
+    from geo.angles import normalize_azimuth
+    from geo.bearings import format_bearings
+    from geo.traverse import azimuth_of
+
+    lat, dep = _turned(np.diff(plane.north_m), np.diff(plane.east_m), rotation)
+    lat_c, dep_c = _turned(adj.lat_c, adj.dep_c, rotation)
+    a_lat, a_dep = _turned(adj.lat, adj.dep, rotation)
+    a_len = np.hypot(a_lat, a_dep)
+    a_az = np.asarray(normalize_azimuth(azimuth_of(a_lat, a_dep)), dtype=float)
+    key = "magnetic_record" if north == "magnetic" else north
+    columns = zip(
+        conv.courses,
+        _float_list(plane.length_m),
+        _float_list(lat),
+        _float_list(dep),
+        _float_list(lat_c),
+        _float_list(dep_c),
+        _float_list(a_lat),
+        _float_list(a_dep),
+        _float_list(a_len),
+        _float_list(a_az),
+        format_bearings(a_az, precision=_SECOND_DEG),
+        strict=True,
+    )
+    return tuple(
+        ClosureCourse(
+            index=c.index,
+            call=c.call,
+            azimuth_deg=getattr(c.azimuth, key),
+            bearing=getattr(c.bearing, key),
+            length_m=ln,
+            latitude_m=la,
+            departure_m=de,
+            latitude_correction_m=lc,
+            departure_correction_m=dc,
+            adjusted_latitude_m=ala,
+            adjusted_departure_m=ade,
+            adjusted_length_m=aln,
+            adjusted_azimuth_deg=aa,
+            adjusted_bearing=aa_text,
+        )
+        for c, ln, la, de, lc, dc, ala, ade, aln, aa, aa_text in columns
+    )
+
+
+def _stations(north_m: Any, east_m: Any, rotation: float) -> tuple[ClosureStation, ...]:
+    n_arr, e_arr = _turned(north_m, east_m, rotation)
+    return tuple(
+        ClosureStation(i, n + 0.0, e + 0.0)
+        for i, (n, e) in enumerate(zip(_float_list(n_arr), _float_list(e_arr), strict=True))
+    )
+
+
+def _area(
+    conv: DocumentConversion, adj: _Adjusted, plane: PlaneFigure, notes: list[str]
+) -> tuple[AreaFigures | None, tuple[int, int] | None]:
+    """Shoelace area of the adjusted plane figure (ground), and the grid area."""
+    from geo import traverse as tv
+
+    foot = _acre_foot(conv)
+    try:
+        fa = tv.figure_area(adj.north_m, adj.east_m, foot=foot)
+    except tv.SelfCrossingError as err:
+        notes.append(err.message)
+        return None, tuple(err.courses)
+    except TraverseError as err:
+        notes.append(err.message)
+        return None, None
+    cf = plane.factor
+    return (
+        AreaFigures(
+            ground_m2=fa.area_m2,
+            hectares=fa.hectares,
+            acres=fa.acres,
+            grid_m2=fa.area_m2 * cf * cf,
+            combined_factor=cf,
+            orientation=fa.orientation,
+            acre_m2=fa.acre_m2,
+            foot=foot,
+        ),
+        None,
+    )
+
+
+def _budget(
+    conv: DocumentConversion, plane: PlaneFigure, bearing_sigma_deg: float | None
+) -> tuple[float, float | None, tuple[BudgetStation, ...]]:
+    """The error budget of the plane figure (see the module docstring, *Error budget*)."""
+    from geo import traverse as tv
+
+    if bearing_sigma_deg is None:
+        bearing_sigma_deg = 0.5 * max(c.recorded.precision_deg for c in conv.courses)
+    dec_sigma = None
+    if conv.reference == "magnetic" and conv.declination_source == "model":
+        dec_sigma = conv.courses[0].declination_record_sigma_deg
+    try:
+        eb = tv.error_budget(
+            plane.azimuth_deg,
+            plane.length_m,
+            bearing_sigma_deg=bearing_sigma_deg,
+            declination_sigma_deg=dec_sigma,
+        )
+    except LodelineError as err:
+        raise err.located(file=conv.file, field="bearing_sigma_deg") from None
+    rows = zip(
+        _float_list(eb.distance_m),
+        _float_list(eb.bearing_m),
+        _float_list(eb.declination_m),
+        _float_list(eb.total_m),
+        strict=True,
+    )
+    budget = tuple(BudgetStation(i, d, b, dm, t) for i, (d, b, dm, t) in enumerate(rows))
+    return float(bearing_sigma_deg), dec_sigma, budget
+
+
 def close_document(
     conv: DocumentConversion,
     *,
@@ -631,7 +884,8 @@ def close_document(
         traverse, none for an open one.
     north:
         ``"true"`` (default), ``"grid"`` or ``"magnetic"`` (record date): the north of every
-        direction in the result. A rotation: no closure figure depends on it.
+        direction in the result, at the point of beginning. A rotation: no closure figure
+        depends on it.
     bearing_sigma_deg:
         1σ uncertainty of a bearing reading, degrees (default: half the coarsest precision
         the calls were written to).
@@ -648,145 +902,39 @@ def close_document(
     InputError
         Unknown ``north``/``adjust``, or magnetic north asked of a record that has none.
     """
-    from geo import traverse as tv
+    from geo.traverse import azimuth_of
 
-    doc = conv.document
     if not conv.courses:
         from geo.errors import DocumentError
 
         raise DocumentError("has no courses: nothing to close", file=conv.file, field="course")
-    closed = bool(doc.closed)
+    closed = bool(conv.document.closed)
     adjust = resolve_adjustment(conv, adjust)
-    figure = record_figure(conv)
     rotation = _north_rotation(conv, north)
-    notes: list[str] = []
-    if figure.angles_note:
-        notes.append(figure.angles_note)
-    if figure.angles is not None:
+    notes: list[str] = [conv.angles_note] if conv.angles_note else []
+    if conv.angles is not None:
         notes.append("azimuths carried from course 1 with the balanced angles")
-
-    from geo.angles import normalize_azimuth
-
-    az = np.asarray(normalize_azimuth(np.asarray(figure.azimuth_deg) + rotation), dtype=float)
-    length = np.asarray(figure.length_m, dtype=float)
-    try:
-        st = tv.march(az, length)
-        adj = tv.adjust(az, length, method=adjust) if closed else None
-    except LodelineError as err:
-        raise err.located(file=conv.file) from None
-
-    if adj is not None:
-        lat_c, dep_c = adj.latitude_corrections_m, adj.departure_corrections_m
-        a_lat, a_dep = adj.latitudes_m, adj.departures_m
-        a_len, a_az = adj.length_m, adj.azimuth_deg
-        north_m, east_m = adj.north_m, adj.east_m
-        if adjust == "none":
-            a_len, a_az = length, az
-    else:
-        lat_c = dep_c = np.zeros(length.size)
-        a_lat, a_dep, a_len, a_az = st.latitudes_m, st.departures_m, length, az
-        north_m, east_m = st.north_m, st.east_m
-
-    from geo.bearings import format_bearings
-
-    # Per-course values as Python floats, read once (the same doubles as float(array[i])).
-    columns = zip(
-        conv.courses,
-        _float_list(az),
-        format_bearings(az, precision=_SECOND_DEG),
-        _float_list(length),
-        _float_list(st.latitudes_m),
-        _float_list(st.departures_m),
-        _float_list(lat_c),
-        _float_list(dep_c),
-        _float_list(a_lat),
-        _float_list(a_dep),
-        _float_list(a_len),
-        _float_list(a_az),
-        format_bearings(a_az, precision=_SECOND_DEG),
-        strict=True,
-    )
-    courses = tuple(
-        ClosureCourse(
-            index=c.index,
-            call=c.call,
-            azimuth_deg=a,
-            bearing=a_text,
-            length_m=ln,
-            latitude_m=la,
-            departure_m=de,
-            latitude_correction_m=lc,
-            departure_correction_m=dc,
-            adjusted_latitude_m=ala,
-            adjusted_departure_m=ade,
-            adjusted_length_m=aln,
-            adjusted_azimuth_deg=aa,
-            adjusted_bearing=aa_text,
-        )
-        for c, a, a_text, ln, la, de, lc, dc, ala, ade, aln, aa, aa_text in columns
-    )
-
-    def stations(n_arr: np.ndarray, e_arr: np.ndarray) -> tuple[ClosureStation, ...]:
-        return tuple(
-            ClosureStation(i, n + 0.0, e + 0.0)
-            for i, (n, e) in enumerate(zip(_float_list(n_arr), _float_list(e_arr), strict=True))
-        )
-
-    perimeter = math.fsum(length.tolist())
+    # Stages, in order: the plane figure, its adjustment, the courses, area, attraction, budget.
+    plane = plane_figure(conv)
+    adj = _adjusted(conv, plane, adjust)
+    courses = _closure_courses(conv, north, adj, plane, rotation)
     mis_n = mis_e = mis = mis_az = precision = None
     area = crossing = None
-    if adj is not None:
+    perimeter = math.fsum(plane.recorded_length_m.tolist())
+    if adj.closure is not None:
         clo = adj.closure
-        mis_n, mis_e, mis = clo.misclosure_north_m, clo.misclosure_east_m, clo.misclosure_m
-        mis_az, precision = clo.misclosure_azimuth_deg, clo.precision
-        foot = _acre_foot(conv)
-        try:
-            fa = tv.figure_area(north_m, east_m, foot=foot)
-        except tv.SelfCrossingError as err:
-            crossing = tuple(err.courses)
-            notes.append(err.message)
-        except TraverseError as err:
-            notes.append(err.message)
+        mis = clo.misclosure_m
+        if mis:
+            mis_n, mis_e = (float(v) for v in _turned(clo.misclosure_north_m,
+                                                      clo.misclosure_east_m, rotation))  # fmt: skip
+            mis_az = float(azimuth_of(mis_n, mis_e))
+            precision = perimeter / mis
         else:
-            cf = math.fsum(c.combined_factor for c in conv.courses) / len(conv.courses)
-            area = AreaFigures(
-                ground_m2=fa.area_m2,
-                hectares=fa.hectares,
-                acres=fa.acres,
-                grid_m2=fa.area_m2 * cf * cf,
-                combined_factor=cf,
-                orientation=fa.orientation,
-                acre_m2=fa.acre_m2,
-                foot=foot,
-            )
+            mis_n = mis_e = 0.0
+        area, crossing = _area(conv, adj, plane, notes)
     else:
         notes.append("open traverse (closed = false): no misclosure, adjustment or area")
-
-    attraction = _attraction(conv, attraction_tolerance_deg)
-
-    if bearing_sigma_deg is None:
-        bearing_sigma_deg = 0.5 * max(c.recorded.precision_deg for c in conv.courses)
-    dec_sigma = None
-    if conv.reference == "magnetic" and conv.declination_source == "model":
-        dec_sigma = conv.courses[0].declination_record_sigma_deg
-    try:
-        eb = tv.error_budget(
-            az, length, bearing_sigma_deg=bearing_sigma_deg, declination_sigma_deg=dec_sigma
-        )
-    except LodelineError as err:
-        raise err.located(file=conv.file, field="bearing_sigma_deg") from None
-    budget = tuple(
-        BudgetStation(i, d, b, dm, t)
-        for i, (d, b, dm, t) in enumerate(
-            zip(
-                _float_list(eb.distance_m),
-                _float_list(eb.bearing_m),
-                _float_list(eb.declination_m),
-                _float_list(eb.total_m),
-                strict=True,
-            )
-        )
-    )
+    sigma, dec_sigma, budget = _budget(conv, plane, bearing_sigma_deg)
     return SurveyClosure(
         file=conv.file,
         closed=closed,
@@ -794,8 +942,8 @@ def close_document(
         rotation_deg=rotation,
         adjustment=adjust,
         courses=courses,
-        stations=stations(north_m, east_m),
-        unadjusted_stations=stations(st.north_m, st.east_m),
+        stations=_stations(adj.north_m, adj.east_m, rotation),
+        unadjusted_stations=_stations(plane.north_m, plane.east_m, rotation),
         perimeter_m=perimeter,
         misclosure_north_m=mis_n,
         misclosure_east_m=mis_e,
@@ -805,11 +953,13 @@ def close_document(
         precision=precision,
         area=area,
         crossing=crossing,
-        angles=figure.angles,
-        attraction=attraction,
-        bearing_sigma_deg=float(bearing_sigma_deg),
+        angles=conv.angles,
+        attraction=_attraction(conv, attraction_tolerance_deg),
+        bearing_sigma_deg=sigma,
         declination_sigma_deg=dec_sigma,
         budget=budget,
+        combined_factor=plane.factor,
+        grid_unit_m=conv.grid_unit_m,
         notes=tuple(notes),
     )
 

@@ -118,7 +118,7 @@ def _cumsum(values: Array) -> Array:
     return np.concatenate([[0.0], s + np.cumsum(errors)])
 
 
-def _azimuth_of(d_north: Array, d_east: Array) -> Array:
+def azimuth_of(d_north: ArrayLike, d_east: ArrayLike) -> Array:
     """Azimuth (deg, [0, 360)) of vectors (north, east); 0 for a zero vector."""
     return np.asarray(normalize_azimuth(np.degrees(np.arctan2(d_east, d_north))), dtype=float)
 
@@ -209,7 +209,7 @@ def closure(azimuth_deg: ArrayLike, length_m: ArrayLike) -> Closure:
         misclosure_north_m=d_north,
         misclosure_east_m=d_east,
         misclosure_m=mis,
-        misclosure_azimuth_deg=float(_azimuth_of(np.array(d_north), np.array(d_east))),
+        misclosure_azimuth_deg=float(azimuth_of(np.array(d_north), np.array(d_east))),
         precision=perimeter / mis,
     )
 
@@ -284,7 +284,7 @@ def adjust(
         latitudes_m=a_lat,
         departures_m=a_dep,
         length_m=np.hypot(a_lat, a_dep),
-        azimuth_deg=_azimuth_of(a_lat, a_dep),
+        azimuth_deg=azimuth_of(a_lat, a_dep),
         north_m=_cumsum(a_lat),
         east_m=_cumsum(a_dep),
     )

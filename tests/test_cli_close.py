@@ -42,6 +42,7 @@ CLOSE_KEYS = CLOSE_REQUIRED | {
     "courses",
     "area_kind",
     "combined_factor",
+    "grid_unit_m",
     "crossing_courses",
     "angular_misclosure",
     "local_attraction_courses",

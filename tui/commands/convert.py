@@ -58,7 +58,7 @@ def render(conv: Any) -> str:
     p0 = conv.stations[0]
     lines.append(
         f"point of beginning {p0.lat:.6f}, {p0.lon:.6f}  h {conv.height_m:g} m  "
-        f"grid {conv.crs} (E {p0.easting:.3f}, N {p0.northing:.3f})"
+        f"grid {conv.crs} (E {p0.easting:.3f}, N {p0.northing:.3f} {_unit_name(conv.crs)})"
     )
     rec_when = (
         conv.record_date.isoformat()
@@ -128,6 +128,12 @@ def render(conv: Any) -> str:
         lines.append(f"note: {note}")
     lines.append(SHORT_CAUTION)
     return "\n".join(lines) + "\n"
+
+
+def _unit_name(crs: str) -> str:
+    from geo.grid import grid_unit_name
+
+    return grid_unit_name(crs)
 
 
 def run(args: argparse.Namespace) -> int:

@@ -1,0 +1,206 @@
+"""One figure everywhere: close, export and convert describe the same marched stations.
+
+Check values: distances between exported stations by pyproj's ``Geod.inv`` on WGS84 (an
+independent geodesic), misclosure and compass rule as in Ghilani & Wolf, *Elementary
+Surveying* (the misclosure is the gap between the computed closing station and the point of
+beginning; the compass rule distributes it in proportion to the course lengths).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+import pytest
+from pyproj import Geod, Transformer
+
+from tui.cli import main
+
+DEMOS = sorted((Path(__file__).parents[1] / "demo_traverses").glob("*.toml"))
+CLOSED_DEMOS = [d for d in DEMOS if "closed = true" in d.read_text(encoding="utf-8")]
+GEOD = Geod(ellps="WGS84")
+
+
+def _square_toml(lat: float, lon: float, date: str, rods: float) -> str:
+    calls = ("N 10 E", "S 80 E", "S 10 W", "N 80 W")
+    courses = "\n".join(f'[[course]]\ncall = "{c} {rods:g} rods"\n' for c in calls)
+    return (
+        f'format_version = 1\ntitle = "square"\nclosed = true\n\n'
+        f"[place]\nlat = {lat}\nlon = {lon}\nheight_m = 0.0\n\n"
+        f'[record]\nreference = "magnetic"\ndate = "{date}"\nmodel = "IGRF14"\n'
+        f'distance_unit = "rod"\n\n[target]\ndate = "2026-01-01"\n\n{courses}'
+    )
+
+
+# A 2 km square (400 rods = 2011.7 m a side) 3 degrees east of the central meridian of UTM
+# zone 18 (-75), recorded in 1950; and a 400 m square (80 rods) at 68.6 N.
+UTM_EDGE = _square_toml(44.5, -72.0, "1950-06-01", 400)
+ARCTIC = _square_toml(68.6, 19.0, "1950-06-01", 80)
+
+
+def _run(args, capsys):
+    capsys.readouterr()
+    code = main(args)
+    out = capsys.readouterr()
+    assert code == 0, out.err
+    return out.out
+
+
+def _close(path, capsys, *extra):
+    return json.loads(_run(["close", str(path), "--json", *extra], capsys))
+
+
+def _export(path, tmp_path, capsys, adjust):
+    out = tmp_path / f"out-{adjust}.geojson"
+    _run(["export", str(path), "--geojson", str(out), "--adjust", adjust, "--force"], capsys)
+    data = json.loads(out.read_text(encoding="utf-8"))
+    stations = [f for f in data["features"] if f["properties"]["kind"] == "station"]
+    return data, stations
+
+
+def _docs(tmp_path):
+    out = []
+    for name, text in (("utm_edge", UTM_EDGE), ("arctic", ARCTIC)):
+        p = tmp_path / f"{name}.toml"
+        p.write_text(text, encoding="utf-8")
+        out.append(p)
+    return out + CLOSED_DEMOS
+
+
+@pytest.mark.parametrize("which", range(2 + len(CLOSED_DEMOS)))
+def test_close_misclosure_is_the_gap_between_exported_stations(which, tmp_path, capsys):
+    path = _docs(tmp_path)[which]
+    clo = _close(path, capsys)
+    data, stations = _export(path, tmp_path, capsys, "none")
+    first, last = stations[0], stations[-1]
+    (lon0, lat0), (lon1, lat1) = first["geometry"]["coordinates"], last["geometry"]["coordinates"]
+    _, _, gap = GEOD.inv(lon0, lat0, lon1, lat1)  # pyproj geodesic, metres on the ellipsoid
+    height = float(
+        next(
+            line.split("=")[1]
+            for line in path.read_text(encoding="utf-8").splitlines()
+            if line.startswith("height_m")
+        )
+    )
+    gap_ground = gap * (1.0 + height / 6371000.0)  # ellipsoid -> ground (common practice)
+    assert clo["misclosure_m"] == pytest.approx(gap_ground, abs=1e-3)
+    assert data["properties"]["misclosure_m"] == pytest.approx(clo["misclosure_m"], abs=1e-9)
+
+
+@pytest.mark.parametrize("which", range(2 + len(CLOSED_DEMOS)))
+def test_close_adjusted_stations_are_the_exported_adjusted_stations(which, tmp_path, capsys):
+    path = _docs(tmp_path)[which]
+    clo = _close(path, capsys, "--north", "grid")
+    _, stations = _export(path, tmp_path, capsys, "compass")
+    e0, n0 = stations[0]["properties"]["easting"], stations[0]["properties"]["northing"]
+    k = clo["combined_factor"]
+    unit = clo["grid_unit_m"]
+    exported = {s["properties"]["index"]: s["properties"] for s in stations}
+    assert len(clo["stations"]) == len(exported) + 1  # the closing station is the beginning
+    for s in clo["stations"][:-1]:
+        p = exported[s["index"]]
+        assert (p["easting"] - e0) * unit / k == pytest.approx(s["east_m"], abs=1e-3)
+        assert (p["northing"] - n0) * unit / k == pytest.approx(s["north_m"], abs=1e-3)
+
+
+def test_utm_edge_square_misclosure_is_not_zero(tmp_path, capsys):
+    # The record closes exactly on paper; D and gamma change across 2 km, so the marched
+    # figure does not (about 2.5 m here, by the independent geodesic above).
+    path = _docs(tmp_path)[0]
+    clo = _close(path, capsys)
+    assert clo["misclosure_m"] > 1.0
+
+
+@pytest.mark.parametrize("which", range(2 + len(CLOSED_DEMOS)))
+def test_close_shows_the_bearings_convert_shows(which, tmp_path, capsys):
+    path = _docs(tmp_path)[which]
+    conv = json.loads(_run(["convert", str(path), "--json"], capsys))
+    for north in ("true", "grid"):
+        clo = _close(path, capsys, "--north", north)
+        for cc, c in zip(clo["courses"], conv["courses"], strict=True):
+            assert cc["bearing"] == c["bearing"][north]
+            assert cc["azimuth_deg"] == pytest.approx(c["azimuth"][f"{north}_deg"], abs=1e-12)
+
+
+def test_exported_grid_coordinates_match_exported_lonlat(tmp_path, capsys):
+    # Independent: pyproj's own transformer from the exported lon/lat to the exported CRS.
+    path = _docs(tmp_path)[0]
+    data, stations = _export(path, tmp_path, capsys, "compass")
+    to_grid = Transformer.from_crs("EPSG:4326", data["properties"]["crs"], always_xy=True)
+    for s in stations:
+        lon, lat = s["geometry"]["coordinates"]
+        e, n = to_grid.transform(lon, lat)
+        assert e == pytest.approx(s["properties"]["easting"], abs=2e-3)
+        assert n == pytest.approx(s["properties"]["northing"], abs=2e-3)
+        assert math.isfinite(e)
+
+
+def _angle_square_toml() -> str:
+    # A 1 km square run counter-clockwise by right-turned interior angles, one of them read
+    # 30 minutes large (sum 360 deg 30 min against (4 - 2) x 180, common practice).
+    courses = [
+        '[[course]]\nbearing = "N 0 E"\nangle = "90 00"\ndistance = 1000.0\n',
+        '[[course]]\nangle = "90 30"\ndistance = 1000.0\n',
+        '[[course]]\nangle = "90 00"\ndistance = 1000.0\n',
+        '[[course]]\nangle = "90 00"\ndistance = 1000.0\n',
+    ]
+    return (
+        'format_version = 1\ntitle = "angles"\nclosed = true\n\n'
+        "[place]\nlat = 44.5\nlon = -72.0\nheight_m = 0.0\n\n"
+        '[record]\nreference = "true"\nangles = "right"\ndistance_unit = "m"\n'
+        'foot = "international"\n\n[target]\ndate = "2026-01-01"\n\n' + "\n".join(courses)
+    )
+
+
+@pytest.mark.parametrize("adjust", ["none", "compass"])
+def test_a_record_by_angles_exports_one_figure(adjust, tmp_path, capsys):
+    path = tmp_path / "angles.toml"
+    path.write_text(_angle_square_toml(), encoding="utf-8")
+    data, stations = _export(path, tmp_path, capsys, adjust)
+    # Independent: pyproj's transformer from each exported lon/lat to the exported CRS.
+    to_grid = Transformer.from_crs("EPSG:4326", data["properties"]["crs"], always_xy=True)
+    for s in stations:
+        lon, lat = s["geometry"]["coordinates"]
+        e, n = to_grid.transform(lon, lat)
+        assert e == pytest.approx(s["properties"]["easting"], abs=2e-3)
+        assert n == pytest.approx(s["properties"]["northing"], abs=2e-3)
+    clo = _close(path, capsys, "--adjust", adjust)
+    assert clo["angular_misclosure"]["misclosure_deg"] == pytest.approx(0.5, abs=1e-12)
+    if adjust == "none":
+        last = stations[-1]["geometry"]["coordinates"]
+        _, _, gap = GEOD.inv(*stations[0]["geometry"]["coordinates"], *last)
+        assert clo["misclosure_m"] == pytest.approx(gap, abs=1e-3)
+
+
+US_FEET = (
+    'format_version = 1\ntitle = "feet"\nclosed = false\n\n'
+    "[place]\nlat = 40.75\nlon = -73.95\nheight_m = 0.0\n\n"
+    '[grid]\ncrs = "EPSG:2263"\n\n'  # NAD83 / New York Long Island (ftUS), EPSG registry
+    '[record]\nreference = "grid"\ndistance_unit = "m"\nfoot = "us"\n\n'
+    '[[course]]\nbearing = "N 0 E"\ndistance = 100.0\nevery = 40.0\n'
+)
+
+
+def test_grid_coordinates_carry_their_unit(tmp_path, capsys):
+    path = tmp_path / "feet.toml"
+    path.write_text(US_FEET, encoding="utf-8")
+    out_csv = tmp_path / "feet.csv"
+    geo_out = tmp_path / "feet.geojson"
+    _run(["export", str(path), "--csv", str(out_csv), "--geojson", str(geo_out)], capsys)
+    header = out_csv.read_text(encoding="utf-8").splitlines()[0].split(",")
+    assert "easting_us_ft" in header and "northing_us_ft" in header
+    assert "easting" not in header
+    rows = out_csv.read_text(encoding="utf-8").splitlines()[1:]
+    first, last = rows[0].split(","), rows[1].split(",")
+    north = header.index("northing_us_ft")
+    # 100 m north on the grid is 100 x 3937/1200 US survey feet (exact definition, NIST),
+    # times the combined factor (within 1e-4 here)
+    assert float(last[north]) - float(first[north]) == pytest.approx(100 * 3937 / 1200, rel=1e-4)
+    data = json.loads(geo_out.read_text(encoding="utf-8"))
+    assert data["properties"]["grid_unit"] == "us_ft"
+    assert data["properties"]["grid_unit_m"] == pytest.approx(1200 / 3937, rel=1e-12)
+    points = [f for f in data["features"] if f["properties"]["kind"] != "figure"]
+    assert all(f["properties"]["grid_unit"] == "us_ft" for f in points)
+    text = _run(["convert", str(path)], capsys)
+    assert "us_ft)" in text
