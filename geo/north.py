@@ -50,6 +50,7 @@ import numpy as np
 
 from geo.document import Document, RecordedCourse, parse_courses
 from geo.errors import DocumentError, LodelineError, ModelRangeError
+from geo.notes import Note, messages
 
 __all__ = [
     "CourseConversion",
@@ -60,11 +61,6 @@ __all__ = [
     "convert_document",
 ]
 
-#: Stop re-marching when no station moves by more than this (metres).
-_CONVERGED_M = 1e-3
-_MAX_PASSES = 8
-#: Distance (metres) of the probes for the first estimate of the stations (see convert_document).
-_PROBE_M = 1000.0
 #: The coarsest precision of a derived (converted) bearing: one minute of arc.
 _DERIVED_PRECISION_DEG = 1.0 / 60.0
 
@@ -189,6 +185,16 @@ class CourseConversion:
     found: Station | None
     warnings: tuple[str, ...]
     path_nodes: CoursePath | None = None
+    declination_record_rate_deg_per_year: float | None = None
+    declination_target_rate_deg_per_year: float | None = None
+    steps: int = 1
+    azimuth_end: References | None = None
+    bearing_end: References | None = None
+
+    @property
+    def mean_combined_factor(self) -> float:
+        """Grid length over ground length: the combined factor along the course."""
+        return self.grid_length_m / self.length_m if self.length_m else self.combined_factor
 
     @property
     def path(self) -> CoursePath:
@@ -221,6 +227,11 @@ class CourseConversion:
             "azimuth": self.azimuth.as_dict("_deg"),
             "bearing": self.bearing.as_dict(),
             "declination_sigma_deg": self.declination_target_sigma_deg,
+            "declination_record_rate_deg_per_year": self.declination_record_rate_deg_per_year,
+            "declination_target_rate_deg_per_year": self.declination_target_rate_deg_per_year,
+            "grid_length_m": self.grid_length_m,
+            "steps": self.steps,
+            "bearing_end": None if self.bearing_end is None else self.bearing_end.as_dict(),
             "warnings": list(self.warnings),
         }
 
@@ -284,6 +295,8 @@ class DocumentConversion:
     marched_stations: tuple[Station, ...] = ()
     angles: Any = None
     angles_note: str | None = None
+    notes: tuple[Note, ...] = ()
+    stated_declination_sigma_deg: float | None = None
 
     @property
     def figure_stations(self) -> tuple[Station, ...]:
@@ -311,6 +324,8 @@ class DocumentConversion:
             "target_date": when(self.target_date, self.target_year),
             "model": self.model_label,
             "crs": self.crs,
+            "grid_unit_m": self.grid_unit_m,
+            "notes": [n.as_dict() for n in self.notes],
             "courses": [c.as_dict() for c in self.courses],
         }
 
@@ -395,7 +410,8 @@ def convert_document(
         The date to convert to (date, ISO text or decimal year); default ``target.date`` of the
         document, else today (:func:`datetime.date.today`).
     model:
-        The field model for the target date (a name or ``"auto"``); default ``target.model``,
+        The field model for the target date (a name or ``"auto"``); default ``target.model``
+        when the document names one, else the record's model when it covers the target date,
         else ``"auto"``.
     record_model:
         The field model for the record date; default ``record.model``.
@@ -417,17 +433,102 @@ def convert_document(
     GridError
         The CRS cannot be built or a station lies far outside it.
     """
-    from geo import grid as _grid
-    from geo import units as _units
-    from geo.angles import normalize_azimuth
-    from geo.bearings import format_bearings
-    from geo.magnetic import field_at
+    # The stages, in the order they happen: parse, first estimate and march (geo.march),
+    # per-course figures, notes.
+    setup = _parse_stage(doc, file, target_date, model, record_model, allow_unknown_declination)
+    evaluator = _Evaluator(setup)
+    marched = _march_stage(setup, evaluator)
+    courses, stations = _course_figures(setup, marched, evaluator)
+    notes = _document_notes(setup, evaluator)
+    record_field = evaluator.record_field
+    unknown = evaluator.unknown_d1
+    return DocumentConversion(
+        document=doc,
+        file=file,
+        reference=setup.reference,
+        crs=setup.crs,
+        grid_unit_m=setup.unit_m,
+        height_m=setup.h,
+        place_by_grid=doc.place.by_grid,
+        record_date=setup.record_date,
+        record_year=setup.record_year,
+        target_date=setup.tday,
+        target_year=float(setup.tyear),
+        declination_source="stated"
+        if setup.stated is not None
+        else ("model" if evaluator.has_d1 else None),
+        stated_declination_deg=setup.stated,
+        record_model=None
+        if record_field is None or setup.stated is not None
+        else evaluator.record_model_name,
+        target_model=evaluator.target_model_name,
+        courses=courses,
+        stations=_withheld(stations) if unknown else stations,
+        warnings=messages(notes),
+        marched_stations=stations if unknown else (),
+        angles=setup.angles,
+        angles_note=setup.angles_note,
+        notes=notes,
+        stated_declination_sigma_deg=setup.stated_sigma,
+    )
+
+
+# -- parse ---------------------------------------------------------------------------------
+
+
+@dataclass
+class _Setup:
+    """Everything read from the document before the march (the parse stage)."""
+
+    doc: Document
+    file: str | None
+    courses: tuple[RecordedCourse, ...]
+    record_date: _dt.date | None
+    record_year: float | None
+    tday: _dt.date | None
+    tyear: float
+    target_model: str
+    record_model: str
+    stated: float | None
+    stated_sigma: float | None
+    reference: str
+    allow_unknown: bool
+    crs: str
+    unit_m: float
+    e0: float
+    n0: float
+    lat0: float
+    lon0: float
+    h: float
+    azimuth: np.ndarray
+    length: np.ndarray
+    angles: Any
+    angles_note: str | None
+    notes: list[Note]
+
+    @property
+    def magnetic(self) -> bool:
+        return self.reference == "magnetic"
+
+    def where(self) -> str:
+        """The key a place or grid error is reported on."""
+        return "grid.crs" if self.doc.grid else "place"
+
+
+def _parse_stage(
+    doc: Document,
+    file: str | None,
+    target_date: Any,
+    model: str | None,
+    record_model: str | None,
+    allow_unknown: bool,
+) -> _Setup:
+    """Calls, dates, models, stated declination, place and CRS, balanced angles, and the
+    notes of what was assumed (height, foot)."""
+    from geo.survey import angular_closure
 
     courses = parse_courses(doc, file=file)
     record = doc.record
-    notes: list[str] = []
-
-    # Dates and models
     record_date: _dt.date | None = None
     record_year: float | None = None
     if record.date is not None:
@@ -440,23 +541,106 @@ def convert_document(
     if target_date is None:
         target_date = _dt.date.today()
     tday, tyear = _date(target_date, file=file, field=target_field)
-    target_model_name = model or (doc.target.model if doc.target is not None else "auto")
     record_model_name = record_model or record.model
+    notes = _assumption_notes(doc, courses)
+    crs, unit_m, e0, n0, lat0, lon0 = _place(doc, file)
+    angles, angles_note = angular_closure(courses, doc, file)
+    azimuth = angles.azimuth_deg if angles is not None else [c.azimuth_deg for c in courses]
+    return _Setup(
+        doc=doc,
+        file=file,
+        courses=courses,
+        record_date=record_date,
+        record_year=record_year,
+        tday=tday,
+        tyear=float(tyear),
+        target_model=_target_model(doc, model, record_model_name, float(tyear)),
+        record_model=record_model_name,
+        stated=_stated_declination(doc, file),
+        stated_sigma=_stated_sigma(doc, file),
+        reference=record.reference,
+        allow_unknown=allow_unknown,
+        crs=crs,
+        unit_m=unit_m,
+        e0=e0,
+        n0=n0,
+        lat0=lat0,
+        lon0=lon0,
+        h=float(doc.place.height_m),
+        azimuth=np.array(azimuth, dtype=float),
+        length=np.array([c.length_m for c in courses], dtype=float),
+        angles=angles,
+        angles_note=angles_note,
+        notes=notes,
+    )
+
+
+def _assumption_notes(doc: Document, courses: tuple[RecordedCourse, ...]) -> list[Note]:
+    """Notes of what the document leaves unsaid and the conversion assumes."""
+    from geo import units as _units
+
+    notes: list[Note] = []
+    if "height_m" not in doc.place.model_fields_set:
+        notes.append(
+            Note(
+                "height_assumed",
+                "place.height_m is not given: 0 m above the ellipsoid is assumed (the "
+                "combined factor changes by about 16 ppm per 100 m of height; state it)",
+            )
+        )
+    record = doc.record
     if record.foot is None:
         try:
             choice = _units.choose_foot(None, record.date)
         except LodelineError:
             choice = None
         if choice is not None and any(_units.is_foot_based(c.length_unit) for c in courses):
-            notes.append(choice.note)
+            notes.append(Note("foot_assumed", choice.note))
+    return notes
 
-    stated = _stated_declination(doc, file)
-    need_record_model = stated is None and record_year is not None
-    magnetic = record.reference == "magnetic"
 
-    # Point of beginning and CRS
+def _target_model(doc: Document, model: str | None, record_model: str, tyear: float) -> str:
+    """The target date's model: ``model``, else the document's ``target.model`` when it names
+    one, else the record's model when it covers the target date, else ``auto``."""
+    if model:
+        return model
+    if doc.target is not None and "model" in doc.target.model_fields_set:
+        return doc.target.model
+    if record_model.strip().lower() != "auto":
+        from geo.models import resolve
+
+        with contextlib.suppress(LodelineError):
+            _, ok = resolve(record_model, np.array([tyear]))
+            if bool(ok[0]):
+                return record_model
+    return "auto"
+
+
+def _stated_sigma(doc: Document, file: str | None) -> float | None:
+    """``record.declination_sigma`` in degrees (an angle text such as ``0°15'``), or None."""
+    value = getattr(doc.record, "declination_sigma", None)
+    if value is None:
+        return None
+    from geo.bearings import parse_declination
+
+    try:
+        sigma = float(parse_declination(value))
+    except LodelineError as err:
+        raise DocumentError(err.message, file=file, field="record.declination_sigma") from None
+    if not sigma > 0.0:
+        raise DocumentError(
+            f'{value!r}: a declination uncertainty is an angle above zero (e.g. "0°15\'")',
+            file=file,
+            field="record.declination_sigma",
+        )
+    return sigma
+
+
+def _place(doc: Document, file: str | None) -> tuple[str, float, float, float, float, float]:
+    """``(crs, metres per grid unit, e0, n0, lat0, lon0)`` of the point of beginning."""
+    from geo import grid as _grid
+
     place = doc.place
-    h = float(place.height_m)
     try:
         if place.by_grid:
             crs = str(doc.grid.crs)  # the schema requires grid.crs here
@@ -469,220 +653,320 @@ def convert_document(
         e0, n0 = _grid.to_grid(crs, lat=lat0, lon=lon0)
     except LodelineError as err:
         raise err.located(file=file, field="grid.crs" if doc.grid else "place") from None
-    e0, n0, lat0, lon0 = float(e0), float(n0), float(lat0), float(lon0)
+    return str(crs), unit_m, float(e0), float(n0), float(lat0), float(lon0)
 
-    n = len(courses)
-    from geo.survey import angular_closure
 
-    angles, angles_note = angular_closure(courses, doc, file)
-    recorded = np.array(
-        angles.azimuth_deg if angles is not None else [c.azimuth_deg for c in courses],
-        dtype=float,
-    )
-    length_m = np.array([c.length_m for c in courses], dtype=float)
-    lat = np.full(n + 1, lat0)
-    lon = np.full(n + 1, lon0)
-    east = np.full(n + 1, e0)
-    north = np.full(n + 1, n0)
+# -- field and grid factors at points --------------------------------------------------------
 
-    def evaluate(which: str, name: str, year: float, lat: np.ndarray, lon: np.ndarray) -> Any:
-        when = (record_date if which == "record" else tday) or year
+
+@dataclass(frozen=True)
+class _NodeValues:
+    """Values at points: gamma (deg), combined factor, D at the record date (deg, or None);
+    with the full evaluation also the scale and elevation factors and both field views."""
+
+    gamma: np.ndarray
+    combined: np.ndarray
+    d1: np.ndarray | None
+    scale: np.ndarray | None = None
+    elevation: np.ndarray | None = None
+    record: _Split | None = None
+    target: _Split | None = None
+
+    def linear(self, de: np.ndarray | None, dn: np.ndarray | None, m: int) -> _NodeValues:
+        """For ``m`` nodes: the values at the point of beginning (``de`` None), or linear
+        in grid position from the point of beginning and the two probes (``de``, ``dn`` in
+        probe distances; see :func:`_linear`)."""
+        parts = (self.gamma, self.combined, self.d1)
+        if de is None or self.gamma.size < 3:
+            return _NodeValues(*(None if v is None else np.full(m, v[0]) for v in parts))
+        return _NodeValues(*(None if v is None else _linear(v, de, dn) for v in parts))
+
+
+class _Evaluator:
+    """Evaluates the field at both dates and the grid factors at points, remembering whether
+    D at the record date is known (a magnetic record with no model covering its date and
+    none stated is marched provisionally with the recorded bearings as true)."""
+
+    def __init__(self, setup: _Setup) -> None:
+        self.s = setup
+        self.record_usable = setup.stated is None and setup.record_year is not None
+        self.unknown_d1 = False
+        self.record_field: _Split | None = None
+        self.record_model_name: str | None = None
+        self.target_model_name = setup.target_model
+        self.unknown_note: Note | None = None
+
+    @property
+    def has_d1(self) -> bool:
+        return self.s.stated is not None or self.record_field is not None
+
+    def _field(self, which: str, name: str, year: Any, lat: np.ndarray, lon: np.ndarray) -> Any:
+        from geo.magnetic import field_at
+
+        s = self.s
+        when = (s.record_date if which == "record" else s.tday) or year
         try:
-            return field_at(lat=lat, lon=lon, year=year, height_m=h, model=name)
+            return field_at(lat=lat, lon=lon, year=year, height_m=s.h, model=name)
         except ModelRangeError as err:
-            raise _range_error(err, which=which, when=str(when), file=file, n_courses=n) from None
+            raise _range_error(
+                err, which=which, when=str(when), file=s.file, n_courses=len(s.courses)
+            ) from None
         except LodelineError as err:
-            raise err.located(file=file) from None
+            raise err.located(file=s.file) from None
 
-    record_field: _Split | None = None
-    target_field_vec: Any = None
-    d1: np.ndarray | None = None
-    record_usable = need_record_model
-    unknown_d1 = False
+    def _both(self, lat: np.ndarray, lon: np.ndarray) -> tuple[_Split | None, _Split | None]:
+        """Both dates in one evaluation when they share a model (None, None if a date is
+        not covered: the separate evaluations then say which)."""
+        from geo.magnetic import field_at
 
-    def march(gamma: np.ndarray, combined: np.ndarray, d1: np.ndarray | None) -> tuple:
-        """Stations (grid units) from the per-station gamma, combined factor and record D."""
-        if unknown_d1:
-            true = recorded  # provisional geometry only; withheld from the result below
-        elif record.reference == "magnetic":
-            true = recorded + d1[:n]
-        elif record.reference == "true":
-            true = recorded
-        else:
-            true = recorded + gamma[:n]
-        grid_az = np.asarray(normalize_azimuth(true - gamma[:n]), dtype=float)
-        step = length_m * combined[:n] / unit_m
-        e = e0 + np.concatenate([[0.0], np.cumsum(step * np.sin(np.radians(grid_az)))])
-        nn = n0 + np.concatenate([[0.0], np.cumsum(step * np.cos(np.radians(grid_az)))])
-        return e, nn, true, grid_az
-
-    # The first pass evaluates at the point of beginning and, for a first estimate of the
-    # stations, at two probes 1 km grid east and grid north of it: gamma, the combined factor
-    # and D taken as linear in grid position from these three points put the stations within
-    # a small fraction of a millimetre of where the full passes put them on a figure of a few
-    # kilometres, so the second pass (every station) usually confirms the first.
-    probe_e = np.array([e0, e0 + _PROBE_M / unit_m, e0])
-    probe_n = np.array([n0, n0, n0 + _PROBE_M / unit_m])
-    probe_lat, probe_lon = np.array([lat0]), np.array([lon0])
-    if n:
-        with contextlib.suppress(LodelineError):  # without probes: the usual passes
-            p_lat, p_lon = _grid.to_geographic(crs, easting=probe_e, northing=probe_n)
-            probe_lat = np.asarray(p_lat, dtype=float).copy()
-            probe_lon = np.asarray(p_lon, dtype=float).copy()
-            probe_lat[0], probe_lon[0] = lat0, lon0
-            if not (np.all(np.isfinite(probe_lat)) and np.all(np.isfinite(probe_lon))):
-                probe_lat, probe_lon = probe_lat[:1], probe_lon[:1]
-    for _pass in range(_MAX_PASSES):
-        at_lat, at_lon = (probe_lat, probe_lon) if _pass == 0 else (lat, lon)
-        m = at_lat.size
+        s, m = self.s, lat.size
+        if not (self.record_usable and s.record_model == s.target_model):
+            return None, None
         try:
-            factors = _grid.grid_factors(crs, lat=at_lat, lon=at_lon, height_m=h)
-        except LodelineError as err:
-            raise err.located(file=file, field="grid.crs" if doc.grid else "place") from None
-        gamma = np.broadcast_to(np.asarray(factors.convergence_deg, dtype=float), (m,))
-        combined = np.broadcast_to(np.asarray(factors.combined_factor, dtype=float), (m,))
-        record_field = None
-        if record_usable and record_model_name == target_model_name:
-            try:  # both dates at every station in one evaluation
-                both = field_at(
-                    lat=np.concatenate([at_lat, at_lat]),
-                    lon=np.concatenate([at_lon, at_lon]),
-                    year=np.concatenate([np.full(m, record_year), np.full(m, tyear)]),
-                    height_m=h,
-                    model=record_model_name,
-                )
-            except ModelRangeError:
-                both = None  # one of the dates is not covered: find out which, below
-            if both is not None:
-                record_field = _Split(both, slice(0, m))
-                target_field_vec = _Split(both, slice(m, 2 * m))
-        if record_field is None:
-            if record_usable:
-                try:
-                    record_field = _Split(
-                        evaluate("record", record_model_name, record_year, at_lat, at_lon), None
-                    )
-                except ModelRangeError:
-                    if magnetic and not allow_unknown_declination:
-                        raise
-                    record_usable = False
-                    unknown_d1 = magnetic
-                    notes.append(
-                        "no field model covers the record date and no declination is stated: "
-                        "true, grid and target-date bearings are not given (fit the "
-                        "declination from found monuments, state it, or install a model)"
-                        if magnetic
-                        else "no field model covers the record date: the magnetic bearings "
-                        "at the record date are not given"
-                    )
-            target_field_vec = _Split(
-                evaluate("target", target_model_name, tyear, at_lat, at_lon), None
+            both = field_at(
+                lat=np.concatenate([lat, lat]),
+                lon=np.concatenate([lon, lon]),
+                year=np.concatenate([np.full(m, s.record_year), np.full(m, s.tyear)]),
+                height_m=s.h,
+                model=s.record_model,
             )
-        if stated is not None:
-            d1 = np.full(m, stated)
-        elif record_field is not None:
-            d1 = np.broadcast_to(np.asarray(record_field.declination_deg, dtype=float), (m,))
+        except ModelRangeError:
+            return None, None
+        return _Split(both, slice(0, m)), _Split(both, slice(m, 2 * m))
+
+    def _record(self, lat: np.ndarray, lon: np.ndarray) -> _Split | None:
+        s = self.s
+        try:
+            return _Split(self._field("record", s.record_model, s.record_year, lat, lon), None)
+        except ModelRangeError:
+            if s.magnetic and not s.allow_unknown:
+                raise
+        self.record_usable = False
+        self.unknown_d1 = s.magnetic
+        self.unknown_note = Note(
+            "record_declination_unknown",
+            "no field model covers the record date and no declination is stated: true, grid "
+            "and target-date bearings are not given (fit the declination from found "
+            "monuments, state it, or install a model)"
+            if s.magnetic
+            else "no field model covers the record date: the magnetic bearings at the record "
+            "date are not given",
+        )
+        return None
+
+    def __call__(self, lat: np.ndarray, lon: np.ndarray) -> _NodeValues:
+        from geo import grid as _grid
+
+        s, m = self.s, lat.size
+        try:
+            factors = _grid.grid_factors(s.crs, lat=lat, lon=lon, height_m=s.h)
+        except LodelineError as err:
+            raise err.located(file=s.file, field=s.where()) from None
+        record, target = self._both(lat, lon)
+        if target is None:
+            record = self._record(lat, lon) if self.record_usable else None
+            target = _Split(self._field("target", s.target_model, s.tyear, lat, lon), None)
+        self.record_field = record
+        if record is not None:
+            self.record_model_name = record.model_name
+        self.target_model_name = target.model_name
+        if s.stated is not None:
+            d1: np.ndarray | None = np.full(m, s.stated)
+        elif record is not None:
+            d1 = np.broadcast_to(record.declination_deg, (m,))
         else:
             d1 = None
-        if _pass == 0:
-            # values at the point of beginning for every station, then linear in position
-            values = [np.full(n + 1, v[0]) for v in (gamma, combined)]
-            values.append(None if d1 is None else np.full(n + 1, d1[0]))
-            new_e, new_n, true, grid_az = march(*values)
-            if m == 3:
-                for _round in range(2):
-                    de = (new_e - e0) * (unit_m / _PROBE_M)  # in units of the probe distance
-                    dn = (new_n - n0) * (unit_m / _PROBE_M)
-                    values = [
-                        None if v is None else _linear(v, de, dn) for v in (gamma, combined, d1)
-                    ]
-                    new_e, new_n, true, grid_az = march(*values)
-            gamma, combined, d1 = values
-        else:
-            new_e, new_n, true, grid_az = march(gamma, combined, d1)
-        moved = float(np.max(np.hypot(new_e - east, new_n - north))) * unit_m if n else 0.0
-        east, north = new_e, new_n
-        if n:
-            try:
-                lat, lon = _grid.to_geographic(crs, easting=east, northing=north)
-            except LodelineError as err:
-                raise err.located(file=file, field="grid.crs" if doc.grid else "place") from None
-            lat, lon = np.asarray(lat, dtype=float), np.asarray(lon, dtype=float)
-            lat[0], lon[0] = lat0, lon0
-        if (_pass > 0 or n == 0) and moved <= _CONVERGED_M:
-            break
 
-    if (
-        record_field is not None
-        and stated is None
-        and record_field.model_name != target_field_vec.model_name
-    ):
-        notes.append(
-            f"the record date uses {record_field.model_name} and the target date "
-            f"{target_field_vec.model_name}: the change of D between them includes the "
-            "difference of the two models, not only the change of the field"
+        def full(v: Any) -> np.ndarray:
+            return np.broadcast_to(np.asarray(v, dtype=float), (m,))
+
+        return _NodeValues(
+            full(factors.convergence_deg),
+            full(factors.combined_factor),
+            d1,
+            full(factors.scale_factor),
+            full(factors.elevation_factor),
+            record,
+            target,
         )
-    stations = tuple(
-        Station(i, float(lat[i]), float(lon[i]), float(east[i]), float(north[i]))
-        for i in range(n + 1)
+
+
+# -- the march ----------------------------------------------------------------------------
+
+
+def _march_stage(setup: _Setup, evaluate: _Evaluator) -> Any:
+    """The stations and the nodes between them (:func:`geo.march.march`)."""
+    from geo import grid as _grid
+    from geo.march import march
+
+    s = setup
+
+    def to_geographic(e: np.ndarray, n: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        try:
+            lat, lon = _grid.to_geographic(s.crs, easting=e, northing=n)
+        except LodelineError as err:
+            raise err.located(file=s.file, field=s.where()) from None
+        lat = np.atleast_1d(np.asarray(lat, dtype=float)).copy()
+        lon = np.atleast_1d(np.asarray(lon, dtype=float)).copy()
+        lat[0], lon[0] = s.lat0, s.lon0
+        return lat, lon
+
+    return march(
+        reference=s.reference,
+        azimuth_deg=s.azimuth,
+        length_m=s.length,
+        e0=s.e0,
+        n0=s.n0,
+        lat0=s.lat0,
+        lon0=s.lon0,
+        unit_m=s.unit_m,
+        evaluate=evaluate,
+        to_geographic=to_geographic,
+        probes=_probes(s) if s.courses else None,
     )
-    d2 = np.asarray(target_field_vec.declination_deg, dtype=float)
-    sigma2 = np.asarray(target_field_vec.declination_sigma_deg, dtype=float)
-    if record_field is not None and stated is None:
-        sigma1 = np.asarray(record_field.declination_sigma_deg, dtype=float)
-    else:
-        sigma1 = np.full(n + 1, np.nan)
-    true = np.asarray(normalize_azimuth(true), dtype=float) if n else np.zeros(0)
-    if unknown_d1:
-        mag1 = np.asarray(normalize_azimuth(recorded), dtype=float) if n else np.zeros(0)
-    else:
-        mag1 = None if d1 is None else np.asarray(normalize_azimuth(true - d1[:n]), dtype=float)
-    mag2 = np.asarray(normalize_azimuth(true - d2[:n]), dtype=float)
 
-    found = _found_stations(doc, courses, crs, file)
-    # Per-course values as Python floats, read once (the same doubles as float(array[i])).
-    mag1_l = None if mag1 is None else mag1.tolist()
-    true_l, grid_l, mag2_l = true.tolist(), grid_az.tolist(), mag2.tolist()
-    d1_l = None if d1 is None else d1.tolist()
-    d2_l, gamma_l, combined_l = d2.tolist(), gamma.tolist(), combined.tolist()
-    sigma1_l = [_finite_or_none(v) for v in sigma1.tolist()]
-    sigma2_l = [_finite_or_none(v) for v in sigma2.tolist()]
-    scale_l = np.asarray(factors.scale_factor, dtype=float).tolist()
-    elevation_l = np.asarray(factors.elevation_factor, dtype=float).tolist()
-    record_warnings = record_field.warnings_list(n) if record_field is not None else [()] * n
-    target_warnings = target_field_vec.warnings_list(n)
-    # Bearing texts: the recorded reference at the call's precision, the others at the call's
-    # but never coarser than a minute.
-    own = [rc.precision_deg for rc in courses]
+
+def _probes(s: _Setup) -> tuple[np.ndarray, np.ndarray] | None:
+    """Lat/lon of the point of beginning and of two probes 1 km grid east and north of it
+    (None when they cannot be projected: the usual passes then start from the point of
+    beginning alone)."""
+    from geo import grid as _grid
+    from geo.march import PROBE_M
+
+    step = PROBE_M / s.unit_m
+    try:
+        lat, lon = _grid.to_geographic(
+            s.crs,
+            easting=np.array([s.e0, s.e0 + step, s.e0]),
+            northing=np.array([s.n0, s.n0, s.n0 + step]),
+        )
+    except LodelineError:
+        return None
+    lat, lon = np.asarray(lat, dtype=float).copy(), np.asarray(lon, dtype=float).copy()
+    lat[0], lon[0] = s.lat0, s.lon0
+    if not (np.all(np.isfinite(lat)) and np.all(np.isfinite(lon))):
+        return None
+    return lat, lon
+
+
+# -- per-course figures -----------------------------------------------------------------------
+
+
+def _withheld(stations: tuple[Station, ...]) -> tuple[Station, ...]:
+    """The stations with every one after the point of beginning NaN (D unknown)."""
+    nan = math.nan
+    return stations[:1] + tuple(Station(s.index, nan, nan, nan, nan) for s in stations[1:])
+
+
+@dataclass(frozen=True)
+class _Directions:
+    """Azimuths (degrees) of every course in each north at a set of nodes."""
+
+    mag1: np.ndarray | None
+    true: np.ndarray | None
+    grid: np.ndarray | None
+    mag2: np.ndarray | None
+
+
+def _directions(s: _Setup, v: _NodeValues, at: np.ndarray, unknown: bool) -> _Directions:
+    """The course azimuths with D, gamma at the nodes ``at`` (one node per course)."""
+    from geo.angles import normalize_azimuth
+
+    def norm(a: np.ndarray) -> np.ndarray:
+        return np.asarray(normalize_azimuth(a), dtype=float)
+
+    rec = s.azimuth
+    if unknown:
+        return _Directions(norm(rec), None, None, None)
+    gamma = v.gamma[at]
+    d1 = None if v.d1 is None else v.d1[at]
+    if s.reference == "magnetic":
+        true = rec + d1
+    elif s.reference == "true":
+        true = rec
+    else:
+        true = rec + gamma
+    d2 = np.asarray(v.target.declination_deg, dtype=float)[at]
+    return _Directions(
+        None if d1 is None else norm(true - d1), norm(true), norm(true - gamma), norm(true - d2)
+    )
+
+
+def _texts(s: _Setup, d: _Directions) -> _Directions:
+    """Bearing texts: the recorded reference at the call's precision, the others at the
+    call's but never coarser than a minute."""
+    from geo.bearings import format_bearings
+
+    own = [rc.precision_deg for rc in s.courses]
     derived = [min(p, _DERIVED_PRECISION_DEG) for p in own]
-    reference = record.reference
-    mag1_t = None if mag1 is None else format_bearings(mag1, precision=own if magnetic else derived)
-    true_t = format_bearings(true, precision=own if reference == "true" else derived)
-    grid_t = format_bearings(grid_az, precision=own if reference == "grid" else derived)
-    mag2_t = format_bearings(mag2, precision=derived)
-    out: list[CourseConversion] = []
-    marched = stations if unknown_d1 else ()
-    if unknown_d1:
-        true_l = grid_l = mag2_l = [None] * n
-        true_t = grid_t = mag2_t = [None] * n
-        stations = stations[:1] + tuple(
-            Station(i, math.nan, math.nan, math.nan, math.nan) for i in range(1, n + 1)
-        )
-    for i, rc in enumerate(courses):
-        az = References(
-            None if mag1_l is None else mag1_l[i],
-            true_l[i],
-            grid_l[i],
-            mag2_l[i],
-        )
-        text = References(None if mag1_t is None else mag1_t[i], true_t[i], grid_t[i], mag2_t[i])
-        rec_w, tgt_w = record_warnings[i], target_warnings[i]
-        if rec_w or tgt_w:
-            listed = [f"record date: {w}" for w in rec_w]
-            listed += [f"target date: {w}" for w in tgt_w]
-            warnings = tuple(dict.fromkeys(listed))
-        else:
-            warnings = ()
+
+    def text(a: np.ndarray | None, recorded: bool) -> list[str] | None:
+        return None if a is None else format_bearings(a, precision=own if recorded else derived)
+
+    return _Directions(
+        text(d.mag1, s.magnetic),
+        text(d.true, s.reference == "true"),
+        text(d.grid, s.reference == "grid"),
+        text(d.mag2, False),
+    )
+
+
+def _column(values: Any, at: np.ndarray) -> list[Any]:
+    """``values[at]`` as Python floats (None where not finite); ``[None]*`` when absent."""
+    if values is None:
+        return [None] * at.size
+    return [_finite_or_none(v) for v in np.asarray(values, dtype=float)[at].tolist()]
+
+
+def _course_figures(
+    s: _Setup, marched: Any, evaluator: _Evaluator
+) -> tuple[tuple[CourseConversion, ...], tuple[Station, ...]]:
+    """Stations, and per course: lengths, D, gamma, factors and rates at its start, its
+    bearings in every north (at its start, and at its end when the target bearing differs
+    there by more than the precision shown), its marched path and the warnings."""
+    from geo.march import node_distance_m
+
+    lay = marched.layout
+    o = lay.offsets
+    n = len(s.courses)
+    stations = tuple(
+        Station(i, *(float(a[o[i]]) for a in (marched.lat, marched.lon, marched.east,
+                                              marched.north)))
+        for i in range(n + 1)
+    )  # fmt: skip
+    v = marched.values
+    unknown = evaluator.unknown_d1
+    start, end = o[:-1], o[1:]
+    az, az_end = _directions(s, v, start, unknown), _directions(s, v, end, unknown)
+    text, text_end = _texts(s, az), _texts(s, az_end)
+    grid_len = np.add.reduceat(marched.grid_step_m, start) if n else np.zeros(0)
+    along = node_distance_m(lay, s.length)
+    rec, tgt = v.record, v.target
+    columns = {
+        "d1": _column(v.d1, start),
+        "d2": _column(tgt.declination_deg, start),
+        "s1": _column(None if rec is None or s.stated is not None else
+                      rec.declination_sigma_deg, start),
+        "s2": _column(tgt.declination_sigma_deg, start),
+        "r1": _column(None if rec is None or s.stated is not None else
+                      rec.declination_rate_deg_per_year, start),
+        "r2": _column(tgt.declination_rate_deg_per_year, start),
+        "gamma": _column(v.gamma, start),
+        "scale": _column(v.scale, start),
+        "elev": _column(v.elevation, start),
+        "k": _column(v.combined, start),
+    }  # fmt: skip
+    found = _found_stations(s.doc, s.courses, s.crs, s.file)
+    out = []
+    for i, rc in enumerate(s.courses):
+        path = None
+        if lay.steps[i] > 1 and s.reference != "grid":
+            nodes = slice(o[i], o[i + 1] + 1)
+            path = CoursePath(
+                tuple(along[nodes][:-1].tolist()) + (rc.length_m,),
+                tuple(marched.east[nodes].tolist()),
+                tuple(marched.north[nodes].tolist()),
+            )
         out.append(
             CourseConversion(
                 index=rc.index,
@@ -691,49 +975,155 @@ def convert_document(
                 length_m=rc.length_m,
                 length_value=rc.length_value,
                 length_unit=rc.length_unit,
-                grid_length_m=rc.length_m * combined_l[i],
+                grid_length_m=float(grid_len[i]),
                 start=stations[i],
                 end=stations[i + 1],
-                declination_record_deg=None if d1_l is None else d1_l[i],
-                declination_target_deg=d2_l[i],
-                declination_record_sigma_deg=sigma1_l[i],
-                declination_target_sigma_deg=sigma2_l[i],
-                convergence_deg=gamma_l[i],
-                scale_factor=scale_l[i],
-                elevation_factor=elevation_l[i],
-                combined_factor=combined_l[i],
-                azimuth=az,
-                bearing=text,
+                declination_record_deg=columns["d1"][i],
+                declination_target_deg=columns["d2"][i],
+                declination_record_sigma_deg=columns["s1"][i],
+                declination_target_sigma_deg=columns["s2"][i],
+                convergence_deg=columns["gamma"][i],
+                scale_factor=columns["scale"][i],
+                elevation_factor=columns["elev"][i],
+                combined_factor=columns["k"][i],
+                azimuth=_refs(az, i),
+                bearing=_refs(text, i),
                 found=found[i],
-                warnings=warnings,
+                warnings=_course_warnings(rec, tgt, start[i]),
+                path_nodes=path,
+                declination_record_rate_deg_per_year=columns["r1"][i],
+                declination_target_rate_deg_per_year=columns["r2"][i],
+                steps=int(lay.steps[i]),
+                azimuth_end=_refs(az_end, i),
+                bearing_end=_end_text(text, text_end, az, az_end, rc, i),
             )
         )
-    return DocumentConversion(
-        document=doc,
-        file=file,
-        reference=record.reference,
-        crs=str(crs),
-        grid_unit_m=unit_m,
-        height_m=h,
-        place_by_grid=place.by_grid,
-        record_date=record_date,
-        record_year=record_year,
-        target_date=tday,
-        target_year=float(tyear),
-        declination_source="stated"
-        if stated is not None
-        else ("model" if d1 is not None else None),
-        stated_declination_deg=stated,
-        record_model=None
-        if record_field is None or stated is not None
-        else record_field.model_name,
-        target_model=target_field_vec.model_name,
-        courses=tuple(out),
-        stations=stations,
-        warnings=tuple(dict.fromkeys(notes)),
-        marched_stations=marched,
-        angles=angles,
-        angles_note=angles_note,
+    return tuple(out), stations
+
+
+def _refs(d: _Directions, i: int) -> References:
+    def pick(a: Any) -> Any:
+        if a is None:
+            return None
+        return float(a[i]) if isinstance(a, np.ndarray) else a[i]
+
+    return References(pick(d.mag1), pick(d.true), pick(d.grid), pick(d.mag2))
+
+
+def _end_text(
+    text: _Directions,
+    text_end: _Directions,
+    az: _Directions,
+    az_end: _Directions,
+    rc: RecordedCourse,
+    i: int,
+) -> References | None:
+    """The bearing texts at the course's end when its magnetic (target) azimuth there
+    differs from the one at its start by more than the precision it is shown to."""
+    from geo.angles import angle_difference
+
+    if az.mag2 is None:
+        return None
+    shown = min(rc.precision_deg, _DERIVED_PRECISION_DEG)
+    if abs(float(angle_difference(az_end.mag2[i], az.mag2[i]))) <= shown:
+        return None
+    return _refs(text_end, i)
+
+
+def _course_warnings(rec: _Split | None, tgt: _Split, node: int) -> tuple[str, ...]:
+    """Compass-reliability warnings of the field at a course's starting node."""
+    listed = [f"record date: {w}" for w in (rec.warnings_at(node) if rec is not None else ())]
+    listed += [f"target date: {w}" for w in tgt.warnings_at(node)]
+    return tuple(dict.fromkeys(listed))
+
+
+# -- notes ------------------------------------------------------------------------------------
+
+
+def _document_notes(s: _Setup, evaluator: _Evaluator) -> tuple[Note, ...]:
+    """The document's notes: assumptions (parse), a record date no model covers, forecast
+    fields, and record and target on different models (with the size of the difference)."""
+    notes = list(s.notes)
+    if evaluator.unknown_note is not None:
+        notes.append(evaluator.unknown_note)
+    used = []
+    if evaluator.record_field is not None and s.stated is None:
+        used.append(("record", evaluator.record_model_name, s.record_year))
+    used.append(("target", evaluator.target_model_name, s.tyear))
+    for which, name, year in used:
+        note = _forecast_note(which, str(name), float(year))
+        if note is not None:
+            notes.append(note)
+    if (
+        evaluator.record_field is not None
+        and s.stated is None
+        and evaluator.record_model_name != evaluator.target_model_name
+    ):
+        notes.append(
+            _models_differ_note(s, evaluator.record_model_name, evaluator.target_model_name)
+        )
+    return tuple(dict.fromkeys(notes))
+
+
+#: Last definitive epoch of the shipped IGRF (IGRF-14: DGRF to 2020.0; the 2025 main field is
+#: provisional and its secular variation to 2030 a prediction; IAGA V-MOD's release notes).
+_IGRF_DEFINITIVE_TO = 2020.0
+_IGRF_MAIN_TO = 2025.0
+
+
+def _forecast_note(which: str, name: str, year: float) -> Note | None:
+    """A ``forecast_field`` note when the field at ``year`` is a model's forecast."""
+    key = name.lower()
+    if key.startswith("wmm"):
+        return Note(
+            "forecast_field",
+            f"{which} date: {name} is a predictive model; its field after 2025.0 is a "
+            "forecast of the change (WMM2025 technical report)",
+        )
+    if "igrf14" in key and year >= _IGRF_MAIN_TO:
+        return Note(
+            "forecast_field",
+            f"{which} date {year:.2f}: IGRF-14 after 2025.0 is its predicted secular "
+            "variation, a forecast (its last definitive epoch is 2020.0)",
+        )
+    if "igrf14" in key and year >= _IGRF_DEFINITIVE_TO:
+        return Note(
+            "forecast_field",
+            f"{which} date {year:.2f}: IGRF-14 between 2020.0 and 2025.0 is provisional "
+            "(its last definitive epoch is 2020.0)",
+        )
+    return None
+
+
+def _models_differ_note(s: _Setup, record_name: Any, target_name: Any) -> Note:
+    """Record and target dates on different models, with the difference of their D at the
+    point of beginning at the date nearest the target date both cover."""
+    from geo.magnetic import field_at
+    from geo.models import load_model
+
+    head = (
+        f"the record date uses {record_name} and the target date {target_name}: the change "
+        "of D between them includes the difference of the two models, not only the change "
+        "of the field"
+    )
+    try:
+        a, b = load_model(str(record_name)), load_model(str(target_name))
+        lo, hi = max(a.start, b.start), min(a.end, b.end)
+        if lo >= hi:
+            return Note("models_differ", f"{head} (the two models share no date to compare)")
+        year = min(max(s.tyear, lo), hi - 1e-6)
+        d = [
+            float(field_at(lat=s.lat0, lon=s.lon0, year=year, height_m=s.h,
+                           model=str(m)).declination_deg)
+            for m in (record_name, target_name)
+        ]  # fmt: skip
+    except LodelineError:
+        return Note("models_differ", head)
+    diff = d[1] - d[0]
+    return Note(
+        "models_differ",
+        f"{head}: at the point of beginning in {year:.1f} they differ by {diff * 60:+.1f}′ "
+        f"({diff:+.4f}°)",
     )
 
 
@@ -765,6 +1155,10 @@ class _Split:
     @property
     def declination_sigma_deg(self) -> np.ndarray:
         return self._take(self._field.declination_sigma_deg)
+
+    @property
+    def declination_rate_deg_per_year(self) -> np.ndarray:
+        return self._take(self._field.declination_rate_deg_per_year)
 
     @property
     def model_name(self) -> str:

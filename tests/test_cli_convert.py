@@ -16,7 +16,7 @@ DEMOS = sorted((Path(__file__).parents[1] / "demo_traverses").glob("*.toml"))
 WOODLOT = next(d for d in DEMOS if "woodlot" in d.name)
 
 # The keys of the issue that defines `lodeline convert --json`.
-TOP_KEYS = {"record_date", "target_date", "model", "crs", "courses"}
+TOP_KEYS = {"record_date", "target_date", "model", "crs", "grid_unit_m", "notes", "courses"}
 COURSE_KEYS = {
     "index",
     "call",
@@ -30,6 +30,11 @@ COURSE_KEYS = {
     "azimuth",
     "bearing",
     "declination_sigma_deg",
+    "declination_record_rate_deg_per_year",
+    "declination_target_rate_deg_per_year",
+    "grid_length_m",
+    "steps",
+    "bearing_end",
     "warnings",
 }
 AZIMUTH_KEYS = {"magnetic_record_deg", "true_deg", "grid_deg", "magnetic_target_deg"}

@@ -57,8 +57,10 @@ def render(result: Any, title: str | None = None) -> str:
     if title:
         lines.append(title)
     lines.append(
-        f"north: {result.north} (recorded azimuths turned {result.rotation_deg:+.4f} deg); "
-        f"adjustment: {result.adjustment}; lengths are recorded ground lengths, metres"
+        f"north: {result.north} at the point of beginning (the marched figure turned "
+        f"{result.rotation_deg:+.4f} deg from grid north); adjustment: {result.adjustment}; "
+        "ground metres (the marched figure reduced by its mean combined factor "
+        f"{result.combined_factor:.8f})"
     )
     lines.append("")
     rows = [["#", "bearing", "length", "latitude", "departure", "corr lat", "corr dep"]]
