@@ -28,6 +28,8 @@ Schema, format_version 1 (every table and key below; any other key is an error):
                                   # required when reference = magnetic
     declination = "auto"          # auto (field model), or the stated declination:
                                   # "3°10' W" or a number of degrees, east positive
+    declination_sigma = "0°15'"   # optional: 1-sigma uncertainty of the declination, used
+                                  # where the model publishes none (or D is stated)
     model = "auto"                # field model for the record date, or auto
     distance_unit = "perch"       # unit of calls that give none (optional)
     foot = "us"                   # us | international (optional; default by the date)
@@ -244,6 +246,7 @@ class Record(_Table):
     reference: Literal["magnetic", "true", "grid"] = "magnetic"
     date: DateText = None
     declination: Annotated[float | str, BeforeValidator(_number_or_text)] = "auto"
+    declination_sigma: Annotated[float | str | None, BeforeValidator(_number_or_text)] = None
     model: Annotated[str, BeforeValidator(_text)] = "auto"
     distance_unit: Text = None
     foot: Literal["us", "international"] | None = None

@@ -1204,14 +1204,20 @@ def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
         row = ["POB" if s.index == 0 else str(s.index), f"{u.north_m:+,.3f}", f"{u.east_m:+,.3f}"]
         if adjusted:
             row += [f"{s.north_m:+,.3f}", f"{s.east_m:+,.3f}"]
-        rows.append((*row, f"±{b.total_m:.2f}"))
+        rows.append((*row, f"±{b.total_m:.2f}" if b.total_m is not None else "unknown"))
     headers = ("station", "north m", "east m")
     if adjusted:
         headers += ("adj. north m", "adj. east m")
-    if clo.declination_sigma_deg:
-        dec = f"and the model's declination uncertainty ±{clo.declination_sigma_deg:.2f}°"
+    if clo.declination_term == "unknown":
+        dec = (
+            "(the declination's uncertainty is unknown: none published or stated, so the "
+            "total is unknown, not zero)"
+        )
+    elif clo.declination_sigma_deg:
+        source = "stated" if clo.declination_term == "stated" else "the model's"
+        dec = f"and {source} declination uncertainty ±{clo.declination_sigma_deg:.2f}°"
     else:
-        dec = "(no declination uncertainty published or applicable)"
+        dec = "(no declination enters a true or grid record)"
     out.append(
         Table(
             (*headers, "±1σ m"),

@@ -389,13 +389,15 @@ class LocalAttractionResult:
 @dataclass(frozen=True)
 class BudgetStation:
     """Position uncertainty of one station (1σ, metres): from the bearing readings, from the
-    declination, and both combined; ``distance_m`` from the point of beginning."""
+    declination, and both combined; ``distance_m`` from the point of beginning.
+    ``declination_m`` and ``total_m`` are ``None`` when the declination's uncertainty is
+    unknown (see :func:`declination_term`)."""
 
     index: int
     distance_m: float
     bearing_m: float
-    declination_m: float
-    total_m: float
+    declination_m: float | None
+    total_m: float | None
 
 
 @dataclass(frozen=True)
@@ -431,6 +433,7 @@ class SurveyClosure:
     attraction: LocalAttractionResult | None
     bearing_sigma_deg: float
     declination_sigma_deg: float | None
+    declination_term: str
     budget: tuple[BudgetStation, ...]
     combined_factor: float
     grid_unit_m: float
@@ -523,6 +526,7 @@ class SurveyClosure:
             "error_budget": {
                 "bearing_sigma_deg": self.bearing_sigma_deg,
                 "declination_sigma_deg": self.declination_sigma_deg,
+                "declination_term": self.declination_term,
                 "stations": [
                     {
                         "index": b.index,
@@ -834,6 +838,22 @@ def _area(
     )
 
 
+def declination_term(conv: DocumentConversion) -> tuple[str, float | None]:
+    """``(source, sigma_deg)`` of the declination term of the error budget: ``"model"`` (the
+    model's published 1σ at the record date at the point of beginning), ``"stated"``
+    (``record.declination_sigma``), ``"unknown"`` (a magnetic record with neither: the term
+    is unknown, not zero) or ``"not applicable"`` (a true or grid record: D does not enter
+    the figure)."""
+    if conv.reference != "magnetic":
+        return "not applicable", None
+    published = conv.courses[0].declination_record_sigma_deg if conv.courses else None
+    if conv.declination_source == "model" and published is not None:
+        return "model", float(published)
+    if conv.stated_declination_sigma_deg is not None:
+        return "stated", float(conv.stated_declination_sigma_deg)
+    return "unknown", None
+
+
 def _budget(
     conv: DocumentConversion, plane: PlaneFigure, bearing_sigma_deg: float | None
 ) -> tuple[float, float | None, tuple[BudgetStation, ...]]:
@@ -842,9 +862,7 @@ def _budget(
 
     if bearing_sigma_deg is None:
         bearing_sigma_deg = 0.5 * max(c.recorded.precision_deg for c in conv.courses)
-    dec_sigma = None
-    if conv.reference == "magnetic" and conv.declination_source == "model":
-        dec_sigma = conv.courses[0].declination_record_sigma_deg
+    source, dec_sigma = declination_term(conv)
     try:
         eb = tv.error_budget(
             plane.azimuth_deg,
@@ -861,6 +879,8 @@ def _budget(
         _float_list(eb.total_m),
         strict=True,
     )
+    if source == "unknown":  # the declination term and so the total are not known
+        rows = ((d, b, None, None) for d, b, _, _ in rows)
     budget = tuple(BudgetStation(i, d, b, dm, t) for i, (d, b, dm, t) in enumerate(rows))
     return float(bearing_sigma_deg), dec_sigma, budget
 
@@ -935,6 +955,13 @@ def close_document(
     else:
         notes.append("open traverse (closed = false): no misclosure, adjustment or area")
     sigma, dec_sigma, budget = _budget(conv, plane, bearing_sigma_deg)
+    term = declination_term(conv)[0]
+    if term == "unknown":
+        notes.append(
+            "error budget: the declination's uncertainty is unknown (the model publishes none "
+            "and record.declination_sigma is not given), so the declination term and the "
+            "total are unknown, not zero"
+        )
     return SurveyClosure(
         file=conv.file,
         closed=closed,
@@ -957,6 +984,7 @@ def close_document(
         attraction=_attraction(conv, attraction_tolerance_deg),
         bearing_sigma_deg=sigma,
         declination_sigma_deg=dec_sigma,
+        declination_term=term,
         budget=budget,
         combined_factor=plane.factor,
         grid_unit_m=conv.grid_unit_m,

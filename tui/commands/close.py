@@ -141,15 +141,18 @@ def render(result: Any, title: str | None = None) -> str:
         lines += table(rows, right={0, 1})
     if result.budget:
         last = result.budget[-1]
-        lines.append(
-            f"error budget: bearings +-{result.bearing_sigma_deg:.3f} deg"
-            + (
-                f", declination +-{result.declination_sigma_deg:.3f} deg"
-                if result.declination_sigma_deg is not None
-                else ", declination uncertainty: none published"
-            )
-            + f"; last station +-{last.total_m:.2f} m (1 sigma)"
+        term = result.declination_term
+        dec = {
+            "unknown": ", declination uncertainty unknown (none published or stated)",
+            "not applicable": " (no declination enters a true or grid record)",
+        }.get(term, f", declination +-{result.declination_sigma_deg:.3f} deg ({term})")
+        total = (
+            f"; last station +-{last.total_m:.2f} m (1 sigma)"
+            if last.total_m is not None
+            else f"; last station +-{last.bearing_m:.2f} m from the bearings alone, the "
+            "declination term unknown"
         )
+        lines.append(f"error budget: bearings +-{result.bearing_sigma_deg:.3f} deg{dec}{total}")
     return finish(lines, result.notes)
 
 

@@ -91,6 +91,7 @@ def render(conv: Any) -> str:
                 "D record",
                 "D target",
                 "gamma",
+                "dD/dt",
                 "D sigma",
             ]
         ]
@@ -109,18 +110,27 @@ def render(conv: Any) -> str:
                     _deg(c.declination_record_deg),
                     _deg(c.declination_target_deg),
                     _deg(c.convergence_deg, 4),
+                    _rate(c.declination_target_rate_deg_per_year),
                     "none published"
                     if c.declination_target_sigma_deg is None
                     else f"{c.declination_target_sigma_deg:.3f}",
                 ]
             )
-        lines += text_table(rows, right={0, 2, 3, 8, 9, 10})
+        lines += text_table(rows, right={0, 2, 3, 8, 9, 10, 11})
         lines.append("")
         lines.append(
             "D east positive (true = magnetic + D); gamma: true north to grid north, clockwise "
             "(grid = true - gamma); degrees. Combined factor at the point of beginning "
-            f"{conv.courses[0].combined_factor:.8f}."
+            f"{conv.courses[0].combined_factor:.8f}. dD/dt: yearly change of D at the target "
+            "date, minutes of arc a year."
         )
+        for c in conv.courses:
+            if c.bearing_end is not None:
+                lines.append(
+                    f"course {c.index}: the line keeps its recorded bearing; magnetic (target) "
+                    f"{c.bearing.magnetic_target} at its start, {c.bearing_end.magnetic_target} "
+                    f"at its end (true {c.bearing.true} to {c.bearing_end.true})"
+                )
     notes = list(conv.warnings)
     for c in conv.courses:
         notes += [f"course {c.index}: {w}" for w in c.warnings]
@@ -128,6 +138,10 @@ def render(conv: Any) -> str:
         lines.append(f"note: {note}")
     lines.append(SHORT_CAUTION)
     return "\n".join(lines) + "\n"
+
+
+def _rate(deg_per_year: float | None) -> str:
+    return "-" if deg_per_year is None else f"{deg_per_year * 60:+.2f}′"
 
 
 def _unit_name(crs: str) -> str:
