@@ -915,7 +915,31 @@ def _column(values: Any, at: np.ndarray) -> list[Any]:
     """``values[at]`` as Python floats (None where not finite); ``[None]*`` when absent."""
     if values is None:
         return [None] * at.size
-    return [_finite_or_none(v) for v in np.asarray(values, dtype=float)[at].tolist()]
+    picked = np.asarray(values, dtype=float)[at]
+    if np.all(np.isfinite(picked)):
+        return picked.tolist()
+    return [_finite_or_none(v) for v in picked.tolist()]
+
+
+def _lists(d: _Directions) -> tuple[list[Any], ...]:
+    """Each north's values as a list (Python floats or texts; ``None`` entries if absent)."""
+
+    def listed(a: Any) -> list[Any] | None:
+        if a is None:
+            return None
+        return a.tolist() if isinstance(a, np.ndarray) else list(a)
+
+    return tuple(listed(a) for a in (d.mag1, d.true, d.grid, d.mag2))
+
+
+def _ref(lists: tuple[list[Any] | None, ...], i: int) -> References:
+    a, b, c, d = lists
+    return References(
+        None if a is None else a[i],
+        None if b is None else b[i],
+        None if c is None else c[i],
+        None if d is None else d[i],
+    )
 
 
 def _course_figures(
@@ -929,16 +953,17 @@ def _course_figures(
     lay = marched.layout
     o = lay.offsets
     n = len(s.courses)
-    stations = tuple(
-        Station(i, *(float(a[o[i]]) for a in (marched.lat, marched.lon, marched.east,
-                                              marched.north)))
-        for i in range(n + 1)
-    )  # fmt: skip
+    columns_at = zip(*(a[o].tolist() for a in (marched.lat, marched.lon, marched.east,
+                                                marched.north)), strict=True)  # fmt: skip
+    stations = tuple(Station(i, la, lo, e, no) for i, (la, lo, e, no) in enumerate(columns_at))
     v = marched.values
     unknown = evaluator.unknown_d1
     start, end = o[:-1], o[1:]
     az, az_end = _directions(s, v, start, unknown), _directions(s, v, end, unknown)
-    text, text_end = _texts(s, az), _texts(s, az_end)
+    text = _texts(s, az)
+    ends = _ends(s, az, az_end)
+    az_l, az_end_l, text_l = _lists(az), _lists(az_end), _lists(text)
+    warnings = _warnings_at(rec_of(marched), marched.values.target, start)
     grid_len = np.add.reduceat(marched.grid_step_m, start) if n else np.zeros(0)
     along = node_distance_m(lay, s.length)
     rec, tgt = v.record, v.target
@@ -986,55 +1011,63 @@ def _course_figures(
                 scale_factor=columns["scale"][i],
                 elevation_factor=columns["elev"][i],
                 combined_factor=columns["k"][i],
-                azimuth=_refs(az, i),
-                bearing=_refs(text, i),
+                azimuth=_ref(az_l, i),
+                bearing=_ref(text_l, i),
                 found=found[i],
-                warnings=_course_warnings(rec, tgt, start[i]),
+                warnings=warnings[i],
                 path_nodes=path,
                 declination_record_rate_deg_per_year=columns["r1"][i],
                 declination_target_rate_deg_per_year=columns["r2"][i],
                 steps=int(lay.steps[i]),
-                azimuth_end=_refs(az_end, i),
-                bearing_end=_end_text(text, text_end, az, az_end, rc, i),
+                azimuth_end=_ref(az_end_l, i),
+                bearing_end=ends.get(i),
             )
         )
     return tuple(out), stations
 
 
-def _refs(d: _Directions, i: int) -> References:
-    def pick(a: Any) -> Any:
-        if a is None:
-            return None
-        return float(a[i]) if isinstance(a, np.ndarray) else a[i]
-
-    return References(pick(d.mag1), pick(d.true), pick(d.grid), pick(d.mag2))
+def rec_of(marched: Any) -> _Split | None:
+    """The record-date field of the march's last evaluation (None without one)."""
+    return marched.values.record
 
 
-def _end_text(
-    text: _Directions,
-    text_end: _Directions,
-    az: _Directions,
-    az_end: _Directions,
-    rc: RecordedCourse,
-    i: int,
-) -> References | None:
-    """The bearing texts at the course's end when its magnetic (target) azimuth there
-    differs from the one at its start by more than the precision it is shown to."""
+def _ends(s: _Setup, az: _Directions, az_end: _Directions) -> dict[int, References]:
+    """Bearing texts at the end of the courses whose magnetic (target) azimuth there differs
+    from the one at their start by more than the precision it is shown to."""
     from geo.angles import angle_difference
 
-    if az.mag2 is None:
-        return None
-    shown = min(rc.precision_deg, _DERIVED_PRECISION_DEG)
-    if abs(float(angle_difference(az_end.mag2[i], az.mag2[i]))) <= shown:
-        return None
-    return _refs(text_end, i)
+    if az.mag2 is None or az_end.mag2 is None or not s.courses:
+        return {}
+    shown = np.minimum([rc.precision_deg for rc in s.courses], _DERIVED_PRECISION_DEG)
+    turned = np.abs(np.asarray(angle_difference(az_end.mag2, az.mag2), dtype=float))
+    which = np.flatnonzero(turned > shown)
+    if which.size == 0:
+        return {}
+    sub = _Directions(
+        *(
+            None if a is None else a[which]
+            for a in (az_end.mag1, az_end.true, az_end.grid, az_end.mag2)
+        )
+    )
+    picked = _Setup.__new__(_Setup)
+    picked.__dict__.update(s.__dict__)
+    picked.courses = tuple(s.courses[k] for k in which.tolist())
+    texts = _lists(_texts(picked, sub))
+    return {int(k): _ref(texts, j) for j, k in enumerate(which.tolist())}  # fmt: skip
 
 
-def _course_warnings(rec: _Split | None, tgt: _Split, node: int) -> tuple[str, ...]:
-    """Compass-reliability warnings of the field at a course's starting node."""
-    listed = [f"record date: {w}" for w in (rec.warnings_at(node) if rec is not None else ())]
-    listed += [f"target date: {w}" for w in tgt.warnings_at(node)]
-    return tuple(dict.fromkeys(listed))
+def _warnings_at(rec: _Split | None, tgt: _Split, nodes: np.ndarray) -> list[tuple[str, ...]]:
+    """Compass-reliability warnings of the field at each course's starting node."""
+    out: list[tuple[str, ...]] = []
+    quiet_rec = rec is None or rec.quiet()
+    quiet_tgt = tgt.quiet()
+    if quiet_rec and quiet_tgt:
+        return [()] * nodes.size
+    for node in nodes.tolist():
+        listed = [] if quiet_rec else [f"record date: {w}" for w in rec.warnings_at(node)]
+        listed += [] if quiet_tgt else [f"target date: {w}" for w in tgt.warnings_at(node)]
+        out.append(tuple(dict.fromkeys(listed)))
+    return out
 
 
 # -- notes ------------------------------------------------------------------------------------
@@ -1177,6 +1210,14 @@ class _Split:
         if isinstance(item, str):
             return (item,)
         return tuple(str(w) for w in item or ())
+
+    def quiet(self) -> bool:
+        """Whether no point of this view has a warning (the usual case)."""
+        warnings = self._field.warnings
+        if not isinstance(warnings, tuple):
+            return False
+        part = warnings[self._part]
+        return part.count(()) == len(part)
 
     def warnings_list(self, count: int) -> list[tuple[str, ...]]:
         """``[warnings_at(i) for i in range(count)]``, without a call per point when the
