@@ -22,7 +22,15 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from geo.errors import InputError
-from geo.models import load_model, require
+from geo.models import (
+    BLEND_END,
+    BLEND_START,
+    blend_label,
+    blend_parts,
+    blend_weight,
+    load_model,
+    require,
+)
 from geo.synthesis import synthesize
 
 #: Horizontal intensity below which compass readings need caution, nT (WMM caution zone).
@@ -181,6 +189,12 @@ def field_at(
     else:
         warn = ((),) * size
     model_out: str | tuple[str, ...] = unique[0] if len(unique) == 1 else tuple(names.tolist())
+    if any(blend_parts(u) is not None for u in unique):  # blends are named with their weights
+        labels = [
+            blend_label(nm, yr) if blend_parts(nm) is not None else nm
+            for nm, yr in zip(names.tolist(), flat[3].tolist(), strict=True)
+        ]
+        model_out = labels[0] if len(set(labels)) == 1 else tuple(labels)
 
     def shaped(a: NDArray[np.float64]) -> NDArray[np.float64]:
         return a.reshape(shape)
@@ -225,6 +239,9 @@ def _components(
     """X, Y, Z (geodetic north, east, down, nT) and their yearly rates at flat points, shape
     (6, points), from model ``name`` (:func:`geo.synthesis.synthesize`)."""
 
+    parts = blend_parts(name)
+    if parts is not None:
+        return _blended(parts, lat, lon, h, year)
     model = load_model(name)
 
     def synthesized(at: tuple[NDArray[np.float64], ...]) -> NDArray[np.float64]:
@@ -248,6 +265,26 @@ def _components(
         for i, values in zip(missing, fresh, strict=True):
             found[i] = memo[keys[i]] = tuple(values)
     return np.array(found, dtype=float).reshape(-1, 6).T
+
+
+def _blended(
+    parts: tuple[str, str],
+    lat: NDArray[np.float64],
+    lon: NDArray[np.float64],
+    h: NDArray[np.float64],
+    year: NDArray[np.float64],
+) -> NDArray[np.float64]:
+    """Components of a blend (:func:`geo.models.blend_key`): the field is linear in the
+    Gauss coefficients, so blending the coefficients with weights w and 1 - w is blending
+    X, Y, Z; the rates add the change of the weight, dw/dt (A - B)."""
+    a = _components(parts[0], lat, lon, h, year)
+    b = _components(parts[1], lat, lon, h, year)
+    w = blend_weight(year)
+    inside = (year >= BLEND_START) & (year < BLEND_END)
+    dw = np.where(inside, -1.0 / (BLEND_END - BLEND_START), 0.0)
+    out = w * a + (1.0 - w) * b
+    out[3:] += dw * (a[:3] - b[:3])
+    return out
 
 
 def _warnings(h_nt: float) -> tuple[str, ...]:

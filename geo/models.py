@@ -24,6 +24,7 @@ from importlib import resources
 from pathlib import Path
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from geo.errors import InputError, ModelFileError, ModelRangeError
 from geo.synthesis import SphericalHarmonicModel
@@ -172,11 +173,47 @@ def _range_error(year: float, what: str, index: int | None) -> ModelRangeError:
     return err
 
 
+#: Under ``auto`` a historical model hands over to IGRF-14 across this interval (decimal
+#: years): their Gauss coefficients are blended linearly, the historical model's weight going
+#: from 1 at the start to 0 at the end (geo/data/SOURCES.md says why these years).
+BLEND_START, BLEND_END = 1900.0, 1910.0
+_BLEND_SEP = "+"
+
+
+def blend_key(historical: str) -> str:
+    """The name ``field_at`` resolves for a blend of ``historical`` into the default model."""
+    return f"{historical}{_BLEND_SEP}{DEFAULT_MODEL}"
+
+
+def blend_parts(name: str) -> tuple[str, str] | None:
+    """``(historical, default)`` of a blend name (:func:`blend_key`), else ``None``."""
+    if _BLEND_SEP not in name:
+        return None
+    first, second = name.split(_BLEND_SEP, 1)
+    return first, second.split(" ", 1)[0]
+
+
+def blend_weight(year: ArrayLike) -> np.ndarray:
+    """Weight of the historical model at ``year`` (1 at :data:`BLEND_START`, 0 at
+    :data:`BLEND_END`, linear between; the default model has ``1 - weight``)."""
+    y = np.asarray(year, dtype=float)
+    return np.clip((BLEND_END - y) / (BLEND_END - BLEND_START), 0.0, 1.0)
+
+
+def blend_label(key: str, year: float) -> str:
+    """The model as every output names it: ``"gufm1+igrf14 (0.40/0.60)"``."""
+    w = float(blend_weight(year))
+    return f"{key} ({w:.2f}/{1.0 - w:.2f})"
+
+
 def resolve(name: str, years: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Choose a model for every decimal year.
 
     Returns ``(names, ok)``: an array of model names (``''`` where none covers the date) and a
-    boolean mask of the years that are covered. ``name`` is a model name or ``auto``.
+    boolean mask of the years that are covered. ``name`` is a model name or ``auto``. Under
+    ``auto``, a date in [:data:`BLEND_START`, :data:`BLEND_END`) gets a blend name
+    (:func:`blend_key`) when a historical model covering it is installed; a model named
+    explicitly is never blended.
     """
     yrs = np.asarray(years, dtype=float)
     names = np.full(yrs.shape, "", dtype=object)
@@ -191,8 +228,18 @@ def resolve(name: str, years: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     inside = (yrs >= default.start) & (yrs < default.end)
     names[inside] = DEFAULT_MODEL
     ok |= inside
-    if not ok.all():
+    blending = inside & (yrs < BLEND_END)
+    users = None
+    if blending.any():
         users = sorted(user_models(), key=lambda i: (i.name != PREFERRED_HISTORICAL, i.name))
+        for info in users:
+            model = load_model(info)
+            if model.start <= BLEND_START and model.end >= BLEND_END:
+                names[blending] = blend_key(info.name)
+                break
+    if not ok.all():
+        if users is None:
+            users = sorted(user_models(), key=lambda i: (i.name != PREFERRED_HISTORICAL, i.name))
         for info in users:
             model = load_model(info)
             take = ~ok & (yrs >= model.start) & (yrs < model.end) & (yrs < default.start)

@@ -307,6 +307,17 @@ class DocumentConversion:
         return self.marched_stations or self.stations
 
     @property
+    def record_model_query(self) -> str:
+        """The model name to ask :func:`geo.magnetic.field_at` for at the record date to get
+        the field this conversion used (a blend is asked for as ``auto``)."""
+        return _query(self.record_model or self.document.record.model)
+
+    @property
+    def target_model_query(self) -> str:
+        """The same for the target date."""
+        return _query(self.target_model)
+
+    @property
     def model_label(self) -> str:
         """The model(s) used, as one text: ``"IGRF14"`` or ``"gufm1 (record), IGRF14 (target)"``."""
         if self.record_model is None or self.record_model == self.target_model:
@@ -331,6 +342,14 @@ class DocumentConversion:
 
 
 # --------------------------------------------------------------------------------------------
+
+
+def _query(name: str) -> str:
+    """A model name ``field_at`` accepts: a blend label (``gufm1+igrf14 (0.40/0.60)``) came
+    from ``auto``."""
+    from geo.models import blend_parts
+
+    return "auto" if blend_parts(name) is not None else name
 
 
 def _first_model(model: Any) -> str:
@@ -1087,6 +1106,16 @@ def _document_notes(s: _Setup, evaluator: _Evaluator) -> tuple[Note, ...]:
         note = _forecast_note(which, str(name), float(year))
         if note is not None:
             notes.append(note)
+        if "+" in str(name):
+            notes.append(
+                Note(
+                    "blended_models",
+                    f"{which} date: the field is {name}: under auto the historical model "
+                    "hands over to IGRF-14 across 1900-1910, their Gauss coefficients blended "
+                    "linearly with these weights (historical/IGRF-14); a model named "
+                    "explicitly is never blended",
+                )
+            )
     if (
         evaluator.record_field is not None
         and s.stated is None

@@ -684,10 +684,9 @@ def _field_columns(conv: Any) -> list[_FieldColumn]:
     from geo.magnetic import field_at
 
     p0 = conv.stations[0]
-    doc = conv.document
     wanted: list[tuple[str, float, str]] = []
     if conv.record_year is not None:
-        name = conv.record_model or doc.record.model
+        name = conv.record_model_query
         wanted.append(
             (f"record date {_when(conv.record_date, conv.record_year)}", conv.record_year, name)
         )
@@ -695,7 +694,7 @@ def _field_columns(conv: Any) -> list[_FieldColumn]:
         (
             f"target date {_when(conv.target_date, conv.target_year)}",
             conv.target_year,
-            conv.target_model,
+            conv.target_model_query,
         )
     )
     out = []

@@ -1086,7 +1086,7 @@ def _model_declination(
         return None, None
     from geo.magnetic import field_at
 
-    name = conv.record_model or conv.document.record.model
+    name = conv.record_model_query
     try:
         fv = field_at(lat=lat, lon=lon, year=conv.record_year, height_m=conv.height_m, model=name)
     except ModelRangeError:

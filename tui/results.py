@@ -348,7 +348,7 @@ def _field_panel(conv: Any) -> PanelText:
         dates.append(
             (f"record {conv.record_date or conv.record_year}", conv.record_year, doc.record.model)
         )
-    target_model = doc.target.model if doc.target is not None else "auto"
+    target_model = conv.target_model_query  # the conversion's (it follows the record's)
     dates.append((f"target {conv.target_date or conv.target_year}", conv.target_year, target_model))
     if conv.declination_source == "stated":
         lines.append(f"record: D {_deg(conv.stated_declination_deg)} stated")

@@ -142,10 +142,12 @@ def render(result: Any, title: str | None = None) -> str:
     if result.budget:
         last = result.budget[-1]
         term = result.declination_term
-        dec = {
-            "unknown": ", declination uncertainty unknown (none published or stated)",
-            "not applicable": " (no declination enters a true or grid record)",
-        }.get(term, f", declination +-{result.declination_sigma_deg:.3f} deg ({term})")
+        if term == "unknown":
+            dec = ", declination uncertainty unknown (none published or stated)"
+        elif term == "not applicable":
+            dec = " (no declination enters a true or grid record)"
+        else:
+            dec = f", declination +-{result.declination_sigma_deg:.3f} deg ({term})"
         total = (
             f"; last station +-{last.total_m:.2f} m (1 sigma)"
             if last.total_m is not None
