@@ -806,23 +806,45 @@ def collect_report(
     document (crossing courses, too few found stations...) becomes a note in the report;
     bad input raises the core's :class:`~geo.errors.LodelineError`.
     """
-    from geo import survey
-    from geo.errors import DocumentError, LodelineError
+    from geo.errors import DocumentError
 
     doc = conv.document
     if not conv.courses:
         raise DocumentError("has no courses: nothing to report", file=conv.file, field="course")
     title = doc.title or (conv.file or "Traverse")
-    blocks: list[Block] = []
-    blocks.append(
+    # The sections in the order they are read: cautions, place, dates and declinations,
+    # warnings, the field, the courses, closure and fit, notes.
+    blocks: list[Block] = [
         Paragraph(
             "Retracement report: the calls of the record in magnetic, true and "
             "grid bearings, with the closure of the figure."
-        )
-    )
-    blocks.append(Notice("Cautions", (CAUTIONS,), kind="caution"))
+        ),
+        Notice("Cautions", (CAUTIONS,), kind="caution"),
+    ]
+    columns = _field_columns(conv)
+    blocks += _place_blocks(conv)
+    blocks += _dates_blocks(conv)
+    blocks += _warning_blocks(conv, columns)
+    blocks += _field_blocks(conv, columns)
+    blocks += _course_blocks(conv)
+    survey_blocks, closure, survey_error = _survey_blocks(conv, adjust)
+    blocks += survey_blocks
+    when = generated or _dt.date.today()
+    blocks += _notes_blocks(conv, when)
 
-    # Place
+    return Report(
+        title=title,
+        blocks=tuple(blocks),
+        conversion=conv,
+        survey=closure,
+        survey_error=survey_error,
+        generated=when,
+    )
+
+
+def _place_blocks(conv: Any) -> list[Block]:
+    """The point of beginning, its grid and factors."""
+    blocks: list[Block] = []
     p0 = conv.stations[0]
     first = conv.courses[0]
     unit = "m" if abs(conv.grid_unit_m - 1.0) < 1e-12 else f"units of {conv.grid_unit_m:.10g} m"
@@ -853,8 +875,14 @@ def collect_report(
         )
     )
 
-    # Dates, model, declinations
-    rec = doc.record
+    return blocks
+
+
+def _dates_blocks(conv: Any) -> list[Block]:
+    """Record and target dates, the model(s) and the declinations."""
+    blocks: list[Block] = []
+    first = conv.courses[0]
+    rec = conv.document.record
     blocks.append(Heading("Dates, model and declinations"))
     if conv.declination_source == "stated":
         d1_text = (
@@ -906,10 +934,15 @@ def collect_report(
             "(grid = true − γ)."
         )
     )
+    return blocks
+
+
+def _warning_blocks(conv: Any, columns: Sequence[_FieldColumn]) -> list[Block]:
+    """Every note of the conversion and compass-reliability warning."""
+    blocks: list[Block] = []
     warnings = list(conv.warnings)
     for c in conv.courses:
         warnings += [f"course {c.index}: {w}" for w in c.warnings]
-    columns = _field_columns(conv)
     warnings += [
         f"field at the point of beginning, {col.label}: {col.error}" for col in columns if col.error
     ]
@@ -923,7 +956,12 @@ def collect_report(
             )
         )
 
-    # Field vector
+    return blocks
+
+
+def _field_blocks(conv: Any, columns: Sequence[_FieldColumn]) -> list[Block]:
+    """The field vector and the north diagram at the point of beginning."""
+    blocks: list[Block] = []
     blocks.append(Heading("The field at the point of beginning"))
     blocks.append(
         Paragraph(
@@ -946,7 +984,12 @@ def collect_report(
         )
     )
 
-    # Courses
+    return blocks
+
+
+def _course_blocks(conv: Any) -> list[Block]:
+    """The courses in every north reference and their per-course figures."""
+    blocks: list[Block] = []
     blocks.append(Heading("Courses in every north reference"))
     rows = []
     for c in conv.courses:
@@ -1018,7 +1061,15 @@ def collect_report(
         )
     )
 
-    # Closure
+    return blocks
+
+
+def _survey_blocks(conv: Any, adjust: str | None) -> tuple[list[Block], Any, str | None]:
+    """The closure (or why it was not computed) and the record-to-found fit."""
+    from geo import survey
+    from geo.errors import LodelineError
+
+    blocks: list[Block] = []
     survey_error = None
     closure = None
     try:
@@ -1043,29 +1094,39 @@ def collect_report(
         else:
             blocks += _fit_blocks(conv, fit)
 
+    return blocks, closure, survey_error
+
+
+def _notes_blocks(conv: Any, when: _dt.date) -> list[Block]:
+    """The notes the document carries, and the closing line with the cautions."""
+    blocks: list[Block] = []
     blocks.append(Heading("Notes"))
     note_rows = tuple((str(c.index), c.recorded.note) for c in conv.courses if c.recorded.note)
     if note_rows:
         blocks.append(Table(("#", "note in the document"), note_rows, right=frozenset({0})))
     else:
         blocks.append(Paragraph("The document carries no notes."))
-    when = generated or _dt.date.today()
     blocks.append(Paragraph(f"Report made {when.isoformat()} by lodeline. {CAUTIONS}"))
-    return Report(
-        title=title,
-        blocks=tuple(blocks),
-        conversion=conv,
-        survey=closure,
-        survey_error=survey_error,
-        generated=when,
-    )
+    return blocks
 
 
 def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
-    from geo.bearings import format_bearing
+    """The closure section: facts, sketch, latitudes and departures, stations, attraction."""
+    return [
+        *_closure_facts(conv, clo),
+        *_closure_sketch(clo),
+        *_closure_tables(clo),
+        *_attraction_blocks(conv, clo),
+    ]
 
+
+_NORTH_NAMES = {"true": "true north", "grid": "grid north", "magnetic": "magnetic north (record)"}
+
+
+def _closure_facts(conv: Any, clo: Any) -> list[Block]:
+    """Misclosure, precision, adjustment, area, angular misclosure and the closure's notes."""
     out: list[Block] = [Heading("Closure, adjustment and area")]
-    north = {"true": "true north", "grid": "grid north", "magnetic": "magnetic north (record)"}
+    north = _NORTH_NAMES
     facts: list[tuple[str, str]] = [
         (
             "figure",
@@ -1138,6 +1199,13 @@ def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
     if clo.notes:
         out.append(Notice("Closure notes", tuple(clo.notes)))
 
+    return out
+
+
+def _closure_sketch(clo: Any) -> list[Block]:
+    """The sketch of the marched figure, adjusted beside it, and the misclosure."""
+    out: list[Block] = []
+    north = _NORTH_NAMES
     ua = clo.unadjusted_stations
     adj_n = [s.north_m for s in clo.stations]
     adj_e = [s.east_m for s in clo.stations]
@@ -1158,13 +1226,21 @@ def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
     out.append(
         Figure(
             svg,
-            f"Sketch of the record figure, ground lengths along {north.get(clo.north, clo.north)} "
-            f"azimuths, north up, scale 1:{scale.ratio:,.0f} when printed "
-            f"{FIGURE_WIDTH_MM:g} mm wide. " + gap,
+            f"Sketch of the marched figure (the stations every output shows, reduced to the "
+            f"ground), {north.get(clo.north, clo.north)} up, scale 1:{scale.ratio:,.0f} when "
+            f"printed {FIGURE_WIDTH_MM:g} mm wide. " + gap,
             "traverse-sketch",
         )
     )
 
+    return out
+
+
+def _closure_tables(clo: Any) -> list[Block]:
+    """Latitudes and departures per course; stations with their uncertainty."""
+    out: list[Block] = []
+    north = _NORTH_NAMES
+    ua = clo.unadjusted_stations
     adjusted = clo.closed and clo.adjustment != "none"
     rows = []
     for c in clo.courses:
@@ -1229,6 +1305,14 @@ def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
             f"±{clo.bearing_sigma_deg:.3f}° {dec}.",
         )
     )
+    return out
+
+
+def _attraction_blocks(conv: Any, clo: Any) -> list[Block]:
+    """Local attraction from the fore and back bearings."""
+    from geo.bearings import format_bearing
+
+    out: list[Block] = []
     att = clo.attraction
     if att is not None:
         out.append(Heading("Local attraction (fore and back bearings)", level=3))

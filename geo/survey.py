@@ -807,6 +807,21 @@ def _stations(north_m: Any, east_m: Any, rotation: float) -> tuple[ClosureStatio
     )
 
 
+def _misclosure(adj: _Adjusted, rotation: float, perimeter_m: float) -> tuple[Any, ...]:
+    """``(north, east, length, azimuth, precision)`` of the gap from the point of beginning
+    to the marched closing station, in the chosen north (all ``None`` for an open traverse;
+    zero components and ``None`` direction and precision for a figure that closes exactly)."""
+    from geo.traverse import azimuth_of
+
+    clo = adj.closure
+    if clo is None:
+        return None, None, None, None, None
+    if not clo.misclosure_m:
+        return 0.0, 0.0, clo.misclosure_m, None, None
+    n, e = (float(v) for v in _turned(clo.misclosure_north_m, clo.misclosure_east_m, rotation))
+    return n, e, clo.misclosure_m, float(azimuth_of(n, e)), perimeter_m / clo.misclosure_m
+
+
 def _area(
     conv: DocumentConversion, adj: _Adjusted, plane: PlaneFigure, notes: list[str]
 ) -> tuple[AreaFigures | None, tuple[int, int] | None]:
@@ -922,8 +937,6 @@ def close_document(
     InputError
         Unknown ``north``/``adjust``, or magnetic north asked of a record that has none.
     """
-    from geo.traverse import azimuth_of
-
     if not conv.courses:
         from geo.errors import DocumentError
 
@@ -938,19 +951,10 @@ def close_document(
     plane = plane_figure(conv)
     adj = _adjusted(conv, plane, adjust)
     courses = _closure_courses(conv, north, adj, plane, rotation)
-    mis_n = mis_e = mis = mis_az = precision = None
-    area = crossing = None
     perimeter = math.fsum(plane.recorded_length_m.tolist())
+    mis_n, mis_e, mis, mis_az, precision = _misclosure(adj, rotation, perimeter)
+    area = crossing = None
     if adj.closure is not None:
-        clo = adj.closure
-        mis = clo.misclosure_m
-        if mis:
-            mis_n, mis_e = (float(v) for v in _turned(clo.misclosure_north_m,
-                                                      clo.misclosure_east_m, rotation))  # fmt: skip
-            mis_az = float(azimuth_of(mis_n, mis_e))
-            precision = perimeter / mis
-        else:
-            mis_n = mis_e = 0.0
         area, crossing = _area(conv, adj, plane, notes)
     else:
         notes.append("open traverse (closed = false): no misclosure, adjustment or area")
