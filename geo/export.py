@@ -383,7 +383,7 @@ def geojson_collection(
         "area_acres": None if area is None else area.acres,
         "grid_area_m2": None if area is None else area.grid_m2,
         "crossing_courses": None if clo.crossing is None else list(clo.crossing),
-        "notes": [*conv.warnings, *clo.notes],
+        "notes": [n.as_dict() for n in clo.note_objects],
         "cautions": CAUTIONS,
     }
     return {"type": "FeatureCollection", "properties": properties, "features": features}

@@ -19,12 +19,11 @@ CODES: dict[str, str] = {
     "blended_models": "the field is a blend of two models across their hand-over",
     "models_differ": "the record and target dates use different models",
     "record_declination_unknown": "no model covers the record date and none is stated",
-    "declination_sigma_unknown": "no uncertainty of the declination is published or stated",
-    "angles_balanced": "azimuths carried from course 1 with the balanced angles",
+    "angles_balanced": "the figure's azimuths are carried with the balanced angles",
     "angles_not_balanced": "angles are given but give no angular misclosure",
     "open_traverse": "an open traverse has no misclosure, adjustment or area",
     "no_area": "the figure has no area (its courses cross, or too few enclose nothing)",
-    "fit": "a remark on the record-to-found fit",
+    "declination_sigma_unknown": "no uncertainty of the declination is published or stated",
 }
 
 

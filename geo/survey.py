@@ -111,6 +111,7 @@ from typing import TYPE_CHECKING, Any, Literal
 import numpy as np
 
 from geo.errors import FitError, InputError, LodelineError, ModelRangeError, TraverseError
+from geo.notes import Note, messages
 
 if TYPE_CHECKING:
     from geo.north import DocumentConversion
@@ -410,6 +411,10 @@ class SurveyClosure:
     the misclosure direction also when the misclosure is zero. ``area`` is ``None`` as well
     when the courses cross (``crossing``) or fewer than three courses enclose nothing
     (``notes`` says why). ``stations`` are adjusted, ``unadjusted_stations`` as marched.
+    ``notes`` are the closure's notes as text; ``note_objects`` the conversion's notes and
+    the closure's as :class:`geo.notes.Note` (the JSON's ``notes``). ``declination_term`` is
+    :func:`declination_term`'s source; ``combined_factor`` the figure's one factor and
+    ``grid_unit_m`` the grid's metres per unit.
     """
 
     file: str | None
@@ -438,6 +443,7 @@ class SurveyClosure:
     combined_factor: float
     grid_unit_m: float
     notes: tuple[str, ...]
+    note_objects: tuple[Note, ...] = ()
 
     @property
     def latitudes_m(self) -> tuple[float, ...]:
@@ -538,7 +544,7 @@ class SurveyClosure:
                     for b in self.budget
                 ],
             },
-            "notes": list(self.notes),
+            "notes": [n.as_dict() for n in self.note_objects],
         }
 
 
@@ -823,7 +829,7 @@ def _misclosure(adj: _Adjusted, rotation: float, perimeter_m: float) -> tuple[An
 
 
 def _area(
-    conv: DocumentConversion, adj: _Adjusted, plane: PlaneFigure, notes: list[str]
+    conv: DocumentConversion, adj: _Adjusted, plane: PlaneFigure, notes: list[Note]
 ) -> tuple[AreaFigures | None, tuple[int, int] | None]:
     """Shoelace area of the adjusted plane figure (ground), and the grid area."""
     from geo import traverse as tv
@@ -832,10 +838,10 @@ def _area(
     try:
         fa = tv.figure_area(adj.north_m, adj.east_m, foot=foot)
     except tv.SelfCrossingError as err:
-        notes.append(err.message)
+        notes.append(Note("no_area", err.message))
         return None, tuple(err.courses)
     except TraverseError as err:
-        notes.append(err.message)
+        notes.append(Note("no_area", err.message))
         return None, None
     cf = plane.factor
     return (
@@ -944,9 +950,13 @@ def close_document(
     closed = bool(conv.document.closed)
     adjust = resolve_adjustment(conv, adjust)
     rotation = _north_rotation(conv, north)
-    notes: list[str] = [conv.angles_note] if conv.angles_note else []
+    notes: list[Note] = []
+    if conv.angles_note:
+        notes.append(Note("angles_not_balanced", conv.angles_note))
     if conv.angles is not None:
-        notes.append("azimuths carried from course 1 with the balanced angles")
+        notes.append(
+            Note("angles_balanced", "azimuths carried from course 1 with the balanced angles")
+        )
     # Stages, in order: the plane figure, its adjustment, the courses, area, attraction, budget.
     plane = plane_figure(conv)
     adj = _adjusted(conv, plane, adjust)
@@ -957,14 +967,22 @@ def close_document(
     if adj.closure is not None:
         area, crossing = _area(conv, adj, plane, notes)
     else:
-        notes.append("open traverse (closed = false): no misclosure, adjustment or area")
+        notes.append(
+            Note(
+                "open_traverse",
+                "open traverse (closed = false): no misclosure, adjustment or area",
+            )
+        )
     sigma, dec_sigma, budget = _budget(conv, plane, bearing_sigma_deg)
     term = declination_term(conv)[0]
     if term == "unknown":
         notes.append(
-            "error budget: the declination's uncertainty is unknown (the model publishes none "
-            "and record.declination_sigma is not given), so the declination term and the "
-            "total are unknown, not zero"
+            Note(
+                "declination_sigma_unknown",
+                "error budget: the declination's uncertainty is unknown (the model publishes "
+                "none and record.declination_sigma is not given), so the declination term and "
+                "the total are unknown, not zero",
+            )
         )
     return SurveyClosure(
         file=conv.file,
@@ -992,7 +1010,8 @@ def close_document(
         budget=budget,
         combined_factor=plane.factor,
         grid_unit_m=conv.grid_unit_m,
-        notes=tuple(notes),
+        notes=messages(notes),
+        note_objects=(*conv.notes, *notes),
     )
 
 

@@ -239,6 +239,10 @@ def test_the_budget_says_the_declination_term_is_unknown_not_zero():
     assert data["stations"][-2]["declination_m"] is None
     assert data["stations"][-2]["total_m"] is None
     assert any("unknown, not zero" in n for n in clo.notes)
+    notes = clo.as_dict()["notes"]
+    assert all(set(n) == {"code", "message"} for n in notes)
+    assert "declination_sigma_unknown" in [n["code"] for n in notes]
+    assert "forecast_field" not in [n["code"] for n in notes]  # 2020: IGRF-14 definitive
 
 
 def test_a_stated_declination_sigma_is_used_where_the_model_publishes_none():
