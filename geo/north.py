@@ -1142,13 +1142,13 @@ def _forecast_note(which: str, name: str, year: float) -> Note | None:
             f"{which} date: {name} is a predictive model; its field after 2025.0 is a "
             "forecast of the change (WMM2025 technical report)",
         )
-    if "igrf14" in key and year >= _IGRF_MAIN_TO:
+    if "igrf14" in key and year > _IGRF_MAIN_TO:
         return Note(
             "forecast_field",
             f"{which} date {year:.2f}: IGRF-14 after 2025.0 is its predicted secular "
             "variation, a forecast (its last definitive epoch is 2020.0)",
         )
-    if "igrf14" in key and year >= _IGRF_DEFINITIVE_TO:
+    if "igrf14" in key and year > _IGRF_DEFINITIVE_TO:
         return Note(
             "forecast_field",
             f"{which} date {year:.2f}: IGRF-14 between 2020.0 and 2025.0 is provisional "
