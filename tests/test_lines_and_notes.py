@@ -142,13 +142,14 @@ def test_a_long_course_states_its_target_bearing_at_both_ends():
 # -- point 5: the target model follows the record ------------------------------------------
 
 
+def _recorded_on(model):
+    place = {"lat": 47.0, "lon": -91.0, "height_m": 0.0}
+    return doc([{"bearing": "N 35 E", "distance": 100.0}], date="2025-06-01", model=model,
+               place=place)  # fmt: skip
+
+
 def test_target_uses_the_record_model_when_it_covers_the_target_date():
-    d = doc(
-        [{"bearing": "N 35 E", "distance": 100.0}],
-        date="2025-06-01",
-        model="WMMHR2025",
-        place={"lat": 47.0, "lon": -91.0, "height_m": 0.0},
-    )
+    d = _recorded_on("WMMHR2025")
     conv = convert_document(d, target_date="2025-06-13")
     assert conv.target_model == conv.record_model == "wmmhr2025"
     # twelve days of secular variation: well under a minute of arc (common practice: D
@@ -166,13 +167,7 @@ def test_target_uses_the_record_model_when_it_covers_the_target_date():
 def test_target_falls_back_to_auto_outside_the_record_model():
     # WMM2025 begins at 2025.0: a target date of 2024 falls back to auto (IGRF-14), and the
     # note says the two dates use different models.
-    d = doc(
-        [{"bearing": "N 35 E", "distance": 100.0}],
-        date="2025-06-01",
-        model="wmm2025",
-        place={"lat": 47.0, "lon": -91.0, "height_m": 0.0},
-    )
-    conv = convert_document(d, target_date="2024-01-01")
+    conv = convert_document(_recorded_on("wmm2025"), target_date="2024-01-01")
     assert conv.record_model == "wmm2025" and conv.target_model == "igrf14"
     assert "models_differ" in codes(conv)
 

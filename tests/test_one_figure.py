@@ -127,13 +127,18 @@ def test_exported_grid_coordinates_match_exported_lonlat(tmp_path, capsys):
     # Independent: pyproj's own transformer from the exported lon/lat to the exported CRS.
     path = _docs(tmp_path)[0]
     data, stations = _export(path, tmp_path, capsys, "compass")
+    _assert_grid_is_lonlat(data, stations)
+
+
+def _assert_grid_is_lonlat(data, stations):
+    # Independent: pyproj's own transformer from the exported lon/lat to the exported CRS.
     to_grid = Transformer.from_crs("EPSG:4326", data["properties"]["crs"], always_xy=True)
     for s in stations:
         lon, lat = s["geometry"]["coordinates"]
         e, n = to_grid.transform(lon, lat)
+        assert math.isfinite(e) and math.isfinite(n)
         assert e == pytest.approx(s["properties"]["easting"], abs=2e-3)
         assert n == pytest.approx(s["properties"]["northing"], abs=2e-3)
-        assert math.isfinite(e)
 
 
 def _angle_square_toml() -> str:
@@ -158,13 +163,7 @@ def test_a_record_by_angles_exports_one_figure(adjust, tmp_path, capsys):
     path = tmp_path / "angles.toml"
     path.write_text(_angle_square_toml(), encoding="utf-8")
     data, stations = _export(path, tmp_path, capsys, adjust)
-    # Independent: pyproj's transformer from each exported lon/lat to the exported CRS.
-    to_grid = Transformer.from_crs("EPSG:4326", data["properties"]["crs"], always_xy=True)
-    for s in stations:
-        lon, lat = s["geometry"]["coordinates"]
-        e, n = to_grid.transform(lon, lat)
-        assert e == pytest.approx(s["properties"]["easting"], abs=2e-3)
-        assert n == pytest.approx(s["properties"]["northing"], abs=2e-3)
+    _assert_grid_is_lonlat(data, stations)
     clo = _close(path, capsys, "--adjust", adjust)
     assert clo["angular_misclosure"]["misclosure_deg"] == pytest.approx(0.5, abs=1e-12)
     if adjust == "none":
