@@ -1010,7 +1010,8 @@ def close_document(
         budget=budget,
         combined_factor=plane.factor,
         grid_unit_m=conv.grid_unit_m,
-        notes=messages(notes),
+        # the budget's own note is said where the budget is shown (close, report, JSON)
+        notes=messages([n for n in notes if n.code != "declination_sigma_unknown"]),
         note_objects=(*conv.notes, *notes),
     )
 

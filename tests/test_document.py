@@ -230,7 +230,8 @@ def test_not_utf8(tmp_path):
 
 
 def test_schema_keys_are_those_of_format_version_1():
-    # The keys of the issue that introduced the format, plus target/angle/angles (documented).
+    # The keys of the issue that introduced the format, plus target/angle/angles and
+    # record.declination_sigma (documented; optional, so every older document still reads).
     assert list(Document.model_fields) == [
         "format_version",
         "title",
@@ -248,6 +249,7 @@ def test_schema_keys_are_those_of_format_version_1():
         "reference",
         "date",
         "declination",
+        "declination_sigma",
         "model",
         "distance_unit",
         "foot",

@@ -233,7 +233,7 @@ def test_the_budget_says_the_declination_term_is_unknown_not_zero():
     assert data["declination_term"] == "unknown" and data["declination_sigma_deg"] is None
     assert data["stations"][-2]["declination_m"] is None
     assert data["stations"][-2]["total_m"] is None
-    assert any("unknown, not zero" in n for n in clo.notes)
+    assert any("unknown, not zero" in n.message for n in clo.note_objects)
     notes = clo.as_dict()["notes"]
     assert all(set(n) == {"code", "message"} for n in notes)
     assert "declination_sigma_unknown" in [n["code"] for n in notes]
