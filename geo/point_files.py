@@ -169,13 +169,12 @@ def _column(header: list[str], names: tuple[str, ...]) -> int | None:
 
 
 def _csv_rows(text: str, file: str | None) -> list[list[str]]:
-    sample = text[:4096]
+    # the separator is the one the header row uses most (names in the rows may hold any)
+    header = next((line for line in text.splitlines() if line.strip()), "")
+    delimiter = max(",;\t", key=header.count)
     try:
-        dialect: Any = csv.Sniffer().sniff(sample, delimiters=",;\t")
-    except csv.Error:
-        dialect = csv.excel
-    try:
-        rows = [r for r in csv.reader(io.StringIO(text), dialect) if any(c.strip() for c in r)]
+        rows = [r for r in csv.reader(io.StringIO(text), delimiter=delimiter)
+                if any(c.strip() for c in r)]  # fmt: skip
     except csv.Error as exc:
         raise InputError(f"is not readable CSV: {exc}", file=file) from None
     if not rows:
