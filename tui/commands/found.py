@@ -35,8 +35,12 @@ def register(subparsers: Any) -> None:
         metavar="CRS",
         help="CRS of the file's easting/northing (default: the document's grid)",
     )
-    p.add_argument("--match", choices=("name", "nearest"), default="name",
-                   help="match by name or number (default), or by the nearest marched station")  # fmt: skip
+    p.add_argument(
+        "--match",
+        choices=("name", "nearest"),
+        default="name",
+        help="match by name or number (default), or by the nearest marched station",
+    )
     p.add_argument(
         "--within",
         nargs="+",
