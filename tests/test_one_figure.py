@@ -8,6 +8,7 @@ beginning; the compass rule distributes it in proportion to the course lengths).
 
 from __future__ import annotations
 
+import datetime
 import json
 import math
 from pathlib import Path
@@ -203,3 +204,37 @@ def test_grid_coordinates_carry_their_unit(tmp_path, capsys):
     assert all(f["properties"]["grid_unit"] == "us_ft" for f in points)
     text = _run(["convert", str(path)], capsys)
     assert "us_ft)" in text
+
+
+def _walked_gap(lat, lon, year, side_m, step_m):
+    """The square walked independently: pyproj geodesic steps, each along the true azimuth
+    magnetic + D with D from the field model at the step's middle (the line a compass runs);
+    returns the gap between the end and the beginning (metres, on the ellipsoid)."""
+    from geo.magnetic import field_at
+
+    lon0, lat0 = lon, lat
+    for mag in (10.0, 100.0, 190.0, 280.0):  # N 10 E, S 80 E, S 10 W, N 80 W
+        n = round(side_m / step_m)
+        for _ in range(n):
+            d0 = float(field_at(lat=lat, lon=lon, year=year).declination_deg)
+            lo, la, _ = GEOD.fwd(lon, lat, mag + d0, side_m / n / 2)
+            dm = float(field_at(lat=la, lon=lo, year=year).declination_deg)
+            lon, lat, _ = GEOD.fwd(lo, la, mag + dm, side_m / n / 2)
+    return GEOD.inv(lon0, lat0, lon, lat)[2]
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("which", "step"), [(0, 20.0), (1, 4.0)], ids=["utm_edge", "arctic"])
+def test_the_misclosure_is_that_of_the_square_walked_by_compass(which, step, tmp_path, capsys):
+    # Independent of geo.north, geo.march and geo.grid: pyproj's geodesics and the field
+    # model's D (itself checked against ppigrf in test_north). Height 0: ground = ellipsoid.
+    from geo.dates import decimal_year
+
+    path = _docs(tmp_path)[which]
+    lat, lon = (44.5, -72.0) if which == 0 else (68.6, 19.0)
+    # rods of 16.5 ft (the document's foot by date; the two feet differ by 2 ppm, which
+    # changes the gap by far less than the tolerance)
+    side = (400 if which == 0 else 80) * 5.0292
+    year = decimal_year(datetime.date(1950, 6, 1))
+    gap = _walked_gap(lat, lon, year, side, step)
+    assert _close(path, capsys)["misclosure_m"] == pytest.approx(gap, abs=1e-3)
