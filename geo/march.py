@@ -281,7 +281,7 @@ def march(
     result = _converge(fig, lay, evaluate, to_geographic, e, n)
     if reference == "grid":
         return result
-    finer = lay.steps > 1
+    finer = length_m > ONE_STEP_M  # every course the one-step bound does not cover
     for _halving in range(_MAX_HALVINGS):
         if not finer.any():
             break

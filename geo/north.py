@@ -161,6 +161,19 @@ class CourseConversion:
         ``None``.
     warnings:
         Compass-reliability warnings of the field model at the starting station.
+    path_nodes:
+        The marched nodes of a course of more than one step (see :attr:`path`).
+    declination_record_rate_deg_per_year, declination_target_rate_deg_per_year:
+        Yearly change of D at each date at the starting station (degrees a year, east
+        positive), ``None`` where D is stated or unknown.
+    steps:
+        Steps the course was marched in (see :mod:`geo.march`).
+    azimuth_end:
+        :class:`References` of azimuths with D and gamma at the course's end, for a course of
+        more than one step (``None`` for one step).
+    bearing_end:
+        Bearing texts at the course's end when its magnetic (target) bearing there differs
+        from the one at its start by more than the precision shown, else ``None``.
     """
 
     index: int
@@ -951,6 +964,12 @@ def _lists(d: _Directions) -> tuple[list[Any], ...]:
     return tuple(listed(a) for a in (d.mag1, d.true, d.grid, d.mag2))
 
 
+def _refs(lists: tuple[list[Any] | None, ...], n: int) -> list[References]:
+    """One :class:`References` per course from the four columns (a missing column: None)."""
+    nones = [None] * n
+    return list(map(References, *(nones if a is None else a for a in lists)))
+
+
 def _ref(lists: tuple[list[Any] | None, ...], i: int) -> References:
     a, b, c, d = lists
     return References(
@@ -981,7 +1000,9 @@ def _course_figures(
     az, az_end = _directions(s, v, start, unknown), _directions(s, v, end, unknown)
     text = _texts(s, az)
     ends = _ends(s, az, az_end)
-    az_l, az_end_l, text_l = _lists(az), _lists(az_end), _lists(text)
+    az_r, text_r = _refs(_lists(az), n), _refs(_lists(text), n)
+    steps_l = lay.steps.tolist()
+    az_end_l = _lists(az_end)
     warnings = _warnings_at(rec_of(marched), marched.values.target, start)
     grid_len = np.add.reduceat(marched.grid_step_m, start) if n else np.zeros(0)
     along = node_distance_m(lay, s.length)
@@ -1004,7 +1025,7 @@ def _course_figures(
     out = []
     for i, rc in enumerate(s.courses):
         path = None
-        if lay.steps[i] > 1 and s.reference != "grid":
+        if steps_l[i] > 1 and s.reference != "grid":
             nodes = slice(o[i], o[i + 1] + 1)
             path = CoursePath(
                 tuple(along[nodes][:-1].tolist()) + (rc.length_m,),
@@ -1030,15 +1051,15 @@ def _course_figures(
                 scale_factor=columns["scale"][i],
                 elevation_factor=columns["elev"][i],
                 combined_factor=columns["k"][i],
-                azimuth=_ref(az_l, i),
-                bearing=_ref(text_l, i),
+                azimuth=az_r[i],
+                bearing=text_r[i],
                 found=found[i],
                 warnings=warnings[i],
                 path_nodes=path,
                 declination_record_rate_deg_per_year=columns["r1"][i],
                 declination_target_rate_deg_per_year=columns["r2"][i],
-                steps=int(lay.steps[i]),
-                azimuth_end=_ref(az_end_l, i),
+                steps=steps_l[i],
+                azimuth_end=_ref(az_end_l, i) if steps_l[i] > 1 else None,
                 bearing_end=ends.get(i),
             )
         )
