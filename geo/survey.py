@@ -885,9 +885,9 @@ def _budget(
         bearing_sigma_deg = 0.5 * max(c.recorded.precision_deg for c in conv.courses)
     source, dec_sigma = declination_term(conv)
     try:
-        eb = tv.error_budget(
+        eb = tv.error_budget(  # recorded lengths: L sigma per course (Ghilani & Wolf)
             plane.azimuth_deg,
-            plane.length_m,
+            plane.recorded_length_m,
             bearing_sigma_deg=bearing_sigma_deg,
             declination_sigma_deg=dec_sigma,
         )
