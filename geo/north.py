@@ -41,6 +41,7 @@ Displayed bearings
 from __future__ import annotations
 
 import contextlib
+import dataclasses
 import datetime as _dt
 import math
 from dataclasses import dataclass
@@ -1005,7 +1006,7 @@ def _course_figures(
     az_end_l = _lists(az_end)
     warnings = _warnings_at(rec_of(marched), marched.values.target, start)
     grid_len = np.add.reduceat(marched.grid_step_m, start) if n else np.zeros(0)
-    along = node_distance_m(lay, s.length)
+    along = node_distance_m(lay, s.length) if any(k > 1 for k in lay.steps.tolist()) else None
     rec, tgt = v.record, v.target
     columns = {
         "d1": _column(v.d1, start),
@@ -1022,46 +1023,31 @@ def _course_figures(
         "k": _column(v.combined, start),
     }  # fmt: skip
     found = _found_stations(s.doc, s.courses, s.crs, s.file)
-    out = []
-    for i, rc in enumerate(s.courses):
+    cs = s.courses
+    rows = zip(
+        [rc.index for rc in cs], [rc.text for rc in cs], cs, [rc.length_m for rc in cs],
+        [rc.length_value for rc in cs], [rc.length_unit for rc in cs], grid_len.tolist(),
+        stations[:-1], stations[1:], columns["d1"], columns["d2"], columns["s1"],
+        columns["s2"], columns["gamma"], columns["scale"], columns["elev"], columns["k"],
+        az_r, text_r, found, warnings, [None] * n, columns["r1"], columns["r2"], steps_l,
+        strict=True,
+    )  # fmt: skip
+    # the fields in CourseConversion's order, positionally (a long document has thousands)
+    out = [CourseConversion(*row) for row in rows]
+    for i in [i for i, k in enumerate(steps_l) if k > 1] + list(ends):
         path = None
         if steps_l[i] > 1 and s.reference != "grid":
             nodes = slice(o[i], o[i + 1] + 1)
             path = CoursePath(
-                tuple(along[nodes][:-1].tolist()) + (rc.length_m,),
+                tuple(along[nodes][:-1].tolist()) + (cs[i].length_m,),
                 tuple(marched.east[nodes].tolist()),
                 tuple(marched.north[nodes].tolist()),
             )
-        out.append(
-            CourseConversion(
-                index=rc.index,
-                call=rc.text,
-                recorded=rc,
-                length_m=rc.length_m,
-                length_value=rc.length_value,
-                length_unit=rc.length_unit,
-                grid_length_m=float(grid_len[i]),
-                start=stations[i],
-                end=stations[i + 1],
-                declination_record_deg=columns["d1"][i],
-                declination_target_deg=columns["d2"][i],
-                declination_record_sigma_deg=columns["s1"][i],
-                declination_target_sigma_deg=columns["s2"][i],
-                convergence_deg=columns["gamma"][i],
-                scale_factor=columns["scale"][i],
-                elevation_factor=columns["elev"][i],
-                combined_factor=columns["k"][i],
-                azimuth=az_r[i],
-                bearing=text_r[i],
-                found=found[i],
-                warnings=warnings[i],
-                path_nodes=path,
-                declination_record_rate_deg_per_year=columns["r1"][i],
-                declination_target_rate_deg_per_year=columns["r2"][i],
-                steps=steps_l[i],
-                azimuth_end=_ref(az_end_l, i) if steps_l[i] > 1 else None,
-                bearing_end=ends.get(i),
-            )
+        out[i] = dataclasses.replace(
+            out[i],
+            path_nodes=path,
+            azimuth_end=_ref(az_end_l, i) if steps_l[i] > 1 else None,
+            bearing_end=ends.get(i),
         )
     return tuple(out), stations
 
