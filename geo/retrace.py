@@ -14,9 +14,11 @@ Corners
     Corner ``i`` is station ``i`` (0 = point of beginning, ``i`` = end of course ``i``). In a
     closed figure the last station is the point of beginning again, so the corners are
     ``0 .. n-1`` and a run may pass through the point of beginning. A corner is an *anchor*
-    when it is found (``found`` on the course ending there) or held (the point of beginning
-    when the document places it by grid coordinates, as :func:`geo.survey.fit_document` counts
-    it).
+    when it is found (``found`` on the course ending there) or held: the point of beginning
+    of an open line (the line is run from it, and closes on its found end from it) or of a
+    figure placed by grid coordinates (as :func:`geo.survey.fit_document` counts it). A closed
+    figure placed by latitude and longitude does not hold its beginning: that place only
+    chooses the field and the grid.
 
 Restoration (``method``)
     Between each pair of consecutive anchors A, B the record courses from A to B are made to
@@ -64,6 +66,7 @@ __all__ = [
     "proportion_run",
     "record_unit",
     "restore_corners",
+    "restore_document",
     "rotate_scale_run",
 ]
 
@@ -416,7 +419,7 @@ class Restoration:
 def _anchors(conv: DocumentConversion, n_corners: int) -> dict[int, tuple[str, float, float]]:
     """Anchor corners: index -> (status, grid east m, grid north m)."""
     out: dict[int, tuple[str, float, float]] = {}
-    if conv.place_by_grid:
+    if conv.place_by_grid or not conv.document.closed:
         out[0] = ("held", 0.0, 0.0)
     for c in conv.courses:
         if c.found is not None:
@@ -428,9 +431,7 @@ def _anchors(conv: DocumentConversion, n_corners: int) -> dict[int, tuple[str, f
 def _description(conv: DocumentConversion, index: int) -> str | None:
     """The call's words for corner ``index`` (the course ending there), "to" dropped."""
     if index == 0:
-        index = len(conv.courses) if conv.document.closed else 0
-    if index == 0:
-        return "the point of beginning"
+        return "point of beginning"
     words = conv.courses[index - 1].recorded.call_note
     if not words:
         return None
@@ -600,3 +601,19 @@ def _corners(
         )
         for i in range(n_corners)
     )
+
+
+def restore_document(conv: DocumentConversion, *, method: Method = "proportion") -> Restoration:
+    """:func:`restore_corners` with the record-to-found fit's rotation when two or more
+    stations are found (:func:`geo.survey.fit_document`), else without (the one call every
+    interface uses)."""
+    from geo.errors import FitError
+    from geo.survey import fit_document, found_count
+
+    rotation = None
+    if found_count(conv) >= 2:
+        try:
+            rotation = fit_document(conv).rotation_deg
+        except FitError:
+            rotation = None
+    return restore_corners(conv, method=method, fit_rotation_deg=rotation)
