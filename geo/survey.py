@@ -911,6 +911,8 @@ class SurveyFit:
     stated_declination_deg: float | None
     record_length_factor: float | None
     notes: tuple[str, ...]
+    #: Standard error of the rotation (degrees; geo.fit.SimilarityFit.rotation_sigma_deg).
+    rotation_sigma_deg: float | None = None
 
     def as_dict(self) -> dict[str, Any]:
         """The ``lodeline fit --json`` object (plain JSON values)."""
@@ -935,6 +937,7 @@ class SurveyFit:
             "model": self.model,
             "stated_declination_deg": self.stated_declination_deg,
             "record_length_factor": self.record_length_factor,
+            "rotation_sigma_deg": self.rotation_sigma_deg,
             "notes": list(self.notes),
         }
 
@@ -1046,4 +1049,5 @@ def fit_document(conv: DocumentConversion, *, with_scale: bool = True) -> Survey
         stated_declination_deg=conv.stated_declination_deg,
         record_length_factor=fit.scale / cf if with_scale else None,
         notes=tuple(notes),
+        rotation_sigma_deg=fit.rotation_sigma_deg,
     )
