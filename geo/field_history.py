@@ -127,17 +127,31 @@ def model_histories(
     *, lat: float, lon: float, height_m: float = 0.0, step: float = 0.1
 ) -> tuple[DeclinationHistory, ...]:
     """One history per installed model (shipped and user), each over its own interval at
-    ``step`` years (the interval's end excluded, as the models define it)."""
+    ``step`` years (the interval's end excluded, as the models define it).
+
+    The last few results are kept (keyed on the place, the step and the loaded models, so a
+    model file that changes is evaluated afresh): the desk asks again on every keystroke.
+    """
     from geo.models import available_models, load_model
 
+    models = tuple((info.name, load_model(info)) for info in available_models())
+    key = (float(lat), float(lon), float(height_m), float(step), tuple(id(m) for _, m in models))
+    kept = _KEPT.get(key)
+    if kept is not None:
+        return kept[1]
     out = []
-    for info in available_models():
-        m = load_model(info)
+    for name, m in models:
         years = np.arange(m.start, m.end, step, dtype=float)
         if years.size:
             out.append(
-                declination_history(
-                    lat=lat, lon=lon, years=years, height_m=height_m, model=info.name
-                )
+                declination_history(lat=lat, lon=lon, years=years, height_m=height_m, model=name)
             )
+    if len(_KEPT) >= _KEEP:
+        _KEPT.pop(next(iter(_KEPT)))
+    # the models are kept with the result, so the ids in the key stay theirs
+    _KEPT[key] = (models, tuple(out))
     return tuple(out)
+
+
+_KEEP = 8
+_KEPT: dict[tuple[Any, ...], tuple[Any, tuple[DeclinationHistory, ...]]] = {}

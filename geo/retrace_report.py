@@ -154,14 +154,14 @@ def _date_blocks(conv: Any, fit: Any) -> list[Any]:
     from geo.field_history import declination_history, history_years
     from geo.models import available_models, load_model
     from geo.report import Facts, Figure
-    from geo.survey_date import STATED_SIGMA_DEG, estimate_survey_date
+    from geo.survey_date import estimate_survey_date
 
     out: list[Any] = []
     empirical = band = None
     if fit is not None and fit.empirical_declination_deg is not None:
         est = estimate_survey_date(conv, fit)
         empirical = est.empirical_deg
-        band = math.hypot(est.fit_sigma_deg or 0.0, STATED_SIGMA_DEG)
+        band = est.band_deg
         out.append(
             Facts((("when was the line run", est.sentence), *(("note", n) for n in est.notes)))
         )

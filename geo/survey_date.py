@@ -81,6 +81,11 @@ class SurveyDateEstimate:
     notes: tuple[str, ...]
 
     @property
+    def band_deg(self) -> float:
+        """The agreement band for a model with no published sigma: sqrt(fit^2 + stated^2)."""
+        return math.hypot(self.fit_sigma_deg or 0.0, self.stated_sigma_deg)
+
+    @property
     def sentence(self) -> str:
         """``the needle's declination matches the field of 1788–1797 (gufm1)``."""
         if not self.ranges:
