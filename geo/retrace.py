@@ -61,6 +61,7 @@ __all__ = [
     "Restoration",
     "RestorationRun",
     "closes_on_found_end",
+    "corner_features",
     "found_end_target",
     "found_gaps",
     "proportion_run",
@@ -617,3 +618,35 @@ def restore_document(conv: DocumentConversion, *, method: Method = "proportion")
         except FitError:
             rotation = None
     return restore_corners(conv, method=method, fit_rotation_deg=rotation)
+
+
+def corner_features(
+    conv: DocumentConversion, *, method: Method = "proportion", decimals: int = 8
+) -> list[dict]:
+    """GeoJSON (RFC 7946) Point features of the corners of a document with found corners
+    (``kind`` = ``"corner"``, with ``status``, ``method``, ``run``, grid coordinates and the
+    call's words); an empty list when nothing is found (the stations are the record).
+    Coordinates are rounded to ``decimals`` (8: about a millimetre)."""
+    res = restore_document(conv, method=method)
+    if not any(c.status in ("found", "held") for c in res.corners if c.index > 0):
+        return []
+    return [
+        {
+            "type": "Feature",
+            "geometry": {
+                "type": "Point",
+                "coordinates": [round(c.lon, decimals), round(c.lat, decimals)],
+            },
+            "properties": {
+                "kind": "corner",
+                "index": c.index,
+                "status": c.status,
+                "method": c.method,
+                "run": list(c.run) if c.run is not None else None,
+                "easting": c.easting,
+                "northing": c.northing,
+                "description": c.description,
+            },
+        }
+        for c in res.corners
+    ]

@@ -84,3 +84,21 @@ def test_report_has_stakeout_survey_date_and_history_figure(capsys, tmp_path):
     assert min(xs) >= 0.0 and max(xs) <= 620.0
     labels = [t.text for t in root.iter(f"{ns}text")]
     assert "record" in labels and "target" in labels and "needle (fit)" in labels
+
+
+def test_geojson_carries_the_corners_with_their_status(capsys, tmp_path):
+    out = tmp_path / "w.geojson"
+    status, _, err = run(capsys, "export", DEMO, "--geojson", out)
+    assert status == 0, err
+    data = json.loads(out.read_text())
+    corners = [f for f in data["features"] if f["properties"]["kind"] == "corner"]
+    assert [c["properties"]["status"] for c in corners] == [
+        "restored",
+        "found",
+        "restored",
+        "found",
+        "found",
+        "restored",
+    ]
+    found = corners[1]["properties"]
+    assert (found["easting"], found["northing"]) == (507495.39, 4274986.85)
