@@ -674,6 +674,9 @@ def close_document(
         notes.append(figure.angles_note)
     if figure.angles is not None:
         notes.append("azimuths carried from course 1 with the balanced angles")
+    from geo.omitted import closure_notes
+
+    notes += closure_notes([c.recorded for c in conv.courses])
 
     from geo.angles import normalize_azimuth
 
