@@ -1,4 +1,4 @@
-"""The desk's retracement sheet (F5): corners, stakeout lines, survey date and the plot."""
+"""The desk's retracement sheet (Ctrl+T): corners, stakeout lines, survey date and the plot."""
 
 from __future__ import annotations
 
@@ -25,7 +25,7 @@ def _text(screen, selector: str) -> str:
     return str(screen.query_one(selector).render())
 
 
-def test_f5_shows_corners_stakeout_and_survey_date(tmp_path):
+def test_ctrl_t_shows_corners_stakeout_and_survey_date(tmp_path):
     path = tmp_path / "w.toml"
     shutil.copy(DEMO, path)
 
@@ -34,7 +34,7 @@ def test_f5_shows_corners_stakeout_and_survey_date(tmp_path):
         async with app.run_test(size=(120, 40)) as pilot:
             await pilot.pause(0.3)
             await app.workers.wait_for_complete()
-            await pilot.press("f5")
+            await pilot.press("ctrl+t")
             await pilot.pause(0.3)
             sheet = app.screen
             assert isinstance(sheet, RetraceSheet)

@@ -27,6 +27,7 @@ SUBCOMMANDS: list[tuple[str, str]] = [
     ("fit", "fit"),
     ("stakeout", "stakeout"),
     ("export", "export"),
+    ("found", "found"),
 ]
 
 EPILOG = (

@@ -1,8 +1,8 @@
-"""The retracement sheet (F5 on the desk): corners found, restored and record only, the
+"""The retracement sheet (Ctrl+T on the desk): corners found, restored and record only, the
 stakeout lines a crew runs, when the line was run, and the declination history plot.
 
 Keys: r switches the restoration (proportion / rotate-scale), o runs the lines from the
-nearest found corner or the previous corner, Escape or F5 closes the sheet."""
+nearest found corner or the previous corner, Escape or Ctrl+T closes the sheet."""
 
 from __future__ import annotations
 
@@ -22,7 +22,7 @@ class RetraceSheet(ModalScreen[None]):
     """The sheet for one converted document (``conv``), or a line saying why there is none."""
 
     BINDINGS = [
-        Binding("escape,f5", "close", "Close"),
+        Binding("escape,ctrl+t", "close", "Close"),
         Binding("r", "switch_method", "Restoration"),
         Binding("o", "switch_origin", "Run from"),
     ]

@@ -78,7 +78,7 @@ class Desk(Screen):
         Binding("f2", "pane('job')", "Job"),
         Binding("f3", "pane('calls')", "Calls"),
         Binding("f4", "pane('findings')", "Findings"),
-        Binding("f5", "retrace_sheet", "Corners"),
+        Binding("ctrl+t", "retrace_sheet", "Stakeout"),
     ]
 
     DEFAULT_CSS = """
