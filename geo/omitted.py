@@ -109,6 +109,10 @@ def read_omitted(course: Course, index: int, ctx: dict[str, Any]) -> OmittedCour
                     **where,
                 )
             distance = None if call is None else call.distance
+            if distance is not None and not distance.metres > 0.0:
+                raise DocumentError(
+                    f"distance must be positive, not {distance.text!r}", field="call", **where
+                )
             note = (call.note or None) if call is not None else (tail or None)
             unit, per = _unit(ctx, None if distance is None else distance.unit)
             return OmittedCourse(
@@ -148,6 +152,10 @@ def _from_keys(course: Course, index: int, ctx: dict[str, Any]) -> OmittedCourse
             text = value if isinstance(value, str) else repr(value)
             d = parse_distance(f"{text} {unit_text}" if unit_text else text, **ctx)
             length, unit_text = d.metres, d.unit
+            if not length > 0.0:
+                raise DocumentError(
+                    f"must be a positive distance, not {d.text!r}", field="distance", course=index
+                )
     except LodelineError as err:
         field = "bearing" if az is None and course.bearing not in (None, UNKNOWN) else "distance"
         raise DocumentError(err.message, field=field, course=index) from None

@@ -170,3 +170,24 @@ def test_blanked_parts_come_back(azimuths, lengths, case, data):
         assert rec[k].length_m == pytest.approx(length[k], abs=1e-6)
         d = (rec[k].azimuth_deg - az[k] + 180.0) % 360.0 - 180.0
         assert abs(d) < 1e-6
+
+
+@settings(max_examples=200, deadline=None)
+@given(
+    st.text(alphabet="NSEW0123456789 ?./°′'-abcdefghperchs", max_size=15),
+    st.text(alphabet="NSEW0123456789 ?./°′'-abcdefghperchs", max_size=15),
+)
+def test_reader_fuzz_refuses_with_one_document_error(before, after):
+    # any text with a "?" either reads or is refused as a DocumentError naming the course
+    from geo.document import Course
+    from geo.omitted import read_omitted
+
+    text = f"{before}?{after}"
+    ctx = {"default_unit": "perch", "foot": "us", "vara_inches": None}
+    try:
+        got = read_omitted(Course(call=text), 3, ctx)
+    except DocumentError as err:
+        assert err.course == 3
+    else:
+        assert got.azimuth_deg is None or 0.0 <= got.azimuth_deg < 360.0
+        assert got.length_m is None or got.length_m > 0.0
