@@ -283,3 +283,34 @@ def test_unknown_method_is_refused():
 
     with pytest.raises(InputError, match="proportion or rotate-scale"):
         restore_corners(conv, method="shift")  # type: ignore[arg-type]
+
+
+def test_corners_beyond_the_last_found_follow_the_record_turned_by_the_fit():
+    # An open grid record from a point placed by grid coordinates; the ground turned 1.5 deg
+    # clockwise about the beginning (found corner 2 set there by hand): corners 3 and 4,
+    # beyond the last found corner, must land where the turned record puts them.
+    calls = ["N 10 E 10 chains", "S 80 E 12 chains", "N 5 W 9 chains", "N 60 E 7 chains"]
+    record = convert_document(_doc([{"call": c} for c in calls]))
+    t = math.radians(1.5)
+
+    def turned(s):
+        de, dn = s.easting - E0, s.northing - N0
+        return E0 + de * math.cos(t) + dn * math.sin(t), N0 - de * math.sin(t) + dn * math.cos(t)
+
+    e2, n2 = turned(record.stations[2])
+    courses = [{"call": c} for c in calls]
+    courses[1]["found"] = {"easting": e2, "northing": n2}
+    conv = convert_document(_doc(courses))
+    res = restore_document(conv)
+    assert [c.status for c in res.corners] == [
+        "held",
+        "restored",
+        "found",
+        "record only",
+        "record only",
+    ]
+    assert res.follow_rotation_deg == pytest.approx(1.5, abs=1e-6)
+    for k in (3, 4):
+        want = turned(record.stations[k])
+        assert (res.corners[k].easting, res.corners[k].northing) == pytest.approx(want, abs=1e-4)
+        assert res.corners[k].run == (2, 2)
