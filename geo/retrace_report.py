@@ -186,15 +186,55 @@ def _date_blocks(conv: Any, fit: Any) -> list[Any]:
     return out
 
 
+def _gap_blocks(conv: Any) -> list[Any]:
+    from geo.report import Table
+    from geo.retrace import found_gaps
+
+    gaps = found_gaps(conv)
+    if not gaps:
+        return []
+    rows = tuple(
+        (
+            str(g.index),
+            f"{g.gap_m:.3f}",
+            f"{g.gap_record:.3f}",
+            f"{g.east_m:+.3f}",
+            f"{g.north_m:+.3f}",
+            g.bearing or "–",
+        )
+        for g in gaps
+    )
+    return [
+        Table(
+            ("station", "gap m", f"gap {gaps[0].unit}", "east m", "north m", "toward (grid)"),
+            rows,
+            right=frozenset({0, 1, 2, 3, 4}),
+            caption="Found minus marched position of every found station (the record's "
+            "courses as converted, on the grid).",
+        )
+    ]
+
+
 def retracement_blocks(conv: Any, fit: Any) -> list[Any]:
     """The report's blocks for corners, stakeout, survey date and declination history."""
     from geo.report import Heading, Paragraph
     from geo.retrace import restore_corners
 
+    out: list[Any] = [Heading("Corners found, restored and to set")]
+    if not any(c.found is not None for c in conv.courses):
+        out.append(
+            Paragraph(
+                "No corner is marked found (a course's found key): nothing to restore or stake "
+                "out from."
+            )
+        )
+        out.append(Heading("When was the line run; the declination at the place"))
+        return out + _date_blocks(conv, fit)
     restoration = restore_corners(
         conv, method="proportion", fit_rotation_deg=None if fit is None else fit.rotation_deg
     )
-    out: list[Any] = [Heading("Corners found, restored and to set"), _corner_table(restoration)]
+    out.append(_corner_table(restoration))
+    out += _gap_blocks(conv)
     for r in restoration.runs:
         ratio = f"1:{r.precision:,.0f}" if r.precision else "closes exactly"
         out.append(

@@ -74,7 +74,7 @@ def test_report_has_stakeout_survey_date_and_history_figure(capsys, tmp_path):
     assert status == 0, err
     page = out.read_text()
     assert "Stakeout" in page and "When was the line run" in page
-    assert "From corner 1, " in page
+    assert "From corner 1, " in page and "gap m" in page
     svg = re.search(r"<svg[^>]*declination-history.*?</svg>", page, re.S).group(0)
     root = ET.fromstring(svg)
     ns = "{http://www.w3.org/2000/svg}"
