@@ -61,6 +61,8 @@ __all__ = [
     "Restoration",
     "RestorationRun",
     "closes_on_found_end",
+    "closure_notes",
+    "placed",
     "corner_features",
     "found_end_target",
     "found_gaps",
@@ -86,6 +88,27 @@ def _azimuth(d_east: float, d_north: float) -> float:
     if d_east == 0.0 and d_north == 0.0:
         return 0.0
     return math.degrees(math.atan2(d_east, d_north)) % 360.0
+
+
+def placed(conv: DocumentConversion) -> bool:
+    """True when every station has a grid position (False for a magnetic record whose
+    declination at the record date is unknown: its stations are not on the grid)."""
+    return all(math.isfinite(s.easting) and math.isfinite(s.northing) for s in conv.stations)
+
+
+UNPLACED = (
+    "the record's stations are not on the grid (the declination at the record date is "
+    "unknown): no gap at the found corners, no closure on a found end, no restoration; "
+    "state record.declination (the fit's empirical declination, say) or install a model "
+    "that covers the date"
+)
+
+
+def closure_notes(conv: DocumentConversion) -> list[str]:
+    """What the closure says about found corners it cannot use (see :data:`UNPLACED`)."""
+    if any(c.found is not None for c in conv.courses) and not placed(conv):
+        return [UNPLACED]
+    return []
 
 
 def record_unit(conv: DocumentConversion) -> tuple[str, float]:
@@ -160,7 +183,9 @@ def found_gaps(conv: DocumentConversion) -> tuple[FoundGap, ...]:
     from geo.bearings import format_bearing
 
     unit, per = record_unit(conv)
-    out = []
+    out: list[FoundGap] = []
+    if not placed(conv):
+        return ()
     for c in conv.courses:
         if c.found is None:
             continue
@@ -193,8 +218,14 @@ def _station_gamma(conv: DocumentConversion, index: int) -> float:
 
 
 def closes_on_found_end(conv: DocumentConversion) -> bool:
-    """True for an open document (``closed = false``) whose last course has ``found``."""
-    return bool(conv.courses) and not conv.document.closed and conv.courses[-1].found is not None
+    """True for an open document (``closed = false``) whose last course has ``found`` and
+    whose stations are on the grid (:func:`placed`)."""
+    return (
+        bool(conv.courses)
+        and not conv.document.closed
+        and conv.courses[-1].found is not None
+        and placed(conv)
+    )
 
 
 def found_end_target(
@@ -466,6 +497,8 @@ def restore_corners(
         raise InputError(
             f"unknown restoration {method!r}: use proportion or rotate-scale", field="--restore"
         )
+    if not placed(conv):
+        raise InputError(UNPLACED, file=conv.file, field="record.declination")
     n = len(conv.courses)
     closed = bool(conv.document.closed)
     n_corners = n if closed else n + 1

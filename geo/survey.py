@@ -674,9 +674,10 @@ def close_document(
         notes.append(figure.angles_note)
     if figure.angles is not None:
         notes.append("azimuths carried from course 1 with the balanced angles")
-    from geo.omitted import closure_notes
+    from geo import omitted, retrace
 
-    notes += closure_notes([c.recorded for c in conv.courses])
+    notes += omitted.closure_notes([c.recorded for c in conv.courses])
+    notes += retrace.closure_notes(conv)
 
     from geo.angles import normalize_azimuth
 

@@ -102,3 +102,40 @@ def test_geojson_carries_the_corners_with_their_status(capsys, tmp_path):
     ]
     found = corners[1]["properties"]
     assert (found["easting"], found["northing"]) == (507495.39, 4274986.85)
+
+
+OLD_OPEN = """format_version = 1
+closed = false
+[place]
+lat = 47.4783
+lon = -91.221
+[record]
+reference = "magnetic"
+date = "1850-09-16"
+distance_unit = "chain"
+foot = "us"
+[[course]]
+call = "N 10 E 40 chains"
+[[course]]
+call = "S 80 E 10 chains"
+found = { lat = 47.4855, lon = -91.2167 }
+[[course]]
+call = "S 10 W 40 chains"
+found = { lat = 47.478031, lon = -91.218402 }
+"""
+
+
+def test_no_declination_at_the_record_date_says_why_there_are_no_corners(capsys, tmp_path):
+    # 1850 with no model installed and no stated declination: the stations are not on the
+    # grid; close (magnetic north) and fit still run and say what they cannot do
+    path = tmp_path / "old.toml"
+    path.write_text(OLD_OPEN)
+    status, out, err = run(capsys, "close", path, "--north", "magnetic")
+    assert status == 0, err
+    assert "not on the grid" in out
+    status, out, err = run(capsys, "fit", path, "--json")
+    assert status == 0, err
+    data = json.loads(out)
+    assert data["restoration"] is None and data["survey_date"]["ranges"]
+    status, _, err = run(capsys, "stakeout", path)
+    assert status == 2 and len(err.strip().splitlines()) == 1

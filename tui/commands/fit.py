@@ -97,7 +97,8 @@ def render(result: Any, title: str | None = None) -> str:
 
 class FitReport:
     """The fit with the restored corners and the survey-date estimate (``--json`` object:
-    the fit's keys plus ``restoration`` and ``survey_date``)."""
+    the fit's keys plus ``restoration`` and ``survey_date``). ``restoration`` is the text
+    saying why there is none when the stations are not on the grid."""
 
     def __init__(self, fit: Any, restoration: Any, survey_date: Any) -> None:
         self.fit = fit
@@ -107,7 +108,9 @@ class FitReport:
     def as_dict(self) -> dict[str, Any]:
         """The ``lodeline fit --json`` object."""
         out = self.fit.as_dict()
-        out["restoration"] = self.restoration.as_dict()
+        out["restoration"] = (
+            self.restoration.as_dict() if not isinstance(self.restoration, str) else None
+        )
         out["survey_date"] = None if self.survey_date is None else self.survey_date.as_dict()
         return out
 
@@ -128,19 +131,26 @@ def render_report(result: FitReport, title: str | None = None) -> str:
         )
         extra += [f"note: {n}" for n in sd.notes]
         extra.append("")
-    extra += corner_lines(result.restoration)
-    extra += [f"note: {n}" for n in result.restoration.notes]
+    if isinstance(result.restoration, str):  # why the corners cannot be restored
+        extra.append(f"corners: {result.restoration}")
+    else:
+        extra += corner_lines(result.restoration)
+        extra += [f"note: {n}" for n in result.restoration.notes]
     return body + "\n" + "\n".join(extra) + "\n" + caution + "\n"
 
 
 def compute(conv: Any, *, with_scale: bool, restore: str, date_sigma: float | None) -> FitReport:
     """Fit, restore (geo.retrace) and estimate the survey date (geo.survey_date)."""
-    from geo.retrace import restore_corners
+    from geo.retrace import UNPLACED, placed, restore_corners
     from geo.survey import fit_document
     from geo.survey_date import estimate_survey_date
 
     fit = fit_document(conv, with_scale=with_scale)
-    restoration = restore_corners(conv, method=restore, fit_rotation_deg=fit.rotation_deg)
+    restoration = (
+        restore_corners(conv, method=restore, fit_rotation_deg=fit.rotation_deg)
+        if placed(conv)
+        else UNPLACED
+    )
     survey_date = (
         estimate_survey_date(conv, fit, sigma_deg=date_sigma)
         if fit.empirical_declination_deg is not None
