@@ -415,7 +415,8 @@ def geojson_text(collection: dict[str, Any]) -> str:
 # --------------------------------------------------------------------------------------------
 
 
-def _csv(header: tuple[str, ...], rows: list[list[Any]]) -> str:
+def csv_table(header: tuple[str, ...], rows: list[list[Any]]) -> str:
+    """RFC 4180 CSV text (CRLF line ends, a header row; floats by their shortest repr)."""
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\r\n")
     writer.writerow(header)
@@ -431,7 +432,7 @@ def points_csv(pos: Positions) -> str:
         [p.index, p.kind, p.course, p.along_m, p.easting, p.northing, p.lat, p.lon]
         for p in (*pos.stations, *pos.points)
     ]
-    return _csv(POINT_COLUMNS, rows)
+    return csv_table(POINT_COLUMNS, rows)
 
 
 def courses_csv(conv: DocumentConversion, pos: Positions) -> str:
@@ -463,7 +464,7 @@ def courses_csv(conv: DocumentConversion, pos: Positions) -> str:
                 pos.grid_length_m[i],
             ]
         )
-    return _csv(COURSE_COLUMNS, rows)
+    return csv_table(COURSE_COLUMNS, rows)
 
 
 def courses_csv_path(path: str | Path) -> Path:
