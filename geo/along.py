@@ -94,6 +94,8 @@ def _first_m(doc: Document, file: str | None) -> float | None:
         return None
     from geo.document import document_distance
 
+    if doc.plots.first == 0.0:  # a plot at each course's start (a number: no unit needed)
+        return 0.0
     try:
         value = document_distance(doc, doc.plots.first).metres
     except LodelineError as err:
@@ -123,7 +125,9 @@ def along_problems(doc: Document, *, file: str | None = None) -> list[DocumentEr
             try:
                 _event_m(doc, event.distance, unit)
             except LodelineError as err:
-                problems.append(DocumentError(err.message, file=file, course=i, field="at.distance"))
+                problems.append(
+                    DocumentError(err.message, file=file, course=i, field="at.distance")
+                )
     return problems
 
 
@@ -234,14 +238,14 @@ class AlongList:
 
 def _plot_chainages(
     length_m: float, spacing_m: float, first_m: float | None, course_ends: bool
-) -> list[tuple[float, bool]]:
-    """``(along_m, at_end)`` of the plots of one course (see the module notes); an empty list
-    stands for more than :data:`MAX_ALONG_POINTS` plots (the caller refuses it)."""
+) -> list[tuple[float, bool]] | None:
+    """``(along_m, at_end)`` of the plots of one course (see the module notes); ``None`` for
+    more than :data:`MAX_ALONG_POINTS` plots (the caller refuses it)."""
     start = spacing_m if first_m is None else first_m
     end = length_m * (1.0 - _END_TOLERANCE)
     count = 0 if start >= end else math.floor((end - start) / spacing_m) + 1
     if count > MAX_ALONG_POINTS:
-        return []
+        return None
     out = [(a, False) for a in (start + k * spacing_m for k in range(count)) if a < end]
     if course_ends:
         out.append((length_m, True))
@@ -250,8 +254,7 @@ def _plot_chainages(
 
 def _refuse_count(file: str | None, field: str, course: int) -> DocumentError:
     return DocumentError(
-        f"asks for more than {MAX_ALONG_POINTS:,} plots and events: check the spacing and "
-        "its unit",
+        f"asks for more than {MAX_ALONG_POINTS:,} plots and events: check the spacing and its unit",
         file=file,
         course=course,
         field=field,
@@ -284,7 +287,7 @@ def plot_list(conv: DocumentConversion) -> AlongList:
                     field="plots.first",
                 )
             chainages = _plot_chainages(c.length_m, spacing, first_m, ends)
-            if not chainages:
+            if chainages is None:
                 raise _refuse_count(file, "every", c.index)
             for along, at_end in chainages:
                 rows.append(("plot", c.index, along, running + along, at_end))
@@ -380,7 +383,10 @@ def geojson_features(al: AlongList) -> list[dict[str, Any]]:
     from geo.export import COORD_DECIMALS
 
     def point(lat: float, lon: float) -> dict[str, Any]:
-        return {"type": "Point", "coordinates": [round(lon, COORD_DECIMALS), round(lat, COORD_DECIMALS)]}
+        return {
+            "type": "Point",
+            "coordinates": [round(lon, COORD_DECIMALS), round(lat, COORD_DECIMALS)],
+        }
 
     out = []
     rows = al.as_dict()
@@ -513,17 +519,17 @@ def report_blocks(al: AlongList, conv: DocumentConversion) -> list[Any]:
     when = conv.target_date.isoformat() if conv.target_date else f"{conv.target_year:g}"
     if al.plots:
         first = (
-            "one spacing from the start of each course"
+            "one spacing from its start"
             if al.first_m is None
-            else f"{length_text(al.first_m, al.record_unit)} from the start of each course"
+            else f"{length_text(al.first_m, al.record_unit)} from its start"
         )
         out.append(Heading("Plot list"))
         out.append(
             Paragraph(
                 f"Plots numbered from {al.start}, the numbering running on across courses; the "
-                f"first plot of each course with a spacing {first}"
+                f"first plot on each course with a spacing at {first}"
                 + ("; a plot at each such course's end" if al.course_ends else "")
-                + f". Chainages are ground distances in {al.record_unit.label} and metres. The "
+                + f". Chainages are ground distances in {al.record_unit.name} and metres. The "
                 f"bearing to run is the course's: magnetic on {when} ({conv.target_model}), true "
                 f"and grid ({conv.crs}). Positions follow the courses as marched, not adjusted."
             )

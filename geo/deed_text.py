@@ -48,7 +48,9 @@ __all__ = ["BEARING_PRECISIONS", "Description", "write_description"]
 BEARING_PRECISIONS = {"minute": 1.0 / 60.0, "second": 1.0 / 3600.0}
 DescriptionNorth = Literal["true", "grid", "magnetic"]
 
-_TO_BEGINNING = re.compile(r"^\s*(to\s+)?(the\s+)?(place\s+of\s+|point\s+of\s+)?beginning\.?\s*$", re.I)
+_TO_BEGINNING = re.compile(
+    r"^\s*(to\s+)?(the\s+)?(place\s+of\s+|point\s+of\s+)?beginning\.?\s*$", re.I
+)
 _LEADING_TO = re.compile(r"^\s*(to|at|along|with|by)\b", re.I)
 
 
@@ -173,7 +175,8 @@ def _record(conv: DocumentConversion) -> str:
     what = doc.title or conv.file or "the document"
     first = conv.courses[0]
     if conv.declination_source == "stated":
-        dec = f"the declination stated in the record, {format_declination(conv.stated_declination_deg)}"
+        stated = format_declination(conv.stated_declination_deg)
+        dec = f"the declination stated in the record, {stated}"
     elif conv.declination_source == "model":
         dec = (
             f"the declination of {conv.record_model} there on that date, "
@@ -196,7 +199,9 @@ def _record(conv: DocumentConversion) -> str:
     )
 
 
-def _distances(conv: DocumentConversion, clo: Any, ru: RecordUnit, bracket: RecordUnit | None) -> str:
+def _distances(
+    conv: DocumentConversion, clo: Any, ru: RecordUnit, bracket: RecordUnit | None
+) -> str:
     foot = {"us": "US survey feet", "international": "international feet"}
     size = f"1 {ru.unit} = {ru.metres:.10g} m"
     if ru.foot and ru.unit != "ft":

@@ -58,7 +58,7 @@ Schema, format_version 1 (every table and key below; any other key is an error):
     [plots]                       # optional: the plot list of a cruise (courses with every)
     start = 1                     # number of the first plot (default 1)
     first = "2.5 chains"          # first plot on each course with every, from its start
-                                  # (default: one spacing)
+                                  # (default: one spacing; 0: at the course's start)
     course_ends = false           # also a plot at the end of each course with every
 
 Keys beyond the issue that introduced the format, and why:

@@ -36,7 +36,8 @@ GeoJSON (RFC 7946)
     LineString when the calls cross themselves, which no valid Polygon can hold, with the
     crossing pair in ``crossing_courses``; otherwise a LineString through every station), one
     Point per station (for an adjusted closed traverse the last station is the point of
-    beginning and is not repeated) and one Point per intermediate point. Coordinates are
+    beginning and is not repeated), one Point per intermediate point, and one Point per plot
+    (``kind = "plot"``) and per event (``"event"``) of :mod:`geo.along`. Coordinates are
     [longitude, latitude], WGS84, rounded to 8 decimals (about 1 mm).
     The figure's properties hold one object per course (call as written; magnetic (record),
     true, grid and magnetic (target) bearings and azimuths; length in the document's unit and
@@ -52,7 +53,8 @@ CSV (RFC 4180, UTF-8, CRLF line ends, a header row)
     station number, ``course`` the course it ends, empty for the point of beginning) or
     ``point`` (``index`` numbers the points from 1, ``course`` the course it lies on,
     ``along_m`` its ground distance from the course's start). ``OUT-courses.csv``: one row per
-    course with every bearing and length (see :data:`COURSE_COLUMNS`).
+    course with every bearing and length (see :data:`COURSE_COLUMNS`). When the document has
+    plots or events, ``OUT-plots.csv`` and ``OUT-events.csv`` too (:mod:`geo.along`).
 """
 
 from __future__ import annotations
@@ -378,6 +380,9 @@ def geojson_collection(
                 },
             }
         )
+    from geo.along import geojson_features, plot_list
+
+    features += geojson_features(plot_list(conv))
     area = clo.area
     properties = {
         "title": doc.title,
@@ -469,8 +474,14 @@ def courses_csv(conv: DocumentConversion, pos: Positions) -> str:
 
 def courses_csv_path(path: str | Path) -> Path:
     """The course table's file beside the points CSV ``path``: ``NAME-courses.csv``."""
+    return csv_path_beside(path, "courses")
+
+
+def csv_path_beside(path: str | Path, table: str) -> Path:
+    """A table's file beside the points CSV ``path``: ``NAME-courses.csv``, ``NAME-plots.csv``,
+    ``NAME-events.csv``."""
     p = Path(path)
-    return p.with_name(f"{p.stem}-courses{p.suffix or '.csv'}")
+    return p.with_name(f"{p.stem}-{table}{p.suffix or '.csv'}")
 
 
 # --------------------------------------------------------------------------------------------
@@ -501,8 +512,15 @@ def write_exports(
     if geojson is not None:
         outputs.append((Path(geojson), geojson_text(geojson_collection(conv, positions_=pos))))
     if csv_path is not None:
+        from geo.along import events_csv, plot_list, plots_csv
+
         outputs.append((Path(csv_path), points_csv(pos)))
         outputs.append((courses_csv_path(csv_path), courses_csv(conv, pos)))
+        al = plot_list(conv)
+        if al.plots:
+            outputs.append((csv_path_beside(csv_path, "plots"), plots_csv(al)))
+        if al.events:
+            outputs.append((csv_path_beside(csv_path, "events"), events_csv(al)))
     targets = [p for p, _ in outputs]
     if len({t.resolve() for t in targets}) != len(targets):
         raise InputError("two outputs name the same file", file=str(targets[0]), field="output")

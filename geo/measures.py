@@ -316,7 +316,11 @@ def closure_record_values(conv: DocumentConversion, clo: SurveyClosure) -> dict[
             for c in clo.courses
         ],
         "stations": [
-            {"index": s.index, "distance_m": running[s.index], "distance_record": rec(running[s.index])}
+            {
+                "index": s.index,
+                "distance_m": running[s.index],
+                "distance_record": rec(running[s.index]),
+            }
             for s in clo.stations
         ],
         "area_acres_roods_perches": arp,

@@ -81,9 +81,7 @@ def run(args: argparse.Namespace) -> int:
             "exists; not overwritten (give --force to replace it)", file=args.out
         )
     doc = load_document(args.document)
-    conv = convert_document(
-        doc, file=args.document, target_date=args.target_date, model=args.model
-    )
+    conv = convert_document(doc, file=args.document, target_date=args.target_date, model=args.model)
     bracket = None if args.bracket.strip().lower() == "none" else args.bracket
     desc = write_description(
         conv,
