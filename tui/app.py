@@ -126,6 +126,12 @@ def parse_found(text: str) -> dict[str, float] | str | None:
         return text
 
 
+def _sheet_bindings() -> list[Binding]:
+    from tui.screens.sheets import DescriptionSheet
+
+    return DescriptionSheet.BINDINGS
+
+
 class LodelineApp(App[int]):
     """Edit a traverse and see its conversions, closure and sketch update as you type."""
 
@@ -141,6 +147,8 @@ class LodelineApp(App[int]):
         Binding("f6", "export('geojson')", "GeoJSON"),
         Binding("f7", "export('csv')", "CSV"),
         Binding("f8", "export('report')", "Report"),
+        Binding("f5", "sheet('description')", "Description"),
+        Binding("f10", "sheet('plots')", "Plots"),
         Binding("ctrl+q", "quit", "Quit", priority=True),
     ]
 
@@ -232,6 +240,16 @@ class LodelineApp(App[int]):
                 "Write report…",
                 "Write the retracement report (F8)",
                 lambda: self.action_export("report"),
+            ),
+            (
+                "New description",
+                "Show the figure written as a description; w writes it to a file (F5)",
+                lambda: self.action_sheet("description"),
+            ),
+            (
+                "Plots and events",
+                "Show the plot list and the events along the lines (F10)",
+                lambda: self.action_sheet("plots"),
             ),
             ("Key guide", "Every key, and the cautions (F1)", self.action_key_guide),
             (
@@ -333,6 +351,7 @@ class LodelineApp(App[int]):
                 ],
             ),
             ("sketch", TraverseSketch.BINDINGS),
+            ("description, plots", _sheet_bindings()),
             (
                 "sketch",
                 [
@@ -350,6 +369,12 @@ class LodelineApp(App[int]):
             ),
         ]
         self.push_screen(KeyGuide(groups))
+
+    def action_sheet(self, name: str) -> None:
+        """Show the new description or the plot list and events (tui.screens.sheets)."""
+        from tui.screens.sheets import DescriptionSheet, PlotSheet
+
+        self.push_screen(DescriptionSheet() if name == "description" else PlotSheet())
 
     def action_undo(self) -> None:
         """Undo the last edit of the document."""

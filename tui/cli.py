@@ -27,6 +27,7 @@ SUBCOMMANDS: list[tuple[str, str]] = [
     ("fit", "fit"),
     ("export", "export"),
     ("describe", "describe"),
+    ("layout", "layout"),
 ]
 
 EPILOG = (
