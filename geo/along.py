@@ -44,7 +44,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from geo.errors import DocumentError, LodelineError
-from geo.measures import RecordUnit, in_unit, length_text, record_unit
+from geo.measures import RecordUnit, document_foot, in_unit, length_text, record_unit
 
 if TYPE_CHECKING:
     from geo.document import Document
@@ -85,6 +85,68 @@ def course_points(
 
 
 # --------------------------------------------------------------------------------------------
+# Events written inside a call: "N 10 E, at 12 chains a run, 40 chains to a stake"
+# --------------------------------------------------------------------------------------------
+
+#: The most words a distance after "at" may take ("12 ch 50 lk" is four).
+_EVENT_DISTANCE_WORDS = 4
+
+
+def _event_segment(part: str, foot: str | None, vara_inches: Any) -> tuple[str, str] | None:
+    """``(distance text, note)`` of one comma-separated part of a call that reads as an event
+    ("at 12 chains a run", "at 31.50 a blazed beech"), or ``None``."""
+    from geo.calls import parse_distance
+
+    words = part.split()
+    if len(words) < 2 or words[0].casefold() != "at":
+        return None
+    for n in range(min(_EVENT_DISTANCE_WORDS, len(words) - 1), 0, -1):
+        text = " ".join(words[1 : 1 + n])
+        try:  # a bare number is probed as metres; its unit is the course's (see plot_list)
+            parse_distance(text, default_unit="m", foot=foot, vara_inches=vara_inches)  # type: ignore[arg-type]
+        except LodelineError:
+            continue
+        return text, " ".join(words[1 + n :])
+    return None
+
+
+def split_call_events(
+    text: str, *, foot: str | None = None, vara_inches: Any = None
+) -> tuple[str, tuple[tuple[str, str], ...]]:
+    """A call without the events written in it, and those events as ``(distance, note)``.
+
+    Only comma-separated parts between the bearing and the course's distance are read, and
+    only when each starts with "at" and a distance ("N 10 E, at 12 chains a run, at 31.50 a
+    blazed beech, 40 chains to a stake"): words after the distance stay the call's note, so
+    "40 chains to a stake, at 2 rods from the brook" keeps its note whole. A call without
+    such parts is returned unchanged with no events.
+    """
+    from geo.calls import parse_call
+
+    parts = text.split(",")
+    if len(parts) < 3:
+        return text, ()
+    try:  # the first part must be the bearing alone (the distance comes after the events)
+        head = parse_call(parts[0], default_unit=None, foot=foot, vara_inches=vara_inches)  # type: ignore[arg-type]
+    except LodelineError:
+        return text, ()
+    if head.bearing is None or head.distance is not None or head.note:
+        return text, ()
+    events: list[tuple[str, str]] = []
+    k = 1
+    while k < len(parts) - 1:
+        event = _event_segment(parts[k], foot, vara_inches)
+        if event is None:
+            break
+        events.append(event)
+        k += 1
+    if not events:
+        return text, ()
+    rest = ",".join(parts[k:]).strip()
+    return f"{parts[0].rstrip()}, {rest}", tuple(events)
+
+
+# --------------------------------------------------------------------------------------------
 # Reading the keys
 # --------------------------------------------------------------------------------------------
 
@@ -109,6 +171,18 @@ def _event_m(doc: Document, value: float | str, unit: str | None) -> float:
     from geo.document import document_distance
 
     return float(document_distance(doc, value, unit=unit).metres)
+
+
+def _course_events(doc: Document, course: Any) -> list[Any]:
+    """The events of a course: those written in its call, then its ``[[course.at]]``."""
+    from geo.document import CourseEvent
+
+    out: list[Any] = []
+    if course.call is not None:
+        foot = document_foot(doc)
+        _, in_call = split_call_events(course.call, foot=foot, vara_inches=doc.record.vara_inches)
+        out += [CourseEvent(distance=d, note=n or None) for d, n in in_call]
+    return out + list(course.at)
 
 
 def along_problems(doc: Document, *, file: str | None = None) -> list[DocumentError]:
@@ -291,7 +365,7 @@ def plot_list(conv: DocumentConversion) -> AlongList:
                 raise _refuse_count(file, "every", c.index)
             for along, at_end in chainages:
                 rows.append(("plot", c.index, along, running + along, at_end))
-        for event in course.at:
+        for event in _course_events(doc, course):
             try:
                 along = _event_m(doc, event.distance, course.unit or c.length_unit)
             except LodelineError as err:
@@ -365,7 +439,9 @@ def _placed(
                 )
             )
         else:
-            text = extra.distance if isinstance(extra.distance, str) else f"{extra.distance:g}"
+            text = extra.distance
+            if not isinstance(text, str):
+                text = f"{text:g} {c.length_unit}"
             events.append(
                 Event(number=len(events) + 1, distance_text=text, note=extra.note, **common)
             )

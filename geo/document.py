@@ -507,7 +507,11 @@ def document_to_dict(doc: Document) -> dict[str, Any]:
     Keys whose value is absent (``None``) are left out; everything else is written, so a dict
     read back gives an identical document. Derived numbers are never included.
     """
-    return doc.model_dump(mode="python", exclude_none=True)
+    data = doc.model_dump(mode="python", exclude_none=True)
+    for course in data.get("course", ()):
+        if not course.get("at"):
+            course.pop("at", None)  # no events: the key is left out, as an absent one
+    return data
 
 
 # --------------------------------------------------------------------------------------------
@@ -731,6 +735,16 @@ def _angle_call(text: str) -> tuple[str, str] | None:
             field="call",
         )
     return match.group("angle"), match.group("rest")
+
+
+def _without_events(text: str, ctx: dict[str, Any]) -> str:
+    """The call without the events written in it ("N 10 E, at 12 chains a run, 40 chains"):
+    see :func:`geo.along.split_call_events`."""
+    if "," not in text:
+        return text
+    from geo.along import split_call_events
+
+    return split_call_events(text, foot=ctx["foot"], vara_inches=ctx["vara_inches"])[0]
 
 
 def _plain(value: float | str | None) -> str:
@@ -966,7 +980,7 @@ def _parse_course_cached(
         call_note = call.note or None
     elif course.call is not None:
         try:
-            call = parse_call(course.call, **ctx)
+            call = parse_call(_without_events(course.call, ctx), **ctx)
         except LodelineError as err:
             raise _locate(err, None, None, "call") from None
         if call.bearing is None:

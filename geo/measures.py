@@ -113,7 +113,9 @@ class RecordUnit:
         return {"unit": self.unit, "label": self.label, "metres": self.metres, "foot": self.foot}
 
 
-def _document_foot(doc: Document) -> str | None:
+def document_foot(doc: Document) -> str | None:
+    """The document's foot (``record.foot``, else the default for the record date), or
+    ``None`` when neither tells it."""
     try:
         return units.choose_foot(doc.record.foot, doc.record.date).foot
     except LodelineError:
@@ -138,7 +140,7 @@ def record_unit(doc: Document, unit: str | None = None) -> RecordUnit:
             source = "the unit most courses are written in"
         else:
             name, source = "m", "no unit in the document"
-    foot = _document_foot(doc) if units.is_foot_based(name) else None
+    foot = document_foot(doc) if units.is_foot_based(name) else None
     metres = units.metres_per(name, foot=foot, vara_inches=record.vara_inches)  # type: ignore[arg-type]
     return RecordUnit(name, float(metres), foot, units.UNIT_LABELS[name], source)
 

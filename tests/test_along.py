@@ -227,3 +227,42 @@ def test_cli_outputs_carry_plots_and_events(tmp_path, capsys):
     assert main(["close", str(bad)]) == 2
     err = capsys.readouterr().err
     assert "course 1" in err and "at.distance" in err and "Traceback" not in err
+
+
+def test_events_written_in_a_call():
+    from geo.along import split_call_events
+
+    # The form of the field notes: events between the bearing and the course's distance.
+    text = "N 10 E, at 12 chains a run, at 31.50 a blazed beech, 40 chains to a stake"
+    clean, events = split_call_events(text, foot="us")
+    assert clean == "N 10 E, 40 chains to a stake"
+    assert events == (("12 chains", "a run"), ("31.50", "a blazed beech"))
+    # words after the course's distance stay its note; a part that is no distance ends them
+    for kept in ("N 10 E 40 chains to a stake, at 2 rods from the brook",
+                 "N 10 E, 40 chains to a stake, at 2 rods from the brook",
+                 "N 10 E 40 chains, at 12 chains a run, to a stake",
+                 "N 10 E, at the fence, 40 chains"):  # fmt: skip
+        assert split_call_events(kept, foot="us") == (kept, ())
+    doc = _doc([{"call": text}])
+    conv = _conv(doc)
+    assert conv.courses[0].length_value == 40.0
+    assert conv.courses[0].recorded.call_note == "to a stake"
+    al = plot_list(conv)
+    # a bare 31.50 is in the unit of the course's distance (chains)
+    assert [(e.note, round(e.along_course_record, 9)) for e in al.events] == [
+        ("a run", 12.0),
+        ("a blazed beech", 31.5),
+    ]
+    assert al.events[1].along_course_m == pytest.approx(31.5 * CHAIN)
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.text(alphabet="NSEW 0123456789.,at chains rods°'", max_size=60))
+def test_split_call_events_never_raises_and_keeps_calls_without_events(text):
+    from geo.along import split_call_events
+
+    clean, events = split_call_events(text, foot="us")
+    if not events:
+        assert clean == text
+    else:
+        assert len(clean) < len(text)
