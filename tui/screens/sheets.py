@@ -36,6 +36,8 @@ class _Sheet(ModalScreen[None]):
         width: 100%; max-width: 140; height: 92%;
         border: thick $primary; background: $surface; padding: 0 1;
     }
+    _Sheet > VerticalScroll { overflow-x: auto; }
+    _Sheet .sheet-table { width: auto; }
     _Sheet .sheet-caution { margin-top: 1; color: $warning; }
     """
 
@@ -103,10 +105,14 @@ class PlotSheet(_Sheet):
                 Text(f"{len(al.plots)} plots, numbered from {al.start}", style="bold"),
                 classes="sheet-heading",
             )
-            yield Static(_table(PLOT_HEADERS, plot_rows(al)), id="plot-table")
+            yield Static(
+                _table(PLOT_HEADERS, plot_rows(al)), id="plot-table", classes="sheet-table"
+            )
         if al.events:
             yield Static(Text("Along the lines", style="bold"), classes="sheet-heading")
-            yield Static(_table(EVENT_HEADERS, event_rows(al)), id="event-table")
+            yield Static(
+                _table(EVENT_HEADERS, event_rows(al)), id="event-table", classes="sheet-table"
+            )
 
 
 def _table(headers: tuple[str, ...], rows: list[tuple[str, ...]]) -> Table:
