@@ -108,3 +108,37 @@ async def test_plot_sheet_lists_plots_and_events(tmp_path: Path):
         await pilot.press("escape")
         await pilot.pause(0.2)
         assert not isinstance(app.screen, PlotSheet)
+
+
+@sync
+async def test_layout_key_writes_the_cruise_lines(tmp_path: Path):
+    from geo.document import load_document
+    from tui.dialogs.layout_form import LayoutForm
+
+    path = tmp_path / "square.toml"
+    path.write_text(DOC, encoding="utf-8")
+    app = LodelineApp(load_workspace(path))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await pilot.pause(0.3)
+        await pilot.press("f12")
+        await pilot.pause(0.2)
+        assert isinstance(app.screen, LayoutForm)
+        app.focused.value = "N 0 E"
+        await pilot.press("enter")
+        app.focused.value = "true"
+        await pilot.press("enter")
+        app.focused.value = "5 chains"
+        await pilot.press("enter")
+        app.focused.value = "2.5 chains"
+        await pilot.press("enter")
+        await pilot.pause(0.2)
+        assert isinstance(app.screen, FileNamePrompt)
+        await pilot.press("enter")
+        await pilot.pause(0.5)
+    lines = load_document(tmp_path / "square-lines.toml")
+    # A 10-chain square, lines true north 5 chains apart: at 2.5 and 7.5 chains from the
+    # west side, each 10 chains, with one 5-chain offset between them (hand-worked; the
+    # square is in true bearings, so its sides run true north within rounding).
+    calls = [c.call for c in lines.course]
+    assert len(calls) == 3 and calls[0].startswith("N 0°00′00″ E 10.0000 chain")
+    assert lines.course[1].note == "offset to line 2"

@@ -149,6 +149,7 @@ class LodelineApp(App[int]):
         Binding("f8", "export('report')", "Report"),
         Binding("f5", "sheet('description')", "Description"),
         Binding("f10", "sheet('plots')", "Plots"),
+        Binding("f12", "layout", "Layout"),
         Binding("ctrl+q", "quit", "Quit", priority=True),
     ]
 
@@ -250,6 +251,11 @@ class LodelineApp(App[int]):
                 "Plots and events",
                 "Show the plot list and the events along the lines (F10)",
                 lambda: self.action_sheet("plots"),
+            ),
+            (
+                "Cruise layout…",
+                "Lay parallel cruise lines and plots across this boundary (F12)",
+                self.action_layout,
             ),
             ("Key guide", "Every key, and the cautions (F1)", self.action_key_guide),
             (
@@ -375,6 +381,35 @@ class LodelineApp(App[int]):
         from tui.screens.sheets import DescriptionSheet, PlotSheet
 
         self.push_screen(DescriptionSheet() if name == "description" else PlotSheet())
+
+    def action_layout(self) -> None:
+        """Ask for a cruise layout's options and file, and write the layout document."""
+        from tui import outputs
+        from tui.dialogs.layout_form import LayoutForm
+
+        ws = self.workspace
+        stem = ws.path.with_suffix("") if ws.path else Path("boundary")
+
+        def asked(options: dict[str, str] | None) -> None:
+            if options is None:
+                return
+            prompt = FileNamePrompt("Write cruise lines", f"{stem}-lines.toml", DOCUMENT_SUFFIXES)
+
+            def chosen(path: Path | None) -> None:
+                if path is None:
+                    return
+                try:
+                    written = outputs.write_layout(
+                        ws.doc, path, options, file=ws.path, replace=prompt.replace
+                    )
+                except LodelineError as err:
+                    self.notify(f"⚠ Layout: not written: {err}", severity="error", timeout=8)
+                    return
+                self.notify(f"Written: {', '.join(str(p) for p in written)}", timeout=4)
+
+            self.push_screen(prompt, chosen)
+
+        self.push_screen(LayoutForm(), asked)
 
     def action_undo(self) -> None:
         """Undo the last edit of the document."""

@@ -83,3 +83,29 @@ def write_output(
     if kind == "geojson":
         return write_exports(conv, geojson=path, force=replace)
     return write_exports(conv, csv_path=path, force=replace)
+
+
+def write_layout(
+    data: Mapping[str, Any],
+    path: Path,
+    options: Mapping[str, str],
+    *,
+    file: Path | None = None,
+    replace: bool = False,
+) -> list[Path]:
+    """Write the cruise layout across document ``data`` (a closed boundary) to ``path`` with
+    the options of :class:`tui.dialogs.layout_form.LayoutForm` (see geo.layout). Raises
+    :class:`geo.errors.LodelineError`."""
+    from geo.atomic import write_atomic
+    from geo.document import dumps_document
+    from geo.layout import lay_out_cruise
+
+    lines = lay_out_cruise(
+        converted(data, file),
+        bearing=options["bearing"],
+        spacing=options["spacing"],
+        plot_spacing=options["plots"],
+        north=options["north"],
+    )
+    fmt = "json" if path.suffix.lower() == ".json" else "toml"
+    return [write_atomic(path, dumps_document(lines, fmt), overwrite=replace)]
