@@ -266,3 +266,55 @@ def test_split_call_events_never_raises_and_keeps_calls_without_events(text):
         assert clean == text
     else:
         assert len(clean) < len(text)
+
+
+_VALUES = st.one_of(
+    st.none(),
+    st.booleans(),
+    st.integers(-5, 10**10),
+    st.floats(allow_nan=True, allow_infinity=True),
+    st.text(max_size=20),
+    st.sampled_from(["12 chains", "0 ch", "-3 rods", "1e400 ft", "5 varas", "3 ch 20 lk"]),
+)
+
+
+@settings(max_examples=150, deadline=None)
+@given(
+    event=st.dictionaries(st.sampled_from(["distance", "note", "where"]), _VALUES, max_size=3),
+    plots=st.dictionaries(st.sampled_from(["start", "first", "course_ends", "x"]), _VALUES,
+                          max_size=3),
+)  # fmt: skip
+def test_events_and_plots_keys_fuzzed_give_document_errors_only(event, plots):
+    # Whatever is written under [[course.at]] and [plots]: a DocumentError naming the key,
+    # or a list whose events lie on the course.
+    data = {
+        "format_version": 1,
+        "place": {"lat": 47.4783, "lon": -91.221},
+        "record": {"reference": "true", "distance_unit": "chain", "foot": "us"},
+        "plots": plots,
+        "course": [{"call": "N 10 E 10 chains", "every": "3 chains", "at": [event]}],
+    }
+    try:
+        doc = document_from_dict(data)
+        al = plot_list(_conv(doc))
+    except DocumentError as err:
+        assert err.field is not None
+        return
+    assert all(0.0 <= e.along_course_m <= 10 * CHAIN * (1 + 1e-9) for e in al.events)
+    assert all(math.isfinite(p.lat) for p in al.plots)
+
+
+def test_plot_spacing_on_the_ellipsoid_by_pyproj_geod():
+    # Independent of the projection: consecutive plots 5 chains apart on the ground lie
+    # 5 chains x R / (R + h) apart on the ellipsoid (ground lengths are horizontal at the
+    # height of the place; R the mean Earth radius, 6,371 km, common practice), which
+    # pyproj's geodesic gives from their latitudes and longitudes.
+    from pyproj import Geod
+
+    doc = _doc([{"call": "N 10 E 40 chains", "every": "5 chains"}])
+    al = plot_list(_conv(doc))
+    geod = Geod(ellps="WGS84")
+    h, radius = 480.0, 6_371_000.0
+    for a, b in zip(al.plots, al.plots[1:], strict=False):
+        _, _, d = geod.inv(a.lon, a.lat, b.lon, b.lat)
+        assert d == pytest.approx(5 * CHAIN * radius / (radius + h), rel=2e-5)
