@@ -1,4 +1,4 @@
-"""Desk sheets (F5 new description, F10 plots and events), driven headless with the pilot."""
+"""Desk sheets (F10 new description, F12 plots and events, Ctrl+L layout), driven headless with the pilot."""
 
 from __future__ import annotations
 
@@ -75,7 +75,7 @@ async def test_description_sheet_shows_and_writes_the_description(tmp_path: Path
     app = LodelineApp(load_workspace(path))
     async with app.run_test(size=(120, 40)) as pilot:
         await pilot.pause(0.3)
-        await pilot.press("f5")
+        await pilot.press("f10")
         await pilot.pause(0.3)
         assert isinstance(app.screen, DescriptionSheet)
         text = _text(app.screen)
@@ -97,7 +97,7 @@ async def test_plot_sheet_lists_plots_and_events(tmp_path: Path):
     app = LodelineApp(load_workspace(path))
     async with app.run_test(size=(160, 45)) as pilot:
         await pilot.pause(0.3)
-        await pilot.press("f10")
+        await pilot.press("f12")
         await pilot.pause(0.3)
         assert isinstance(app.screen, PlotSheet)
         text = _text(app.screen)
@@ -120,7 +120,7 @@ async def test_layout_key_writes_the_cruise_lines(tmp_path: Path):
     app = LodelineApp(load_workspace(path))
     async with app.run_test(size=(120, 40)) as pilot:
         await pilot.pause(0.3)
-        await pilot.press("f12")
+        await pilot.press("ctrl+l")
         await pilot.pause(0.2)
         assert isinstance(app.screen, LayoutForm)
         app.focused.value = "N 0 E"

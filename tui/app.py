@@ -147,9 +147,10 @@ class LodelineApp(App[int]):
         Binding("f6", "export('geojson')", "GeoJSON"),
         Binding("f7", "export('csv')", "CSV"),
         Binding("f8", "export('report')", "Report"),
-        Binding("f5", "sheet('description')", "Description"),
-        Binding("f10", "sheet('plots')", "Plots"),
-        Binding("f12", "layout", "Layout"),
+        Binding("f5", "found_from", "Found from file"),
+        Binding("f10", "sheet('description')", "Description"),
+        Binding("f12", "sheet('plots')", "Plots"),
+        Binding("ctrl+l", "layout", "Layout"),
         Binding("ctrl+q", "quit", "Quit", priority=True),
     ]
 
@@ -243,18 +244,23 @@ class LodelineApp(App[int]):
                 lambda: self.action_export("report"),
             ),
             (
+                "Found corners from a point file…",
+                "Set found positions from a receiver's CSV, GeoJSON or GPX file (F5)",
+                self.action_found_from,
+            ),
+            (
                 "New description",
-                "Show the figure written as a description; w writes it to a file (F5)",
+                "Show the figure written as a description; w writes it to a file (F10)",
                 lambda: self.action_sheet("description"),
             ),
             (
                 "Plots and events",
-                "Show the plot list and the events along the lines (F10)",
+                "Show the plot list and the events along the lines (F12)",
                 lambda: self.action_sheet("plots"),
             ),
             (
                 "Cruise layout…",
-                "Lay parallel cruise lines and plots across this boundary (F12)",
+                "Lay parallel cruise lines and plots across this boundary (Ctrl+L)",
                 self.action_layout,
             ),
             ("Key guide", "Every key, and the cautions (F1)", self.action_key_guide),
@@ -507,6 +513,12 @@ class LodelineApp(App[int]):
             self.notify(f"Written: {', '.join(str(p) for p in written)}", timeout=4)
 
         self.push_screen(prompt, chosen)
+
+    def action_found_from(self) -> None:
+        """Set found corners from a point file (see :mod:`tui.found_from`)."""
+        from tui.found_from import found_from_file
+
+        found_from_file(self)
 
     async def action_quit(self) -> None:
         """Quit, asking first when there are unsaved changes."""
