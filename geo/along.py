@@ -44,7 +44,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from geo.errors import DocumentError, LodelineError
-from geo.measures import RecordUnit, document_foot, in_unit, length_text, record_unit
+from geo.measures import RecordUnit, conversion_unit, document_foot, in_unit, length_text
 
 if TYPE_CHECKING:
     from geo.document import Document
@@ -343,7 +343,7 @@ def plot_list(conv: DocumentConversion) -> AlongList:
     than :data:`MAX_ALONG_POINTS` points; GridError from the inverse projection.
     """
     doc, file = conv.document, conv.file
-    ru = record_unit(doc)
+    ru = conversion_unit(conv)
     first_m = _first_m(doc, file)
     start = doc.plots.start if doc.plots is not None else 1
     ends = bool(doc.plots.course_ends) if doc.plots is not None else False

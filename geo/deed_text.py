@@ -37,7 +37,7 @@ from typing import TYPE_CHECKING, Any, Literal
 
 from geo.cautions import CAUTIONS
 from geo.errors import InputError
-from geo.measures import RecordUnit, area_text, length_text, record_unit
+from geo.measures import RecordUnit, area_text, conversion_unit, length_text
 
 if TYPE_CHECKING:
     from geo.north import DocumentConversion
@@ -258,8 +258,8 @@ def write_description(
         )
     if not 0 <= decimals <= 6:
         raise InputError(f"decimals {decimals} is outside 0..6", field="decimals")
-    ru = record_unit(conv.document, unit)
-    second = None if bracket is None else record_unit(conv.document, bracket)
+    ru = conversion_unit(conv, unit)
+    second = None if bracket is None else conversion_unit(conv, bracket)
     clo = close_document(conv, adjust=adjust, north="grid" if north == "grid" else "true")
     turn = -conv.courses[0].declination_target_deg if north == "magnetic" else 0.0
     step = BEARING_PRECISIONS[bearing_precision]

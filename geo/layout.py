@@ -157,7 +157,7 @@ def lay_out_cruise(
     from geo.bearings import format_bearing
     from geo.document import document_from_dict
     from geo.grid import to_geographic
-    from geo.measures import in_unit, record_unit
+    from geo.measures import conversion_unit, in_unit
 
     doc = conv.document
     if north not in ("magnetic", "true", "grid"):
@@ -170,7 +170,7 @@ def lay_out_cruise(
         )
     if north == "magnetic" and conv.courses[0].azimuth.magnetic_target is None:
         raise InputError("no declination at the target date is known", field="north")
-    ru = record_unit(doc)
+    ru = conversion_unit(conv)
     k = conv.courses[0].combined_factor
     spacing_m = _length_m(doc, spacing, "spacing")
     plot_m = _length_m(doc, plot_spacing, "plots")

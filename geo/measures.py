@@ -24,7 +24,8 @@ Acres, roods and perches
     three parts always add up to the rounded total.
 
 Public API
-    ``RecordUnit``, ``record_unit(doc) -> RecordUnit``, ``in_unit(metres, ru) -> float``,
+    ``RecordUnit``, ``record_unit(doc) -> RecordUnit``, ``conversion_unit(conv)``,
+    ``in_unit(metres, ru) -> float``, ``document_foot(doc)``,
     ``length_text(metres, ru, decimals=2) -> str``, ``AcresRoodsPerches``,
     ``acres_roods_perches(m2, foot, perch_decimals=1)``, ``uses_roods(ru) -> bool``,
     ``area_text(m2, ru) -> str``, ``conversion_record_values(conv) -> dict`` and
@@ -52,6 +53,7 @@ __all__ = [
     "acres_roods_perches",
     "area_text",
     "closure_record_values",
+    "conversion_unit",
     "conversion_record_values",
     "in_unit",
     "length_text",
@@ -122,8 +124,18 @@ def document_foot(doc: Document) -> str | None:
         return None
 
 
-def record_unit(doc: Document, unit: str | None = None) -> RecordUnit:
+def conversion_unit(conv: DocumentConversion, unit: str | None = None) -> RecordUnit:
+    """:func:`record_unit` of a converted document, from the units its courses were read in
+    (no call is read again)."""
+    return record_unit(conv.document, unit, written=[c.length_unit for c in conv.courses])
+
+
+def record_unit(
+    doc: Document, unit: str | None = None, *, written: list[str] | None = None
+) -> RecordUnit:
     """The record unit of ``doc`` (see the module notes), or ``unit`` when given.
+    ``written``: the units the courses are written in, when already known (else the calls
+    are read).
 
     Raises :class:`~geo.errors.InputError` for an unknown ``unit``, or a foot-based unit in a
     document whose foot cannot be told, or a vara without ``record.vara_inches``.
@@ -134,7 +146,7 @@ def record_unit(doc: Document, unit: str | None = None) -> RecordUnit:
     elif record.distance_unit is not None:
         name, source = units.unit_name(record.distance_unit), "record.distance_unit"
     else:
-        written = _written_units(doc)
+        written = _written_units(doc) if written is None else _canonical(written)
         if written:
             name = Counter(written).most_common(1)[0][0]
             source = "the unit most courses are written in"
@@ -153,10 +165,14 @@ def _written_units(doc: Document) -> list[str]:
         courses = parse_courses(doc)
     except LodelineError:
         return []
+    return _canonical([c.length_unit for c in courses])
+
+
+def _canonical(names: list[str]) -> list[str]:
     out = []
-    for c in courses:
+    for name in names:
         try:
-            out.append(units.unit_name(c.length_unit))
+            out.append(units.unit_name(name))
         except LodelineError:
             continue
     return out
@@ -266,7 +282,7 @@ def conversion_record_values(conv: DocumentConversion) -> dict[str, Any]:
     ``length_record`` (the recorded length in the record unit), ``length_record_text`` and
     ``distance_to_start_m``/``distance_to_start_record`` (running distance along the
     traverse from the point of beginning to the course's start)."""
-    ru = record_unit(conv.document)
+    ru = conversion_unit(conv)
     lengths = [c.length_m for c in conv.courses]
     running = _running(lengths)
     return {
@@ -291,7 +307,7 @@ def closure_record_values(conv: DocumentConversion, clo: SurveyClosure) -> dict[
     ``departure_record``, ``adjusted_length_record``, per station ``distance_m`` and
     ``distance_record`` (running distance from the point of beginning) and, for a perch or
     chain document with an area, ``area_acres_roods_perches``."""
-    ru = record_unit(conv.document)
+    ru = conversion_unit(conv)
 
     def rec(value: float | None) -> float | None:
         return None if value is None else in_unit(value, ru)

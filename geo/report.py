@@ -1070,9 +1070,9 @@ def collect_report(
 
 def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
     from geo.bearings import format_bearing
-    from geo.measures import area_text, length_text, record_unit
+    from geo.measures import area_text, conversion_unit, length_text
 
-    ru = record_unit(conv.document)
+    ru = conversion_unit(conv)
 
     def rec(metres: float) -> str:
         return "" if ru.metric else f" = {length_text(metres, ru)}"

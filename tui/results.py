@@ -423,9 +423,9 @@ def _closure(conv: Any) -> Any:
 def _closure_panel(closure: Any, conv: Any = None) -> PanelText:
     """Misclosure, precision and area from the closure; with the conversion, the lengths in
     the record unit too and the area in acres, roods and perches for a perch or chain deed."""
-    from geo.measures import acres_roods_perches, length_text, record_unit, uses_roods
+    from geo.measures import acres_roods_perches, conversion_unit, length_text, uses_roods
 
-    ru = None if conv is None else record_unit(conv.document)
+    ru = None if conv is None else conversion_unit(conv)
 
     def rec(metres: float) -> str:
         return "" if ru is None or ru.metric else f" = {length_text(metres, ru)}"

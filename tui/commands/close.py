@@ -53,11 +53,11 @@ def render(result: Any, title: str | None = None, conv: Any = None) -> str:
     """The human-readable closure of a :class:`geo.survey.SurveyClosure`; with the conversion
     ``conv``, lengths are given in the record unit beside metres, the area in acres, roods and
     perches for a perch or chain document, and the plot list and events follow."""
-    from geo.measures import area_text, length_text, record_unit
+    from geo.measures import area_text, conversion_unit, length_text
 
     from .common import text_table as table
 
-    ru = None if conv is None else record_unit(conv.document)
+    ru = None if conv is None else conversion_unit(conv)
     both = ru is not None and not ru.metric
 
     def rec(metres: float) -> list[str]:

@@ -78,9 +78,9 @@ def render(conv: Any) -> str:
     if not conv.courses:
         lines.append("(no courses)")
     else:
-        from geo.measures import length_text, record_unit
+        from geo.measures import conversion_unit, length_text
 
-        ru = record_unit(doc)
+        ru = conversion_unit(conv)
         rows = [
             [
                 "#",
