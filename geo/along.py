@@ -335,6 +335,38 @@ def _refuse_count(file: str | None, field: str, course: int) -> DocumentError:
     )
 
 
+def plot_chainages(conv: DocumentConversion) -> list[tuple[int, int, float, bool]]:
+    """``(number, course, along_m, at_course_end)`` of every plot, in course order (see the
+    module notes): the numbering and chainages every output shares (the export places the
+    same plots on its adjusted figure). Raises :class:`DocumentError` (file, course, key) for
+    a ``plots.first`` beyond the end of a course with ``every`` or too many plots."""
+    doc, file = conv.document, conv.file
+    first_m = _first_m(doc, file)
+    number = doc.plots.start if doc.plots is not None else 1
+    ends = bool(doc.plots.course_ends) if doc.plots is not None else False
+    out: list[tuple[int, int, float, bool]] = []
+    for c in conv.courses:
+        spacing = c.recorded.every_m
+        if not spacing:
+            continue
+        if first_m is not None and first_m >= c.length_m and not ends:
+            ru = conversion_unit(conv)
+            raise DocumentError(
+                f"the first plot ({length_text(first_m, ru)}) lies beyond the end of the "
+                f"course ({length_text(c.length_m, ru)})",
+                file=file,
+                course=c.index,
+                field="plots.first",
+            )
+        chainages = _plot_chainages(c.length_m, spacing, first_m, ends)
+        if chainages is None or len(out) + len(chainages) > MAX_ALONG_POINTS:
+            raise _refuse_count(file, "every", c.index)
+        for along, at_end in chainages:
+            out.append((number, c.index, along, at_end))
+            number += 1
+    return out
+
+
 def plot_list(conv: DocumentConversion) -> AlongList:
     """The plots and events of a converted document (see the module notes).
 
@@ -344,27 +376,14 @@ def plot_list(conv: DocumentConversion) -> AlongList:
     """
     doc, file = conv.document, conv.file
     ru = conversion_unit(conv)
-    first_m = _first_m(doc, file)
-    start = doc.plots.start if doc.plots is not None else 1
-    ends = bool(doc.plots.course_ends) if doc.plots is not None else False
-    running = 0.0
-    rows: list[tuple[str, int, float, float, Any]] = []  # kind, course, along, line, extra
+    starts = [0.0]
+    for c in conv.courses:
+        starts.append(math.fsum((starts[-1], c.length_m)))
+    rows: list[tuple[str, int, float, float, Any]] = [  # kind, course, along, line, extra
+        ("plot", course, along, starts[course - 1] + along, at_end)
+        for _number, course, along, at_end in plot_chainages(conv)
+    ]
     for c, course in zip(conv.courses, doc.course, strict=True):
-        spacing = c.recorded.every_m
-        if spacing:
-            if first_m is not None and first_m >= c.length_m and not ends:
-                raise DocumentError(
-                    f"the first plot ({length_text(first_m, ru)}) lies beyond the end of the "
-                    f"course ({length_text(c.length_m, ru)})",
-                    file=file,
-                    course=c.index,
-                    field="plots.first",
-                )
-            chainages = _plot_chainages(c.length_m, spacing, first_m, ends)
-            if chainages is None:
-                raise _refuse_count(file, "every", c.index)
-            for along, at_end in chainages:
-                rows.append(("plot", c.index, along, running + along, at_end))
         for event in _course_events(doc, course):
             try:
                 along = _event_m(doc, event.distance, course.unit or c.length_unit)
@@ -380,11 +399,14 @@ def plot_list(conv: DocumentConversion) -> AlongList:
                     course=c.index,
                     field="at.distance",
                 )
-            rows.append(("event", c.index, min(along, c.length_m), running + along, event))
+            rows.append(
+                ("event", c.index, min(along, c.length_m), starts[c.index - 1] + along, event)
+            )
         if len(rows) > MAX_ALONG_POINTS:
-            raise _refuse_count(file, "every", c.index)
-        running = math.fsum((running, c.length_m))
-    return _placed(conv, ru, rows, start, first_m, ends)
+            raise _refuse_count(file, "at", c.index)
+    start = doc.plots.start if doc.plots is not None else 1
+    ends = bool(doc.plots.course_ends) if doc.plots is not None else False
+    return _placed(conv, ru, rows, start, _first_m(doc, file), ends)
 
 
 def _placed(
@@ -454,8 +476,9 @@ def _placed(
 
 
 def geojson_features(al: AlongList) -> list[dict[str, Any]]:
-    """One RFC 7946 Point feature per plot (``kind = "plot"``) and per event (``"event"``),
-    [longitude, latitude] rounded to 8 decimals, with chainages and the plot's bearings."""
+    """One RFC 7946 Point feature per event (``kind = "event"``), [longitude, latitude]
+    rounded to 8 decimals, with its chainages. (The plots are the export's intermediate
+    points, numbered and placed by :func:`plot_chainages`.)"""
     from geo.export import COORD_DECIMALS
 
     def point(lat: float, lon: float) -> dict[str, Any]:
@@ -466,11 +489,9 @@ def geojson_features(al: AlongList) -> list[dict[str, Any]]:
 
     out = []
     rows = al.as_dict()
-    for p, row in zip(al.plots, rows["plots"], strict=True):
-        props = {"kind": "plot", **{k: v for k, v in row.items() if k not in ("lat", "lon")}}
-        out.append({"type": "Feature", "geometry": point(p.lat, p.lon), "properties": props})
     for e, row in zip(al.events, rows["events"], strict=True):
-        props = {"kind": "event", **{k: v for k, v in row.items() if k not in ("lat", "lon")}}
+        props = {"kind": "event", "index": e.number}
+        props |= {k: v for k, v in row.items() if k not in ("lat", "lon")}
         out.append({"type": "Feature", "geometry": point(e.lat, e.lon), "properties": props})
     return out
 

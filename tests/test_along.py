@@ -218,7 +218,10 @@ def test_cli_outputs_carry_plots_and_events(tmp_path, capsys):
     assert "crossed a run" in events[1]
     fc = json.loads(geo.read_text(encoding="utf-8"))
     kinds = [f["properties"]["kind"] for f in fc["features"]]
-    assert kinds.count("plot") == 3 and kinds.count("event") == 1
+    # the plots are the export's intermediate points, numbered as the plot list numbers them
+    assert kinds.count("point") == 3 and kinds.count("event") == 1
+    plots = [f["properties"]["index"] for f in fc["features"] if f["properties"]["kind"] == "point"]
+    assert plots == [1, 2, 3]
     bad = tmp_path / "bad.toml"
     bad.write_text(
         dumps_document(_doc([{"call": "N 10 E 2 chains", "at": [{"distance": "3 chains"}]}])),

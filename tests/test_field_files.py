@@ -64,7 +64,8 @@ def geojson_points(collection):
             f["properties"]["northing"],
         )
         for f in collection["features"]
-        if f["geometry"]["type"] == "Point"
+        # stations and plots (events along the lines are GeoJSON points of their own)
+        if f["geometry"]["type"] == "Point" and f["properties"]["kind"] in ("station", "point")
     }
 
 
