@@ -28,9 +28,11 @@ Positions
     northing, latitude and longitude are exactly the conversion's stations. Easting and
     northing are in the CRS's unit, named beside them (``grid_unit``); latitude/longitude
     of adjusted stations come from the inverse projection (:func:`geo.grid.to_geographic`).
-    Intermediate points (``every``) lie on their course's marched path
-    (:attr:`geo.north.CourseConversion.path`) at every multiple of the spacing (ground
-    distance from the course's start) short of the course's end, moved by the adjustment of
+    Intermediate points are the plots of courses with ``every``
+    (:func:`geo.along.plot_chainages`, numbered as the plot list numbers them); they lie on
+    their course's marched path
+    (:attr:`geo.north.CourseConversion.path`) at their chainage (ground distance from the
+    course's start), moved by the adjustment of
     the course's ends in proportion to the distance along it.
 
 GeoJSON (RFC 7946)
@@ -39,7 +41,8 @@ GeoJSON (RFC 7946)
     LineString when the calls cross themselves, which no valid Polygon can hold, with the
     crossing pair in ``crossing_courses``; otherwise a LineString through every station), one
     Point per station (for an adjusted closed traverse the last station is the point of
-    beginning and is not repeated) and one Point per intermediate point. Coordinates are
+    beginning and is not repeated), one Point per intermediate point (plot), and one Point
+    per event (``kind = "event"``) of :mod:`geo.along`. Coordinates are
     [longitude, latitude], WGS84, rounded to 8 decimals (about 1 mm).
     The figure's properties hold one object per course (call as written; magnetic (record),
     true, grid and magnetic (target) bearings and azimuths; length in the document's unit and
@@ -55,9 +58,10 @@ CSV (RFC 4180, UTF-8, CRLF line ends, a header row)
     (``m``, ``ft``, ``us_ft``: :func:`geo.grid.grid_unit_name`); ``kind`` is ``station``
     (``index`` the station number, ``course`` the course it ends, empty for the point of
     beginning) or
-    ``point`` (``index`` numbers the points from 1, ``course`` the course it lies on,
+    ``point`` (``index`` the plot number, ``course`` the course it lies on,
     ``along_m`` its ground distance from the course's start). ``OUT-courses.csv``: one row per
-    course with every bearing and length (see :data:`COURSE_COLUMNS`).
+    course with every bearing and length (see :data:`COURSE_COLUMNS`). When the document has
+    plots or events, ``OUT-plots.csv`` and ``OUT-events.csv`` too (:mod:`geo.along`).
 """
 
 from __future__ import annotations
@@ -128,10 +132,10 @@ class Position:
     """One exported point.
 
     ``kind`` is ``"station"`` or ``"point"`` (intermediate); ``index`` the station number, or
-    the intermediate point's number from 1; ``course`` the course a station ends (``None`` for
-    the point of beginning) or a point lies on; ``along_m`` a point's ground distance from its
-    course's start (``None`` for a station). ``easting``/``northing`` in the CRS's unit,
-    ``lat``/``lon`` WGS84 degrees.
+    the intermediate point's plot number (geo.along); ``course`` the course a station ends
+    (``None`` for the point of beginning) or a point lies on; ``along_m`` a point's ground
+    distance from its course's start (``None`` for a station). ``easting``/``northing`` in
+    the CRS's unit, ``lat``/``lon`` WGS84 degrees.
     """
 
     kind: str
@@ -191,8 +195,8 @@ def positions(conv: DocumentConversion, *, adjust: str | None = None) -> Positio
     if conv.document.closed:
         mis = math.hypot(plane.north_m[-1], plane.east_m[-1]) * plane.factor
     pts = _intermediate(conv, e_st, n_st)
-    all_e = np.concatenate([e_st, [p[2] for p in pts]])
-    all_n = np.concatenate([n_st, [p[3] for p in pts]])
+    all_e = np.concatenate([e_st, [p[3] for p in pts]])
+    all_n = np.concatenate([n_st, [p[4] for p in pts]])
     try:
         lat, lon = _grid.to_geographic(conv.crs, easting=all_e, northing=all_n)
     except LodelineError as err:
@@ -209,7 +213,7 @@ def positions(conv: DocumentConversion, *, adjust: str | None = None) -> Positio
         for i in range(n + 1)
     )  # fmt: skip
     points = tuple(
-        Position("point", k + 1, p[0], float(p[1]), float(p[2]), float(p[3]),
+        Position("point", p[0], p[1], float(p[2]), float(p[3]), float(p[4]),
                  float(lat[n + 1 + k]), float(lon[n + 1 + k]))
         for k, p in enumerate(pts)
     )  # fmt: skip
@@ -229,29 +233,24 @@ def positions(conv: DocumentConversion, *, adjust: str | None = None) -> Positio
 
 def _intermediate(
     conv: DocumentConversion, e_st: np.ndarray, n_st: np.ndarray
-) -> list[tuple[int, float, float, float]]:
-    """Intermediate points ``(course, along_m, easting, northing)``: on each course's marched
-    path (:attr:`geo.north.CourseConversion.path`) at every multiple of its spacing, moved by
-    the adjustment's correction in proportion to the distance along the course."""
-    pts: list[tuple[int, float, float, float]] = []
-    for i, c in enumerate(conv.courses):
-        spacing = c.recorded.every_m
-        if not spacing:
-            continue
-        count = math.ceil(c.length_m / spacing - 1e-9) - 1
-        if count < 1:
-            continue
-        along = spacing * np.arange(1, count + 1)
-        pe, pn = c.path_at(along)
+) -> list[tuple[int, int, float, float, float]]:
+    """Intermediate points ``(number, course, along_m, easting, northing)``: the plots of
+    :func:`geo.along.plot_chainages` on each course's marched path
+    (:attr:`geo.north.CourseConversion.path`), moved by the adjustment of the course's ends in
+    proportion to the distance along it."""
+    from geo.along import plot_chainages
+
+    pts: list[tuple[int, int, float, float, float]] = []
+    for number, course, along, _end in plot_chainages(conv):
+        i = course - 1
+        c = conv.courses[i]
+        pe, pn = c.path_at([along])
         f = along / c.length_m
         s0, s1 = c.start, c.end
-        shift_e = (e_st[i] - s0.easting) + f * ((e_st[i + 1] - s1.easting) - (e_st[i] - s0.easting))
-        shift_n = (n_st[i] - s0.northing) + f * (
-            (n_st[i + 1] - s1.northing) - (n_st[i] - s0.northing)
-        )
-        for k in range(count):
-            pts.append((c.index, float(along[k]), float(pe[k] + shift_e[k]),
-                        float(pn[k] + shift_n[k])))  # fmt: skip
+        d0e, d0n = e_st[i] - s0.easting, n_st[i] - s0.northing
+        d1e, d1n = e_st[i + 1] - s1.easting, n_st[i + 1] - s1.northing
+        e = float(pe[0]) + d0e + f * (d1e - d0e)
+        pts.append((number, course, float(along), e, float(pn[0]) + d0n + f * (d1n - d0n)))
     return pts
 
 
@@ -362,6 +361,11 @@ def geojson_collection(
                 },
             }
         )
+    from geo.along import geojson_features, plot_list
+    from geo.retrace import corner_features
+
+    features += geojson_features(plot_list(conv))
+    features += corner_features(conv, decimals=COORD_DECIMALS)
     area = clo.area
     properties = {
         "title": doc.title,
@@ -401,7 +405,8 @@ def geojson_text(collection: dict[str, Any]) -> str:
 # --------------------------------------------------------------------------------------------
 
 
-def _csv(header: tuple[str, ...], rows: list[list[Any]]) -> str:
+def csv_table(header: tuple[str, ...], rows: list[list[Any]]) -> str:
+    """RFC 4180 CSV text (CRLF line ends, a header row; floats by their shortest repr)."""
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\r\n")
     writer.writerow(header)
@@ -423,7 +428,7 @@ def points_csv(pos: Positions) -> str:
         [p.index, p.kind, p.course, p.along_m, p.easting, p.northing, p.lat, p.lon]
         for p in (*pos.stations, *pos.points)
     ]
-    return _csv(point_columns(pos.grid_unit), rows)
+    return csv_table(point_columns(pos.grid_unit), rows)
 
 
 def courses_csv(conv: DocumentConversion, pos: Positions) -> str:
@@ -455,13 +460,19 @@ def courses_csv(conv: DocumentConversion, pos: Positions) -> str:
                 pos.grid_length_m[i],
             ]
         )
-    return _csv(COURSE_COLUMNS, rows)
+    return csv_table(COURSE_COLUMNS, rows)
 
 
 def courses_csv_path(path: str | Path) -> Path:
     """The course table's file beside the points CSV ``path``: ``NAME-courses.csv``."""
+    return csv_path_beside(path, "courses")
+
+
+def csv_path_beside(path: str | Path, table: str) -> Path:
+    """A table's file beside the points CSV ``path``: ``NAME-courses.csv``, ``NAME-plots.csv``,
+    ``NAME-events.csv``."""
     p = Path(path)
-    return p.with_name(f"{p.stem}-courses{p.suffix or '.csv'}")
+    return p.with_name(f"{p.stem}-{table}{p.suffix or '.csv'}")
 
 
 # --------------------------------------------------------------------------------------------
@@ -500,8 +511,15 @@ def write_exports(
     if geojson is not None and collection is not None:
         outputs.append((Path(geojson), geojson_text(collection)))
     if csv_path is not None:
+        from geo.along import events_csv, plot_list, plots_csv
+
         outputs.append((Path(csv_path), points_csv(pos)))
         outputs.append((courses_csv_path(csv_path), courses_csv(conv, pos)))
+        al = plot_list(conv)
+        if al.plots:
+            outputs.append((csv_path_beside(csv_path, "plots"), plots_csv(al)))
+        if al.events:
+            outputs.append((csv_path_beside(csv_path, "events"), events_csv(al)))
     outputs += _field_files(conv, pos, collection, gpx=gpx, kml=kml, dxf=dxf)
     targets = [p for p, _ in outputs]
     if len({t.resolve() for t in targets}) != len(targets):

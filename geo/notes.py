@@ -24,6 +24,7 @@ CODES: dict[str, str] = {
     "open_traverse": "an open traverse has no misclosure, adjustment or area",
     "no_area": "the figure has no area (its courses cross, or too few enclose nothing)",
     "declination_sigma_unknown": "no uncertainty of the declination is published or stated",
+    "closure_remark": "a remark on how the closure was made (calls solved, found corners)",
 }
 
 

@@ -444,6 +444,11 @@ class SurveyClosure:
     grid_unit_m: float
     notes: tuple[str, ...]
     note_objects: tuple[Note, ...] = ()
+    #: What the misclosure is measured against: "beginning" (a closed figure), "found end" (an
+    #: open line whose last course is found; geo.retrace), or None (open, nothing to close on).
+    closes_on: str | None = None
+    #: Found minus marched position of every found station (geo.retrace.found_gaps).
+    found_gaps: tuple[Any, ...] = ()
 
     @property
     def latitudes_m(self) -> tuple[float, ...]:
@@ -544,6 +549,8 @@ class SurveyClosure:
                     for b in self.budget
                 ],
             },
+            "closes_on": self.closes_on,
+            "found_gaps": [g.as_dict() for g in self.found_gaps],
             "notes": [n.as_dict() for n in self.note_objects],
         }
 
@@ -627,7 +634,9 @@ def resolve_adjustment(conv: DocumentConversion, adjust: str | None) -> str:
         raise InputError(
             f"unknown adjustment {adjust!r}: use compass, transit or none", field="adjust"
         )
-    closed = bool(conv.document.closed)
+    from geo.retrace import closes_on_found_end
+
+    closed = bool(conv.document.closed) or closes_on_found_end(conv)
     if adjust is None:
         return "compass" if closed else "none"
     if not closed and adjust != "none":
@@ -717,8 +726,10 @@ def _adjusted(conv: DocumentConversion, plane: PlaneFigure, method: str) -> _Adj
     from geo import traverse as tv
 
     try:
-        if conv.document.closed:
-            adj = tv.adjust(plane.azimuth_deg, plane.length_m, method=method)
+        if _closes_on(conv) is not None:
+            end_n, end_e = _plane_target(conv, plane)
+            adj = tv.adjust(plane.azimuth_deg, plane.length_m, method=method, end_north_m=end_n,
+                            end_east_m=end_e)  # fmt: skip
             return _Adjusted(
                 adj.latitude_corrections_m,
                 adj.departure_corrections_m,
@@ -735,6 +746,18 @@ def _adjusted(conv: DocumentConversion, plane: PlaneFigure, method: str) -> _Adj
         zeros, zeros, np.diff(plane.north_m), np.diff(plane.east_m), plane.north_m,
         plane.east_m, None,
     )  # fmt: skip
+
+
+def _plane_target(conv: DocumentConversion, plane: PlaneFigure) -> tuple[float, float]:
+    """Where the figure should end in the plane (metres north and east of the point of
+    beginning, grid north): the point of beginning, or an open line's found end (its grid
+    offset reduced by the figure's factor, as the stations are)."""
+    if conv.document.closed:
+        return 0.0, 0.0
+    found = conv.courses[-1].found
+    p0 = conv.figure_stations[0]
+    scale = conv.grid_unit_m / plane.factor
+    return (found.northing - p0.northing) * scale, (found.easting - p0.easting) * scale
 
 
 def adjusted_grid_stations(
@@ -949,6 +972,7 @@ def close_document(
         raise DocumentError("has no courses: nothing to close", file=conv.file, field="course")
     closed = bool(conv.document.closed)
     adjust = resolve_adjustment(conv, adjust)
+    closes_on = _closes_on(conv)
     rotation = _north_rotation(conv, north)
     notes: list[Note] = []
     if conv.angles_note:
@@ -957,6 +981,11 @@ def close_document(
         notes.append(
             Note("angles_balanced", "azimuths carried from course 1 with the balanced angles")
         )
+    from geo import omitted, retrace
+
+    extra = omitted.closure_notes([c.recorded for c in conv.courses])
+    extra += retrace.closure_notes(conv)
+    notes += [Note("closure_remark", text) for text in extra]
     # Stages, in order: the plane figure, its adjustment, the courses, area, attraction, budget.
     plane = plane_figure(conv)
     adj = _adjusted(conv, plane, adjust)
@@ -965,7 +994,11 @@ def close_document(
     mis_n, mis_e, mis, mis_az, precision = _misclosure(adj, rotation, perimeter)
     area = crossing = None
     if adj.closure is not None:
-        area, crossing = _area(conv, adj, plane, notes)
+        if closed:
+            area, crossing = _area(conv, adj, plane, notes)
+        else:
+            notes.append(Note("no_area", f"open line closed on its found end (course "
+                              f"{len(conv.courses)}): no area"))  # fmt: skip
     else:
         notes.append(
             Note(
@@ -1013,7 +1046,39 @@ def close_document(
         # the budget's own note is said where the budget is shown (close, report, JSON)
         notes=messages([n for n in notes if n.code != "declination_sigma_unknown"]),
         note_objects=(*conv.notes, *notes),
+        closes_on=closes_on,
+        found_gaps=_found_gaps(conv),
     )
+
+
+def _closes_on(conv: DocumentConversion) -> str | None:
+    """ "beginning", "found end" or None (see SurveyClosure.closes_on)."""
+    from geo.retrace import closes_on_found_end
+
+    if conv.document.closed:
+        return "beginning"
+    return "found end" if closes_on_found_end(conv) else None
+
+
+def _closing_point(conv: DocumentConversion, rotation: float, st: Any) -> tuple[float, float]:
+    """Where the courses should end in the closure's frame: (0, 0), or an open line's found
+    end (geo.retrace.found_end_target)."""
+    if conv.document.closed or _closes_on(conv) is None:
+        return 0.0, 0.0
+    from geo.retrace import found_end_target
+
+    return found_end_target(
+        conv,
+        rotation_deg=rotation,
+        end_north_m=float(st.north_m[-1]),
+        end_east_m=float(st.east_m[-1]),
+    )
+
+
+def _found_gaps(conv: DocumentConversion) -> tuple[Any, ...]:
+    from geo.retrace import found_gaps
+
+    return found_gaps(conv)
 
 
 # --------------------------------------------------------------------------------------------
@@ -1062,6 +1127,8 @@ class SurveyFit:
     stated_declination_deg: float | None
     record_length_factor: float | None
     notes: tuple[str, ...]
+    #: Standard error of the rotation (degrees; geo.fit.SimilarityFit.rotation_sigma_deg).
+    rotation_sigma_deg: float | None = None
 
     def as_dict(self) -> dict[str, Any]:
         """The ``lodeline fit --json`` object (plain JSON values)."""
@@ -1086,6 +1153,7 @@ class SurveyFit:
             "model": self.model,
             "stated_declination_deg": self.stated_declination_deg,
             "record_length_factor": self.record_length_factor,
+            "rotation_sigma_deg": self.rotation_sigma_deg,
             "notes": list(self.notes),
         }
 
@@ -1197,4 +1265,5 @@ def fit_document(conv: DocumentConversion, *, with_scale: bool = True) -> Survey
         stated_declination_deg=conv.stated_declination_deg,
         record_length_factor=fit.scale / cf if with_scale else None,
         notes=tuple(notes),
+        rotation_sigma_deg=fit.rotation_sigma_deg,
     )
