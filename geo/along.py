@@ -1,13 +1,11 @@
 """Points along the courses: the plot list of a cruise and the events of the field notes.
 
 Positions on a course
-    A point ``along_m`` metres (ground) from a course's start lies on that course's line at
-    the fraction ``along_m / length_m`` of the way from its starting to its ending station,
-    in the grid plane (the course's grid length is its ground length times one combined
-    factor, so the fraction is the same on the ground and on the grid). :func:`course_points`
-    is the one place that places such points: it follows the marched stations of
-    :mod:`geo.north` (the conversion's ``start`` and ``end`` of each course, unadjusted) and is
-    where a course drawn as a curved (integrated) line would be followed instead.
+    A point ``along_m`` metres (ground) from a course's start lies on that course's marched
+    line (:attr:`geo.north.CourseConversion.path`, interpolated between its nodes at equal
+    ground steps; for a course of one step, the fraction ``along_m / length_m`` of the way
+    from its starting to its ending station). :func:`course_points` is the one place that
+    places such points.
     Latitude and longitude come from the inverse projection of the grid position.
 
 The plot list (courses with ``every``)
@@ -78,10 +76,7 @@ def course_points(
     start of course ``course`` (1-based), following the course's line (see the module notes).
     """
     c = conv.courses[course - 1]
-    f = np.asarray(along_m, dtype=float) / c.length_m
-    e = c.start.easting + f * (c.end.easting - c.start.easting)
-    n = c.start.northing + f * (c.end.northing - c.start.northing)
-    return e, n
+    return c.path_at(np.asarray(along_m, dtype=float))  # the marched line (geo.north)
 
 
 # --------------------------------------------------------------------------------------------

@@ -44,9 +44,9 @@ One figure: the marched stations
     same text ``lodeline convert`` shows, at the course's own station); its latitude and
     departure are the components of its marched chord in the turned figure, which differ from
     ``L cos az`` of that bearing by the change of gamma (and D) between the course's station
-    and the point of beginning. Course ``length_m`` is the chord's length in the figure (the
-    recorded length times the course's own factor over the figure's); ``perimeter_m`` is the
-    sum of the recorded ground lengths.
+    and the point of beginning. Course ``length_m`` is the recorded ground length (the chord in the
+    figure differs from it by the course's own factor over the figure's, a few ppm);
+    ``perimeter_m`` is their sum.
 
 Sign conventions
     Azimuths are degrees clockwise from the chosen north in [0, 360). A latitude is the north
@@ -813,7 +813,7 @@ def _closure_courses(
             call=c.call,
             azimuth_deg=getattr(c.azimuth, key),
             bearing=getattr(c.bearing, key),
-            length_m=ln,
+            length_m=c.length_m,
             latitude_m=la,
             departure_m=de,
             latitude_correction_m=lc,
@@ -992,6 +992,8 @@ def close_document(
     courses = _closure_courses(conv, north, adj, plane, rotation)
     perimeter = math.fsum(plane.recorded_length_m.tolist())
     mis_n, mis_e, mis, mis_az, precision = _misclosure(adj, rotation, perimeter)
+    if any(getattr(c.recorded, "solved", None) for c in conv.courses):
+        precision = None  # the closure made the figure close (geo.omitted says so)
     area = crossing = None
     if adj.closure is not None:
         if closed:

@@ -216,10 +216,11 @@ def test_open_line_closes_on_its_found_end():
     )
     perimeter = 80 * CHAIN_M
     assert clo.precision == pytest.approx(perimeter / clo.misclosure_m, rel=1e-12)
-    # compass rule (Ghilani & Wolf): corrections proportional to the course lengths
+    # compass rule (Ghilani & Wolf): corrections proportional to the course lengths (those of
+    # the marched figure, within a few ppm of the recorded ones)
     for c in clo.courses:
         assert c.latitude_correction_m == pytest.approx(
-            -clo.misclosure_north_m * c.length_m / perimeter, abs=1e-12
+            -clo.misclosure_north_m * c.length_m / perimeter, abs=1e-6
         )
     gap = found_gaps(conv)
     assert [g.index for g in gap] == [3]
@@ -309,7 +310,8 @@ def test_corners_beyond_the_last_found_follow_the_record_turned_by_the_fit():
         "record only",
         "record only",
     ]
-    assert res.follow_rotation_deg == pytest.approx(1.5, abs=1e-6)
+    # the marched lines turn with gamma along each course (a few 1e-6 deg here)
+    assert res.follow_rotation_deg == pytest.approx(1.5, abs=1e-5)
     for k in (3, 4):
         want = turned(record.stations[k])
         assert (res.corners[k].easting, res.corners[k].northing) == pytest.approx(want, abs=1e-4)
