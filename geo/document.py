@@ -31,7 +31,9 @@ Schema, format_version 1 (every table and key below; any other key is an error):
     model = "auto"                # field model for the record date, or auto
     distance_unit = "perch"       # unit of calls that give none (optional)
     foot = "us"                   # us | international (optional; default by the date)
-    vara_inches = 33.333333       # length of the vara in inches; required when varas occur
+    vara_inches = "texas"         # length of the vara in inches (a number, "33 1/3", or
+                                  # "texas" = 33 1/3, "california" = 33); required when
+                                  # varas occur
     angles = "right"              # right | left; required when a course gives an angle
 
     [target]                      # optional: the date to convert to (added in version 1)
@@ -247,7 +249,7 @@ class Record(_Table):
     model: Annotated[str, BeforeValidator(_text)] = "auto"
     distance_unit: Text = None
     foot: Literal["us", "international"] | None = None
-    vara_inches: Number = None
+    vara_inches: NumberOrText = None
     angles: Literal["right", "left"] | None = None
 
     @property

@@ -187,9 +187,6 @@ def test_an_appended_number_unit_or_bearing_is_never_ignored(base, sep, piece):
         return
     # Read: then every appended character belongs to the bearing or the distance (it
     # changed what was read), never to an unread note.
-    assert call.note in ("", "."), (text, call)
-    base_call = parse_call(base, **CTX)
-    assert (call.bearing, call.distance.metres) != (
-        base_call.bearing,
-        base_call.distance.metres,
-    ), (text, call)
+    assert call.note == "", (text, call)
+    read_last = (call.distance.text, call.bearing.text)
+    assert text.rstrip().endswith(read_last), (text, call)

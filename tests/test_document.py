@@ -100,7 +100,7 @@ MALFORMED = [
     ("impossible date", variant(**{"record.date": "1854-02-30"}), None, "record.date", "calendar"),
     (
         "declination does not parse",
-        variant(**{"record.declination": "three degrees west"}),
+        variant(**{"record.declination": "a few degrees west"}),
         None,
         "record.declination",
         "",
