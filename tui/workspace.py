@@ -24,6 +24,7 @@ from pathlib import Path
 from typing import Any
 
 from geo.atomic import write_atomic
+from geo.document import VERSION_2_KEYS
 
 #: The keys of a course the application edits, in the order the editor offers them.
 COURSE_FIELDS = ("call", "back", "found", "every", "note")
@@ -37,6 +38,7 @@ SETTING_LABELS: dict[str, str] = {
     "place.easting": "Easting (m)",
     "place.northing": "Northing (m)",
     "place.height_m": "Height (m, ellipsoid)",
+    "place.description": "Point of beginning, as described",
     "grid.crs": "Grid CRS",
     "record.reference": "Record reference",
     "record.date": "Record date",
@@ -46,6 +48,7 @@ SETTING_LABELS: dict[str, str] = {
     "record.foot": "Foot",
     "record.vara_inches": "Vara (inches)",
     "record.angles": "Angles turned",
+    "record.area": "Stated area",
     "target.date": "Target date",
     "target.model": "Target field model",
 }
@@ -82,6 +85,8 @@ def with_setting(doc: Mapping[str, Any], key: str, value: Any) -> Document:
     """
     head, _, rest = key.partition(".")
     out = dict(doc)
+    if key in VERSION_2_KEYS and value is not None and out.get("format_version") == 1:
+        out["format_version"] = 2  # the key is one of format_version 2
     if not rest:
         if value is None:
             out.pop(head, None)

@@ -49,7 +49,18 @@ def _deg(value: float | None, digits: int = 4) -> str:
     return "-" if value is None else f"{value:+.{digits}f}"
 
 
-def render(result: Any, title: str | None = None) -> str:
+def stated_area_line(check: Any) -> str:
+    """One line comparing the deed's stated area with the computed ground area."""
+    if check.problem is not None:
+        return f"stated area {check.stated}: not compared ({check.problem})"
+    return (
+        f"stated area {check.stated} = {check.stated_m2:,.2f} m2; computed ground area "
+        f"{check.computed_m2:,.2f} m2 differs by {check.difference_m2:+,.2f} m2 "
+        f"({check.difference_pct:+.2f} % of the stated area)"
+    )
+
+
+def render(result: Any, title: str | None = None, area_check: Any = None) -> str:
     """The human-readable closure of a :class:`geo.survey.SurveyClosure`."""
     from .common import text_table as table
 
@@ -110,6 +121,8 @@ def render(result: Any, title: str | None = None) -> str:
             f"{area.acres:,.4f} acres ({area.foot} foot acre); grid area {area.grid_m2:,.2f} m2 "
             f"(combined factor {area.combined_factor:.8f})"
         )
+    if area_check is not None:
+        lines.append(stated_area_line(area_check))
     ang = result.angles
     if ang is not None:
         lines.append(
@@ -182,11 +195,28 @@ def emit(
         doc, file=args.document, allow_unknown_declination=allow_unknown_declination
     )
     result = compute(conv)
+    check = _area_check(doc, result) if getattr(result, "area", False) is not False else None
     if args.json:
-        print_json(result.as_dict())
+        data = result.as_dict()
+        if check is not None:
+            data["stated_area"] = check.as_dict()
+        print_json(data)
+    elif check is not None:
+        sys.stdout.write(render_result(result, doc.title, check))
     else:
         sys.stdout.write(render_result(result, doc.title))
     return 0
+
+
+def _area_check(doc: Any, result: Any) -> Any:
+    """The stated area (record.area) beside the computed ground area, or ``None``."""
+    if doc.record.area is None:
+        return None
+    from geo.description import compare_area
+
+    area = result.area
+    foot = area.foot if area is not None else doc.record.foot
+    return compare_area(doc.record.area, area.ground_m2 if area else None, foot=foot)
 
 
 def run(args: argparse.Namespace) -> int:
