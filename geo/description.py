@@ -34,7 +34,8 @@ Public API
     foot=None, vara_inches=None, south_azimuth=False) -> Description``,
     ``stated_facts(text) -> dict``, ``read_form(call, *, foot, vara_inches) -> str``,
     ``recorded_bearing(text, azimuth_deg, precision_deg, style) -> str``,
-    ``stated_area_m2(text, *, foot) -> float``, ``AreaCheck``, ``compare_area(stated, computed_m2, *, foot) -> AreaCheck``.
+    ``stated_area_m2(text, *, foot) -> float``, ``AreaCheck``,
+    ``compare_area(stated, computed_m2, *, foot) -> AreaCheck``.
     Reading is linear in the length of the text.
 """
 
