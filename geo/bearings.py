@@ -776,7 +776,7 @@ def read_bearing(
         return _quadrant(r, i, stop_before_units)
     if w in _EW:
         got = r.quantity(i + 1) if r.is_number(i + 1) else None
-        if got is not None and r.word(got[1]) in stop_before_units:
+        if got is not None and (r.word(got[1]) in stop_before_units or _feet_after(r, got[1])):
             return _cardinal(r, i, i), i + 1  # "West 40 poles": a cardinal call and a distance
         if r.is_number(i + 1) or r.is_negative(i + 1):
             raise r.fail(
@@ -826,6 +826,18 @@ def _split_point_end(r: Reader, i: int) -> int | None:
     return None
 
 
+def _feet_after(r: Reader, k: int) -> bool:
+    """True when token ``k`` (after a number that follows a cardinal word) is a foot mark
+    that no E or W follows: ``East 149' 2"`` is a cardinal call and feet and inches, while
+    ``N 45' E`` stays a (wrongly written) quadrant bearing."""
+    if r.kind(k) != MIN:
+        return False
+    nxt = k + 1
+    if r.is_number(nxt) and r.kind(nxt + 1) == SEC:
+        nxt += 2
+    return r.word(nxt) not in _EW and r.word(nxt) not in _NS
+
+
 def _in_range(azimuth_deg: float) -> float:
     """``azimuth_deg`` reduced to [0, 360) by :func:`geo.angles.normalize_azimuth`, skipped when
     it is already inside (0, 360), where the reduction returns it unchanged."""
@@ -859,7 +871,7 @@ def _quadrant(r: Reader, i: int, stop_before_units) -> tuple[Bearing, int]:
     if not r.is_number(j):
         return _cardinal(r, i, i), j
     got = r.quantity(j)
-    if got is not None and r.word(got[1]) in stop_before_units:
+    if got is not None and (r.word(got[1]) in stop_before_units or _feet_after(r, got[1])):
         return _cardinal(r, i, i), j  # "North 20 perches": a cardinal call and a distance
     angle, k = read_angle(r, j, quadrant=True)
     ew_word = r.word(k)

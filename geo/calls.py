@@ -510,19 +510,28 @@ def _lead_phrase(r: Reader, i: int, o: _Options) -> tuple[str, Call]:
     call; exactly one such place must exist. Returns (phrase, call of the rest)."""
     found: list[tuple[str, tuple]] = []
     first_end = 0  # tokens before this belong to the first reading's bearing and distance
+    rest_error: ParseError | None = None
     for k in range(i + 1, min(len(r.toks), i + _LEAD_PHRASE_TOKENS)):
         if k < first_end or not starts_bearing(r, k):
             continue
         try:
             bearing, distance, j, mid = _read_parts(r, k, o)
-            note = _rest_note(r, j, bearing, distance)
         except ParseError:
+            continue
+        if bearing is None or distance is None:
+            continue
+        try:
+            note = _rest_note(r, j, bearing, distance)
+        except ParseError as exc:
+            rest_error = rest_error or exc  # a course read, and something after it did not
             continue
         if bearing is not None and distance is not None:
             phrase = r.text[r.toks[i].start : r.toks[k - 1].end].strip().rstrip(",;").strip()
             found.append((phrase, (bearing, distance, mid, note)))
             first_end = first_end or j
     lead = r.show(i, i + 1)
+    if not found and rest_error is not None:
+        raise rest_error
     if not found:
         raise _unread(
             r,

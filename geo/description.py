@@ -128,9 +128,18 @@ _CLAUSES: tuple[tuple[str, re.Pattern[str]], ...] = (
     (
         "date",
         re.compile(
-            r"\b(?:surveyed|survey\s+made|measured|run)\s+(?:on\s+|in\s+)?(?:the\s+)?"
+            r"\b(?i:surveyed|survey\s+made|measured|run)\s+(?i:on\s+|in\s+)?(?i:the\s+)?"
             r"(?P<v>\d{4}-\d{2}-\d{2}|(?:\d{1,2}(?:st|nd|rd|th)?\s+day\s+of\s+)?"
             r"[A-Z][a-z]+\.?\s+(?:\d{1,2}(?:st|nd|rd|th)?,?\s+)?\d{4})",
+        ),
+    ),
+    (
+        "vara",
+        re.compile(
+            r"\b(?:(?:the\s+)?(?:distances|lengths)\s+(?:are\s+|being\s+|given\s+)*(?:in\s+)?)?"
+            r"(?:(?P<named>texas|california)\s+varas?|varas?\s+of\s+(?P<v>\d+(?:\s+\d+/\d+)?"
+            r"|\d+(?:\.\d+)?)\s+inches(?:\s+each)?)",
+            re.I,
         ),
     ),
     (
@@ -138,14 +147,6 @@ _CLAUSES: tuple[tuple[str, re.Pattern[str]], ...] = (
         re.compile(
             r"\b(?:all\s+)?(?:the\s+)?(?:distances|lengths)\s+(?:are\s+|being\s+|given\s+)*"
             r"(?:in|by)\s+(?P<v>[a-z]+)",
-            re.I,
-        ),
-    ),
-    (
-        "vara",
-        re.compile(
-            r"\b(?:(?P<named>texas|california)\s+varas?|varas?\s+of\s+(?P<v>\d+(?:\s+\d+/\d+)?"
-            r"|\d+(?:\.\d+)?)\s+inches(?:\s+each)?)",
             re.I,
         ),
     ),
