@@ -1,12 +1,13 @@
 """Writes the description corpus (invented places and names) with its expected courses."""
 
-import math, random
+import math
+import random
 from fractions import Fraction as F
 from pathlib import Path
 
 OUT = Path(__file__).parent
-ONES = "zero one two three four five six seven eight nine ten eleven twelve thirteen fourteen fifteen sixteen seventeen eighteen nineteen".split()
-TENS = "_ _ twenty thirty forty fifty sixty seventy eighty ninety".split()
+ONES = ["zero", "one", "two", "three", "four", "five", "six", "seven", "eight", "nine", "ten", "eleven", "twelve", "thirteen", "fourteen", "fifteen", "sixteen", "seventeen", "eighteen", "nineteen"]
+TENS = ["_", "_", "twenty", "thirty", "forty", "fifty", "sixty", "seventy", "eighty", "ninety"]
 
 
 def words(n):
@@ -202,7 +203,7 @@ def figure(rnd, n, size):
         for t in angles
     ]
     out = []
-    for (x0, y0), (x1, y1) in zip(pts, pts[1:] + pts[:1]):
+    for (x0, y0), (x1, y1) in zip(pts, pts[1:] + pts[:1], strict=False):
         dx, dy = x1 - x0, y1 - y0
         out.append(((math.degrees(math.atan2(dx, dy))) % 360, math.hypot(dx, dy)))
     return out
@@ -215,7 +216,7 @@ def area_ft2(courses):
         x += L * math.sin(math.radians(az))
         y += L * math.cos(math.radians(az))
         pts.append((x, y))
-    s = sum(a[0] * b[1] - b[0] * a[1] for a, b in zip(pts, pts[1:]))
+    s = sum(a[0] * b[1] - b[0] * a[1] for a, b in zip(pts, pts[1:], strict=False))
     return abs(s) / 2
 
 
