@@ -43,7 +43,9 @@ Public API
     ``format_bearings(azimuths_deg, *, precision=SECOND, ascii=False) -> list[str]`` (many);
     ``format_azimuth(azimuth_deg, *, precision=SECOND, ascii=False, reference='north') -> str``;
     ``format_declination(declination_deg, *, precision=MINUTE, ascii=False) -> str``;
-    ``parse_declination(value) -> float``; ``DEGREE``, ``MINUTE``, ``SECOND``,
+    ``recorded_bearing(azimuth_deg, precision_deg, style) -> str`` (a recorded bearing
+    in its recorded form: ``due N``, ``N``, ``NE``); ``parse_declination(value) -> float``;
+    ``DEGREE``, ``MINUTE``, ``SECOND``,
     ``TENTH_SECOND``. Parsing is a single left-to-right pass (linear in the text length).
 """
 
@@ -1087,6 +1089,21 @@ def _render(counts: int, plan: _Plan, ascii: bool) -> str:
     s, sf = divmod(rest, scale)
     ss = f"{s:02d}.{sf:0{k}d}" if k else f"{s:02d}"
     return f"{d}-{m:02d}-{ss}" if ascii else f"{d}°{m:02d}′{ss}″"
+
+
+_CARDINAL_LETTERS = {0.0: "N", 90.0: "E", 180.0: "S", 270.0: "W"}
+
+
+def recorded_bearing(azimuth_deg: float, precision_deg: float, style: str) -> str:
+    """A recorded bearing in its recorded form (the record column): a cardinal call
+    (``North``, ``due East``) as ``due N``, ``due E``..., an intercardinal point as ``NE``
+    (never ``N 0° E``, ``N 45° E``); any other bearing by :func:`format_bearing` at its
+    written precision. ``style`` is :attr:`Bearing.style`."""
+    if style == "cardinal":
+        if azimuth_deg in _CARDINAL_LETTERS:
+            return f"due {_CARDINAL_LETTERS[azimuth_deg]}"
+        return _POINT_QUADRANT[azimuth_deg]
+    return format_bearing(azimuth_deg, precision=precision_deg)
 
 
 def finite_number(value: float, what: str) -> float:

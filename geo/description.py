@@ -32,8 +32,7 @@ Reading
 Public API
     ``ReadCourse``, ``Description``, ``read_description(text, *, default_unit=None,
     foot=None, vara_inches=None, south_azimuth=False) -> Description``,
-    ``stated_facts(text) -> dict``, ``read_form(call, *, foot, vara_inches) -> str``,
-    ``recorded_bearing(text, azimuth_deg, precision_deg, style) -> str``,
+    ``stated_facts(text) -> dict``, ``read_form(call) -> str``,
     ``stated_area_m2(text, *, foot) -> float``, ``AreaCheck``,
     ``compare_area(stated, computed_m2, *, foot) -> AreaCheck``.
     Reading is linear in the length of the text.
@@ -46,7 +45,12 @@ import re
 from dataclasses import dataclass
 from fractions import Fraction
 
-from geo.bearings import Reader, format_bearing, mark_unread, parse_declination
+from geo.bearings import (
+    Reader,
+    mark_unread,
+    parse_declination,
+    recorded_bearing,
+)
 from geo.calls import Call, parse_call
 from geo.errors import LodelineError, ParseError
 from geo.units import UNIT_LABELS, Foot, resolve_vara_inches, square_metres_per, unit_name
@@ -403,19 +407,13 @@ def read_description(
     )
 
 
-def read_form(
-    call: Call, *, foot: Foot | None, vara_inches: Fraction | int | float | str | None = None
-) -> str:
+def read_form(call: Call) -> str:
     """The call as it was read, to set beside its words: ``N 35°45′ E  61.5 perches``
     (the bearing at its written precision; the distance in its unit and in metres)."""
     parts = []
     if call.bearing is not None:
         b = call.bearing
-        parts.append(
-            recorded_bearing(b.text, b.azimuth_deg, b.precision_deg, b.style)
-            if b.style == "cardinal"
-            else format_bearing(b.azimuth_deg, precision=b.precision_deg)
-        )
+        parts.append(recorded_bearing(b.azimuth_deg, b.precision_deg, b.style))
     if call.distance is not None:
         d = call.distance
         value = f"{d.value:.6f}".rstrip("0").rstrip(".")
@@ -423,21 +421,6 @@ def read_form(
     if call.note:
         parts.append(f"[{call.note}]")
     return "  ".join(parts)
-
-
-_CARDINAL_LETTERS = {0.0: "N", 90.0: "E", 180.0: "S", 270.0: "W"}
-
-
-def recorded_bearing(text: str, azimuth_deg: float, precision_deg: float, style: str) -> str:
-    """A recorded bearing in its recorded form: a cardinal call as ``due N``/``N`` (as it was
-    written, ``due`` kept), an intercardinal point as ``NE``; any other bearing by
-    :func:`geo.bearings.format_bearing` at its written precision."""
-    if style == "cardinal":
-        if azimuth_deg in _CARDINAL_LETTERS:
-            letter = _CARDINAL_LETTERS[azimuth_deg]
-            return f"due {letter}" if text.casefold().startswith("due") else letter
-        return {45.0: "NE", 135.0: "SE", 225.0: "SW", 315.0: "NW"}[azimuth_deg]
-    return format_bearing(azimuth_deg, precision=precision_deg)
 
 
 # Area units of a stated area: words -> (geo.units area unit, multiple).

@@ -670,6 +670,11 @@ class RecordedCourse:
         The course's ``note`` key, or ``None``.
     call_note:
         The words of the call after the distance ("to a white oak"), or ``None``.
+    bearing_style:
+        How the bearing was written (``'quadrant'``, ``'azimuth'``, ``'cardinal'``, see
+        :class:`geo.bearings.Bearing`), or ``None`` for a course given by an angle.
+    back_precision_deg:
+        The precision the back bearing was written to (degrees), or ``None``.
     """
 
     index: int
@@ -685,6 +690,8 @@ class RecordedCourse:
     every_m: float | None
     note: str | None
     call_note: str | None
+    bearing_style: str | None = None
+    back_precision_deg: float | None = None
 
 
 def course_call_text(course: Course, default_unit: str | None = None) -> str:
@@ -985,10 +992,11 @@ def _parse_course_cached(
             field="call" if course.call is not None else "distance",
             **where,
         )
-    back = None
+    back = back_precision = None
     if course.back is not None:
         try:
-            back = parse_bearing(course.back).azimuth_deg
+            back_bearing = parse_bearing(course.back)
+            back, back_precision = back_bearing.azimuth_deg, back_bearing.precision_deg
         except LodelineError as err:
             raise _locate(err, None, None, "back") from None
     every_m = None
@@ -1013,6 +1021,8 @@ def _parse_course_cached(
         every_m,
         course.note,  # note
         call_note,
+        None if bearing is None else bearing.style,  # bearing_style
+        back_precision,  # back_precision_deg
     )
 
 

@@ -108,7 +108,7 @@ def document_data(desc: Any, args: argparse.Namespace, foot: str | None) -> dict
     return data
 
 
-def echo(desc: Any, foot: str | None, vara: Any) -> str:
+def echo(desc: Any) -> str:
     """The courses as read, each beside the words it came from, and the stated facts."""
     from geo.description import read_form
 
@@ -119,7 +119,7 @@ def echo(desc: Any, foot: str | None, vara: Any) -> str:
         lines.append(f"point of beginning: {desc.beginning}")
     rows = [["#", "words", "read as"]]
     for c in desc.courses:
-        rows.append([str(c.index), c.source, read_form(c.call, foot=foot, vara_inches=vara)])
+        rows.append([str(c.index), c.source, read_form(c.call)])
     lines += text_table(rows, right={0})
     for what, words in desc.clauses:
         lines.append(f"{what}: {words}")
@@ -163,7 +163,7 @@ def run(args: argparse.Namespace) -> int:
             )
     to_stdout = args.out in (None, "-")
     shown = sys.stderr if to_stdout else sys.stdout
-    shown.write(echo(desc, foot, vara or desc.vara_inches))
+    shown.write(echo(desc))
     write_output(args.out, out, force=args.force)
     if problem is not None:
         print(f"lodeline read: the document is not complete yet: {problem}", file=sys.stderr)
