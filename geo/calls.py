@@ -396,7 +396,7 @@ def _rest_note(r: Reader, i: int, bearing: Bearing | None, distance: Distance | 
         raise _unread(r, t.start, _run_end(r, i), return_error)
     if distance is not None and r.is_number(i):
         raise _number_after_distance(r, i, distance)
-    if t.kind == WORD and t.word in MONUMENT_WORDS:
+    if (t.kind == WORD and t.word in MONUMENT_WORDS) or _remark_at(r, i):
         _no_second_course(r, i)
         return r.text[t.start :].strip().rstrip(",;").strip()
     rest = r.text[t.start :].strip()
@@ -410,6 +410,16 @@ def _rest_note(r: Reader, i: int, bearing: Bearing | None, distance: Distance | 
         f"not read after the {what}: a monument phrase starts with to, with, along, by, at, "
         "crossing... (write 'to a white oak')",
     )
+
+
+def _remark_at(r: Reader, i: int) -> bool:
+    """True for a remark in brackets that opens with a plain word: ``(typed in the field)``,
+    not ``(50)``, ``(links)`` or ``(N 10 E)``."""
+    t = r.tok(i)
+    if t is None or t.kind != OTHER or t.word not in "([":
+        return False
+    w = r.word(i + 1)
+    return w is not None and w not in _UNIT_WORDS and not starts_bearing(r, i + 1)
 
 
 def _no_second_course(r: Reader, i: int) -> None:

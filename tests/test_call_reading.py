@@ -49,6 +49,8 @@ MISREADS = [
     ("N 45 E 20 perches a white oak", "a white oak", "to, with, along"),
     ("N 45 E 20 perches 3 chains", "3 chains", "several distances"),
     ("N 45 E 20 perches North", "North", "not read"),
+    ("N 45 E 20 perches (50)", "(50)", "not read"),
+    ("N 45 E 20 perches (links)", "(links)", "not read"),
 ]
 
 
@@ -111,6 +113,7 @@ ACCEPTED = [
     ("N 45 E 20 perches, more or less, to a stone", 45.0, 20 * PERCH, "more or less, to a stone"),
     ("N 45 E 20 perches crossing a run", 45.0, 20 * PERCH, "crossing a run"),
     ("N 45 E 20 perches.", 45.0, 20 * PERCH, ""),
+    ("N 45 E 20 perches (a remark)", 45.0, 20 * PERCH, "(a remark)"),
     ("S 3 E 8 rods to a stone; thence", 177.0, 8 * PERCH, "to a stone; thence"),
 ]
 
