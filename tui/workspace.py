@@ -38,7 +38,7 @@ SETTING_LABELS: dict[str, str] = {
     "place.easting": "Easting (m)",
     "place.northing": "Northing (m)",
     "place.height_m": "Height (m, ellipsoid)",
-    "place.description": "Point of beginning, as described",
+    "place.description": "Beginning described",
     "grid.crs": "Grid CRS",
     "record.reference": "Record reference",
     "record.date": "Record date",
