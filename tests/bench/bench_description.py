@@ -84,7 +84,9 @@ def main() -> None:
     split = _median(lambda: re.split(r"\bthence\b", text, flags=re.I), args.repeat)
     toml = _median(lambda: tomllib.loads(doc_toml), args.repeat)
     print(f"read_description, {args.courses} courses ({len(text):,} characters)")
-    print(f"  median {ours * 1000:.1f} ms  (budget {BUDGET_S * 1000:.0f} ms: {ours / BUDGET_S:.3f}x)")
+    print(
+        f"  median {ours * 1000:.1f} ms  (budget {BUDGET_S * 1000:.0f} ms: {ours / BUDGET_S:.3f}x)"
+    )
     print(f"  per course {ours / args.courses * 1e6:.0f} µs")
     print(f"  re.split at 'thence' alone: {split * 1000:.3f} ms (ours {ours / split:,.0f}x)")
     print(f"  tomllib of the same courses as TOML: {toml * 1000:.2f} ms (ours {ours / toml:.1f}x)")
