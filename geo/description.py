@@ -96,6 +96,12 @@ class Description:
 
 
 _NUM = r"(?:\d[\d,]*(?:\.\d+)?(?:\s+\d+/\d+|\s*[½¼¾⅓⅔])?|\d+/\d+|[a-z]+(?:[\s-]+[a-z]+)*?)"
+# A stated variation starts with a number (digits or words): "2° W", "three degrees west".
+_ANGLE_START = (
+    r"[\d½¼¾]|(?:zero|one|two|three|four|five|six|seven|eight|nine|ten|eleven|twelve|"
+    r"thirteen|fourteen|fifteen|sixteen|seventeen|eighteen|nineteen|twenty|thirty|forty|"
+    r"fifty|sixty|seventy|eighty|ninety|a\s+half|half)\b"
+)
 _AREA_UNIT = (
     r"(?:acres?|a\.|hectares?|ha\.?|square\s+(?:feet|foot|perches|poles|rods|chains|metres|"
     r"meters|varas)|sq\.?\s*(?:ft|feet|perches|poles|rods|chains|m)\.?)"
@@ -116,7 +122,7 @@ _CLAUSES: tuple[tuple[str, re.Pattern[str]], ...] = (
         re.compile(
             r"\b(?:the\s+)?(?:needle|compass|magnetic\s+variation|variation|declination)"
             r"(?:\s+(?:then|being|at\s+that\s+time))*\s*(?:varying|varied|being|of|was|is)?"
-            r"\s+(?P<v>[^,;()]*?\b(?:east|west|e|w)\b\.?)",
+            rf"\s+(?P<v>(?={_ANGLE_START})[^,;()]*?\b(?:east|west|e|w)\b\.?)",
             re.I,
         ),
     ),
@@ -359,7 +365,10 @@ def read_description(
     blanked, facts, clauses = _take_clauses(text)
     vara = vara_inches if vara_inches is not None else facts.get("vara_inches")
     if vara is not None:
-        resolve_vara_inches(vara)  # a stated vara that is not a length: refused here
+        try:
+            resolve_vara_inches(vara)  # a stated vara that is not a length: refused here
+        except LodelineError as err:
+            raise ParseError(f"the vara: {err.message}", text=text) from None
     ctx = _Context(
         default_unit=default_unit or facts.get("unit"),
         foot=foot,

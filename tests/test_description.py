@@ -220,3 +220,49 @@ def test_a_formatted_call_reads_back_as_the_same_course(azimuth, precision, metr
     assert again.bearing.precision_deg == first.bearing.precision_deg
     assert again.distance.metres == pytest.approx(first.distance.metres, rel=1e-15)
     assert again.note == first.note == note.strip()
+
+
+def test_a_compass_line_in_a_call_is_not_a_variation():
+    desc = read_description(
+        "Beginning at a stone, thence with the compass line N 45 E 20 perches to a post",
+        foot="us",
+    )
+    assert desc.declination is None
+    assert desc.courses[0].call.note == "with the compass line, to a post"
+
+
+_PIECES = st.sampled_from(
+    [
+        "Beginning at a stone",
+        ", thence ",
+        "; thence ",
+        "\n",
+        "N 45 E 20 perches",
+        "to a post",
+        "containing 6 acres, more or less",
+        "the needle then varying 2° W",
+        "by the magnetic meridian of 1854",
+        "surveyed May 12, 1854",
+        "twenty",
+        "5",
+        " ",
+        "(",
+        ")",
+        "Texas varas",
+        "along the road",
+        "North",
+        "chains",
+    ]
+)
+
+
+@settings(max_examples=500, deadline=None)
+@given(text=st.one_of(st.text(max_size=200), st.lists(_PIECES, max_size=25).map("".join)))
+def test_random_descriptions_raise_only_parse_errors(text):
+    try:
+        desc = read_description(text, default_unit="perch", foot="us", vara_inches="texas")
+    except ParseError:
+        return
+    for c in desc.courses:
+        assert c.call.bearing is not None and c.call.distance is not None
+        assert c.call.distance.metres > 0
