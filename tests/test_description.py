@@ -266,3 +266,19 @@ def test_random_descriptions_raise_only_parse_errors(text):
     for c in desc.courses:
         assert c.call.bearing is not None and c.call.distance is not None
         assert c.call.distance.metres > 0
+
+
+def test_read_does_not_import_textual(tmp_path):
+    import subprocess
+    import sys
+
+    src = tmp_path / "deed.txt"
+    src.write_text(ISSUE_EXAMPLE, encoding="utf-8")
+    code = (
+        "import sys; from tui.cli import main; "
+        f"rc = main(['read', {str(src)!r}, '--lat', '40', '--lon', '-77', '--out', "
+        f"{str(tmp_path / 'doc.toml')!r}]); "
+        "assert 'textual' not in sys.modules, 'textual imported'; sys.exit(rc)"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
+    assert done.returncode == 0, done.stderr
