@@ -424,6 +424,8 @@ def _remark_at(r: Reader, i: int) -> bool:
 
 def _no_second_course(r: Reader, i: int) -> None:
     """Refuse a note that holds a second course ("to a stake; thence N 20 E 5 chains")."""
+    if "thence" not in r.text[r.toks[i].start :].casefold():
+        return  # the usual note: no word to look for
     for k in range(i, len(r.toks)):
         if r.word(k) == "thence" and _skip_commas(r, k + 1) < len(r.toks):
             raise _unread(

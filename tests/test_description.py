@@ -282,3 +282,21 @@ def test_read_does_not_import_textual(tmp_path):
     )
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
     assert done.returncode == 0, done.stderr
+
+
+@pytest.mark.parametrize("case", CASES[::4])
+def test_every_corpus_call_formatted_reads_back_as_the_same_course(case):
+    desc, exp = _read(case)
+    ctx = {"default_unit": None, "foot": "us", "vara_inches": "texas"}
+    for got in desc.courses:
+        b, d = got.call.bearing, got.call.distance
+        text = (
+            f"{format_bearing(b.azimuth_deg, precision=b.precision_deg)} "
+            f"{format_length(d.metres, d.unit, decimals=9, foot='us', vara_inches='texas')}"
+            + (f" {got.call.note}" if got.call.note else "")
+        )
+        again = parse_call(text, **ctx)
+        assert again.bearing.azimuth_deg == b.azimuth_deg, text
+        assert again.bearing.precision_deg == b.precision_deg, text
+        assert again.distance.metres == pytest.approx(d.metres, rel=1e-9), text  # 9 decimals
+        assert again.note == got.call.note
