@@ -147,7 +147,14 @@ def test_courses_one_a_line_without_thence():
 
 def test_a_variation_that_does_not_read_is_refused():
     with pytest.raises(ParseError, match="variation does not read"):
-        read_description("Beginning at a stone, thence N 10 E 4 poles, the needle varying a bit W")
+        read_description(
+            "Beginning at a stone, thence N 10 E 4 poles, the needle varying 2 or 3 degrees W",
+            foot="us",
+        )
+    with pytest.raises(ParseError, match="course 1: .*not read"):  # no number: not a variation
+        read_description(
+            "Beginning at a stone, thence N 10 E 4 poles, the needle varying a bit W", foot="us"
+        )
 
 
 def test_stated_areas():
