@@ -115,6 +115,7 @@ from geo.angles import normalize_azimuth
 from geo.bearings import parse_bearing
 from geo.calls import parse_call, parse_distance
 from geo.errors import DocumentError, LodelineError
+from geo.omitted import has_unknown
 
 __all__ = [
     "FORMAT_VERSION",
@@ -692,6 +693,8 @@ class RecordedCourse:
     call_note: str | None
     bearing_style: str | None = None
     back_precision_deg: float | None = None
+    #: What the closure supplied when the call wrote "?" (geo.omitted), else None.
+    solved: str | None = None
 
 
 def course_call_text(course: Course, default_unit: str | None = None) -> str:
@@ -1034,12 +1037,40 @@ def parse_courses(doc: Document, *, file: str | None = None) -> tuple[RecordedCo
     """
     ctx_items = tuple(_unit_context(doc).items())
     out: list[RecordedCourse] = []
+    omitted: list[Any] = []
     previous: float | None = None
     for i, course in enumerate(doc.course, start=1):
+        if has_unknown(course):  # "?" in the call: completed from the closure (geo.omitted)
+            omitted.append(_read_omitted(course, i, ctx_items, file))
+            previous = None
+            continue
         parsed = _parse_course(course, i, previous, doc, ctx_items, file)
         out.append(parsed)
         previous = parsed.azimuth_deg
+    if omitted:
+        out = _with_omitted(doc, out, omitted, file)
     return tuple(out)
+
+
+def _read_omitted(course: Course, i: int, ctx_items: tuple, file: str | None) -> Any:
+    from geo.omitted import read_omitted
+
+    try:
+        return read_omitted(course, i, dict(ctx_items))
+    except DocumentError as err:
+        raise err.located(file=file) from None
+
+
+def _with_omitted(
+    doc: Document, known: list[RecordedCourse], omitted: list[Any], file: str | None
+) -> list[RecordedCourse]:
+    """The courses in order, those written with "?" completed from the closure."""
+    from geo.omitted import solve_omitted
+
+    solved = solve_omitted(
+        known, omitted, closed=doc.closed, reference=doc.record.reference, file=file
+    )
+    return sorted([*known, *solved], key=lambda r: r.index)
 
 
 _VARA_MISSING = (
@@ -1062,6 +1093,12 @@ def document_problems(doc: Document, *, file: str | None = None) -> list[Documen
         return problems
     ctx_items = tuple(ctx.items())
     previous: float | None = None
+    if any(has_unknown(c) for c in doc.course):
+        try:
+            parse_courses(doc, file=file)
+        except DocumentError as err:
+            problems.append(err)
+        return problems
     for i, course in enumerate(doc.course, start=1):
         try:
             previous = _parse_course(course, i, previous, doc, ctx_items, file).azimuth_deg

@@ -388,6 +388,9 @@ def geojson_collection(
                 },
             }
         )
+    from geo.retrace import corner_features
+
+    features += corner_features(conv, decimals=COORD_DECIMALS)
     area = clo.area
     properties = {
         "title": doc.title,

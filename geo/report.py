@@ -1049,6 +1049,10 @@ def collect_report(
         else:
             blocks += _fit_blocks(conv, fit)
 
+    from geo.retrace_report import retracement_blocks
+
+    blocks += retracement_blocks(conv, fit)
+
     blocks.append(Heading("Notes"))
     note_rows = tuple((str(c.index), c.recorded.note) for c in conv.courses if c.recorded.note)
     if note_rows:
@@ -1093,12 +1097,16 @@ def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
             "figure",
             "closed (the calls return to the point of beginning)"
             if clo.closed
-            else "open traverse (closed = false)",
+            else (
+                f"open line closed on its found end (station {len(clo.courses)})"
+                if clo.closes_on
+                else "open traverse (closed = false)"
+            ),
         ),
         ("directions referred to", north.get(clo.north, clo.north)),
         ("perimeter", f"{clo.perimeter_m:,.3f} m"),
     ]
-    if clo.closed:
+    if clo.closes_on:
         if clo.misclosure_m:
             facts.append(
                 (

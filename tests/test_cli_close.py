@@ -47,6 +47,8 @@ CLOSE_KEYS = CLOSE_REQUIRED | {
     "local_attraction_courses",
     "error_budget",
     "notes",
+    "closes_on",
+    "found_gaps",
 }
 FIT_REQUIRED = {
     "rotation_deg",
@@ -70,6 +72,9 @@ FIT_KEYS = FIT_REQUIRED | {
     "model",
     "stated_declination_deg",
     "notes",
+    "rotation_sigma_deg",
+    "restoration",
+    "survey_date",
 }
 
 
@@ -137,9 +142,22 @@ def test_human_output_ends_with_the_caution(capsys, demo):
     assert "latitude" in out and "departure" in out
 
 
+def _ends_on_found(demo: Path) -> bool:
+    from geo.document import load_document
+
+    return load_document(demo).course[-1].found is not None
+
+
 @pytest.mark.parametrize("demo", OPEN_DEMOS, ids=lambda p: p.stem)
 def test_open_demo_has_null_area_and_refuses_an_adjustment(capsys, demo):
     data = close_json(capsys, demo)
+    if _ends_on_found(demo):
+        # an open line whose last course is found closes on that found end (no area)
+        assert data["closes_on"] == "found end" and data["adjustment"] == "compass"
+        assert data["misclosure_m"] > 0 and data["precision"] > 0 and data["area_m2"] is None
+        status, out, _ = run(capsys, "close", demo, "--adjust", "transit")
+        assert status == 0 and "on the found end" in out
+        return
     assert data["adjustment"] == "none"
     for key in (
         "area_m2",

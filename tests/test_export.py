@@ -247,8 +247,12 @@ def test_export_never_overwrites_without_force(capsys, tmp_path):
 
 
 def test_export_errors_exit_2(capsys, tmp_path):
+    # the cruise line without its found end: an open line with nothing to close on
+    loose = tmp_path / "loose.toml"
+    text = CRUISE.read_text(encoding="utf-8")
+    loose.write_text("\n".join(ln for ln in text.splitlines() if not ln.startswith("found")))
     status, _, err = run(
-        capsys, "export", CRUISE, "--geojson", tmp_path / "a.geojson", "--adjust", "compass"
+        capsys, "export", loose, "--geojson", tmp_path / "a.geojson", "--adjust", "compass"
     )
     assert status == 2 and "open" in err and not (tmp_path / "a.geojson").exists()
     status, _, err = run(capsys, "export", CRUISE)

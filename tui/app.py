@@ -241,6 +241,12 @@ class LodelineApp(App[int]):
             ),
             ("Key guide", "Every key, and the cautions (F1)", self.action_key_guide),
             (
+                "Corners and stakeout",
+                "Found, restored and record-only corners, the stakeout list, the survey date "
+                "and the declination history (Ctrl+T)",
+                self.desk.action_retrace_sheet,
+            ),
+            (
                 "Show job",
                 "Bring the job settings forward (F2)",
                 lambda: self.desk.action_pane("job"),

@@ -26,6 +26,7 @@ SUBCOMMANDS: list[tuple[str, str]] = [
     ("report", "report"),
     ("close", "close"),
     ("fit", "fit"),
+    ("stakeout", "stakeout"),
     ("export", "export"),
     ("found", "found"),
 ]

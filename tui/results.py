@@ -422,9 +422,11 @@ def _closure(conv: Any) -> Any:
 
 def _closure_panel(closure: Any) -> PanelText:
     """Misclosure, precision and area from the closure."""
-    if not closure.closed:
+    if not closure.closes_on:
         return _idle("open traverse (closed = false): no misclosure or area")
     lines = [f"perimeter {closure.perimeter_m:,.2f} m"]
+    if closure.closes_on == "found end":
+        lines.append(f"closes on the found end (station {len(closure.courses)})")
     if closure.misclosure_bearing is None:
         lines.append("misclosure 0 m (closes exactly)")
     else:
@@ -444,6 +446,10 @@ def _closure_panel(closure: Any) -> PanelText:
         lines.append(f"! courses {a} and {b} cross: no area")
     if closure.angles is not None:
         lines.append(f"angular misclosure {closure.angles.misclosure_deg * 3600:+.0f}″")
+    lines += [
+        f"found {g.index}: gap {g.gap_m:.2f} m ({g.gap_record:.2f} {g.unit}) {g.bearing or ''}"
+        for g in closure.found_gaps
+    ]
     lines += [f"note: {n}" for n in closure.notes]
     return PanelText(tuple(lines))
 
@@ -489,6 +495,11 @@ def _fit_panel(conv: Any) -> PanelText:
         lines.append(f"model D {_deg(fit.model_declination_deg)} ({fit.model})")
     if fit.record_length_factor is not None:
         lines.append(f"record length factor {fit.record_length_factor:.5f}")
+    from tui.retrace_view import survey_date_line
+
+    when = survey_date_line(conv, fit)
+    if when:
+        lines.append(when)
     lines += [f"  station {r.index}: {r.east_m:+.2f} E {r.north_m:+.2f} N m" for r in fit.residuals]
     lines += [f"note: {n}" for n in fit.notes]
     return PanelText(tuple(lines))

@@ -87,12 +87,17 @@ def render(result: Any, title: str | None = None, area_check: Any = None) -> str
         )
     lines += table(rows, right={0, 2, 3, 4, 5, 6})
     lines.append(f"perimeter {_m(result.perimeter_m)} m")
-    if result.closed:
+    if result.closes_on:
+        onto = (
+            ""
+            if result.closes_on == "beginning"
+            else f" on the found end (station {len(result.courses)})"
+        )
         if result.misclosure_bearing is None:
-            lines.append("misclosure 0 m: the figure closes exactly")
+            lines.append(f"misclosure{onto} 0 m: the figure closes exactly")
         else:
             lines.append(
-                f"misclosure {_m(result.misclosure_m)} m toward {result.misclosure_bearing} "
+                f"misclosure{onto} {_m(result.misclosure_m)} m toward {result.misclosure_bearing} "
                 f"(azimuth {result.misclosure_azimuth_deg:.4f}); precision 1:"
                 f"{result.precision:,.0f}"
             )
@@ -123,6 +128,7 @@ def render(result: Any, title: str | None = None, area_check: Any = None) -> str
         )
     if area_check is not None:
         lines.append(stated_area_line(area_check))
+    lines += found_gap_lines(result.found_gaps)
     ang = result.angles
     if ang is not None:
         lines.append(
@@ -162,6 +168,29 @@ def render(result: Any, title: str | None = None, area_check: Any = None) -> str
             + f"; last station +-{last.total_m:.2f} m (1 sigma)"
         )
     return finish(lines, result.notes)
+
+
+def found_gap_lines(gaps: Any) -> list[str]:
+    """The table of gaps at found stations (geo.retrace.FoundGap), or nothing."""
+    from .common import text_table as table
+
+    if not gaps:
+        return []
+    unit = gaps[0].unit
+    rows = [["station", "gap m", f"gap {unit}", "east m", "north m", "gap toward (grid)"]]
+    for g in gaps:
+        rows.append(
+            [
+                str(g.index),
+                f"{g.gap_m:.3f}",
+                f"{g.gap_record:.3f}",
+                f"{g.east_m:+.3f}",
+                f"{g.north_m:+.3f}",
+                g.bearing or "-",
+            ]
+        )
+    head = "found stations: found minus marched position (grid, record courses as converted)"
+    return ["", head, *table(rows, right={0, 1, 2, 3, 4})]
 
 
 def finish(lines: list[str], notes: tuple[str, ...]) -> str:
