@@ -57,6 +57,17 @@ Schema, format_version 2 (every table and key below; any other key is an error):
     every = "5 chains"            # optional: intermediate points along the course
     note = "..."                  # optional
 
+    [[course.at]]                 # zero or more events along the course (field notes)
+    distance = "12 chains"        # from the course's start: a number (in the course's unit)
+                                  # or a distance text
+    note = "crossed a run"        # optional: what is there
+
+    [plots]                       # optional: the plot list of a cruise (courses with every)
+    start = 1                     # number of the first plot (default 1)
+    first = "2.5 chains"          # first plot on each course with every, from its start
+                                  # (default: one spacing; 0: at the course's start)
+    course_ends = false           # also a plot at the end of each course with every
+
 Keys beyond the issue that introduced the format, and why:
 
 - ``[target]`` (``date``, ``model``): the terminal application edits and saves the target date;
@@ -75,6 +86,10 @@ Keys beyond the issue that introduced the format, and why:
   ``angle`` and ``distance``; a course whose call gives a bearing may carry ``angle`` too (the
   angle at its starting station, for the angular misclosure).
 
+- ``[[course.at]]`` (``distance``, ``note``) and ``[plots]`` (``start``, ``first``,
+  ``course_ends``): what field notes record along a line ("at 12 chains crossed a run") and
+  how a cruise numbers and places its plots (:mod:`geo.along`). Documents without them read
+  as before.
 Format versions: version 2 added ``place.description`` and ``record.area`` (what a legal
 description states besides its calls, see :mod:`geo.description`); everything else is as in
 version 1, so a version-1 document reads unchanged and a document that uses neither key may
@@ -120,15 +135,18 @@ from geo.omitted import has_unknown
 __all__ = [
     "FORMAT_VERSION",
     "Course",
+    "CourseEvent",
     "Document",
     "Found",
     "Grid",
     "Place",
+    "Plots",
     "RecordedCourse",
     "Record",
     "Target",
     "check_document",
     "course_call_text",
+    "document_distance",
     "document_from_dict",
     "document_problems",
     "document_to_dict",
@@ -193,6 +211,14 @@ def _strict_number(value: Any) -> Any:
         raise _fail(None, f"must be a number, not {_show(value)}")
     if value is not None and not math.isfinite(value):
         raise _fail(None, f"must be a finite number, not {value!r}")
+    return value
+
+
+def _strict_int(value: Any) -> Any:
+    if isinstance(value, bool) or not isinstance(value, int):
+        raise _fail(None, f"must be a whole number, not {_show(value)}")
+    if not 0 <= value <= 10**9:
+        raise _fail(None, f"must be a whole number from 0 to 1000000000, not {value}")
     return value
 
 
@@ -310,6 +336,21 @@ class Found(_Table):
         return self
 
 
+class CourseEvent(_Table):
+    """Something the line meets at a distance from the course's start (``[[course.at]]``)."""
+
+    distance: Annotated[float | str, BeforeValidator(_number_or_text)]
+    note: Text = None
+
+
+class Plots(_Table):
+    """How the plots of a cruise are numbered and placed (``[plots]``; see geo.along)."""
+
+    start: Annotated[int, BeforeValidator(_strict_int)] = 1
+    first: NumberOrText = None
+    course_ends: Annotated[bool, BeforeValidator(_strict_bool)] = False
+
+
 class Course(_Table):
     """One course as written: ``call``, or ``bearing``/``angle`` + ``distance`` [+ ``unit``]."""
 
@@ -322,6 +363,7 @@ class Course(_Table):
     found: Found | None = None
     every: NumberOrText = None
     note: Text = None
+    at: tuple[CourseEvent, ...] = ()
 
     @model_validator(mode="after")
     def _call_or_parts(self) -> Course:
@@ -354,6 +396,7 @@ class Document(_Table):
     grid: Grid | None = None
     record: Record = Field(default_factory=Record)
     target: Target | None = None
+    plots: Plots | None = None
     course: tuple[Course, ...] = ()
 
     @model_validator(mode="after")
@@ -387,6 +430,8 @@ _TABLES: dict[str, type[_Table]] = {
     "target": Target,
     "course": Course,
     "found": Found,
+    "at": CourseEvent,
+    "plots": Plots,
 }
 
 
@@ -493,7 +538,11 @@ def document_to_dict(doc: Document) -> dict[str, Any]:
     Keys whose value is absent (``None``) are left out; everything else is written, so a dict
     read back gives an identical document. Derived numbers are never included.
     """
-    return doc.model_dump(mode="python", exclude_none=True)
+    data = doc.model_dump(mode="python", exclude_none=True)
+    for course in data.get("course", ()):
+        if not course.get("at"):
+            course.pop("at", None)  # no events: the key is left out, as an absent one
+    return data
 
 
 # --------------------------------------------------------------------------------------------
@@ -529,11 +578,15 @@ def dumps_mapping(data: Mapping[str, Any], fmt: Literal["toml", "json"] = "toml"
         return json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
     top = {k: v for k, v in data.items() if not isinstance(v, Mapping | list | tuple)}
     out = [_toml_pairs(top)]
-    for name in ("place", "grid", "record", "target"):
+    for name in ("place", "grid", "record", "target", "plots"):
         if name in data:
             out.append(f"\n[{name}]\n" + _toml_pairs(data[name]))
     for course in data.get("course", ()):
-        out.append("\n[[course]]\n" + _toml_pairs(course))
+        events = course.get("at", ())
+        pairs = {k: v for k, v in course.items() if k != "at"}
+        out.append("\n[[course]]\n" + _toml_pairs(pairs))
+        for event in events:
+            out.append("\n[[course.at]]\n" + _toml_pairs(event))
     return "".join(out)
 
 
@@ -728,6 +781,16 @@ def _angle_call(text: str) -> tuple[str, str] | None:
     return match.group("angle"), match.group("rest")
 
 
+def _without_events(text: str, ctx: dict[str, Any]) -> str:
+    """The call without the events written in it ("N 10 E, at 12 chains a run, 40 chains"):
+    see :func:`geo.along.split_call_events`."""
+    if "," not in text:
+        return text
+    from geo.along import split_call_events
+
+    return split_call_events(text, foot=ctx["foot"], vara_inches=ctx["vara_inches"])[0]
+
+
 def _plain(value: float | str | None) -> str:
     if value is None:
         return ""
@@ -757,6 +820,22 @@ def _unit_context(doc: Document) -> dict[str, Any]:
         "foot": foot,
         "vara_inches": record.vara_inches,
     }
+
+
+def document_distance(doc: Document, value: float | str, *, unit: str | None = None) -> Any:
+    """Read a length of ``doc`` (an event's ``distance``, ``plots.first``): a distance text, or a
+    number in ``unit`` (default ``record.distance_unit``), with the document's foot and vara.
+    Returns a :class:`geo.calls.Distance`; raises :class:`~geo.errors.LodelineError` (the
+    caller names the course and key)."""
+    ctx = _unit_context(doc)
+    if isinstance(value, str):
+        return parse_distance(value, **{**ctx, "default_unit": unit or ctx["default_unit"]})
+    unit = unit or ctx["default_unit"]
+    if unit is None:
+        raise DocumentError("a bare number needs a unit: write it as a distance ('12 chains')")
+    if not value > 0.0:
+        raise DocumentError(f"must be a positive length, not {_plain(value)}")
+    return parse_distance(f"{_plain(value)} {unit}", **ctx)
 
 
 def _check_record(doc: Document, file: str | None) -> list[DocumentError]:
@@ -945,7 +1024,7 @@ def _parse_course_cached(
         call_note = call.note or None
     elif course.call is not None:
         try:
-            call = parse_call(course.call, **ctx)
+            call = parse_call(_without_events(course.call, ctx), **ctx)
         except LodelineError as err:
             raise _locate(err, None, None, "call") from None
         if call.bearing is None:
@@ -1107,6 +1186,9 @@ def document_problems(doc: Document, *, file: str | None = None) -> list[Documen
                 err if isinstance(err, DocumentError) else _locate(err, file, i, "call")
             )
             previous = None
+    from geo.along import along_problems
+
+    problems.extend(along_problems(doc, file=file))
     return problems
 
 
@@ -1116,3 +1198,8 @@ def check_document(doc: Document, *, file: str | None = None) -> None:
     if problems:
         raise problems[0]
     parse_courses(doc, file=file)
+    from geo.along import along_problems
+
+    problems = along_problems(doc, file=file)
+    if problems:
+        raise problems[0]

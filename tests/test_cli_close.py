@@ -50,6 +50,19 @@ CLOSE_KEYS = CLOSE_REQUIRED | {
     "closes_on",
     "found_gaps",
 }
+# Record-unit values (geo.measures) and the plot list and events (geo.along), beside the
+# metres, under names of their own.
+CLOSE_KEYS |= {
+    "record_unit",
+    "perimeter_record",
+    "misclosure_record",
+    "misclosure_north_record",
+    "misclosure_east_record",
+    "area_acres_roods_perches",
+    "plot_numbering",
+    "plots",
+    "events",
+}
 FIT_REQUIRED = {
     "rotation_deg",
     "scale",
@@ -102,7 +115,9 @@ def test_every_closed_demo_closes_with_the_documented_keys(capsys, demo):
     assert data["adjustment"] == "compass" and data["north"] == "true"
     n = len(data["latitudes_m"])
     assert len(data["departures_m"]) == n and len(data["stations"]) == n + 1
-    assert set(data["stations"][0]) == {"index", "north_m", "east_m"}
+    assert set(data["stations"][0]) == {
+        "index", "north_m", "east_m", "distance_m", "distance_record"
+    }  # fmt: skip
     assert [s["index"] for s in data["stations"]] == list(range(n + 1))
     last = data["stations"][-1]
     assert abs(last["north_m"]) < 1e-9 and abs(last["east_m"]) < 1e-9

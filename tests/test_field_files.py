@@ -66,7 +66,9 @@ def geojson_points(collection):
             f["properties"]["northing"],
         )
         for f in collection["features"]
-        if f["geometry"]["type"] == "Point" and f["properties"]["kind"] != "corner"
+        # stations and plots (events along the lines and restored corners are GeoJSON points
+        # of their own)
+        if f["geometry"]["type"] == "Point" and f["properties"]["kind"] in ("station", "point")
     }
 
 

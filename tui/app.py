@@ -126,6 +126,12 @@ def parse_found(text: str) -> dict[str, float] | str | None:
         return text
 
 
+def _sheet_bindings() -> list[Binding]:
+    from tui.screens.sheets import DescriptionSheet
+
+    return DescriptionSheet.BINDINGS
+
+
 class LodelineApp(App[int]):
     """Edit a traverse and see its conversions, closure and sketch update as you type."""
 
@@ -142,6 +148,9 @@ class LodelineApp(App[int]):
         Binding("f7", "export('csv')", "CSV"),
         Binding("f8", "export('report')", "Report"),
         Binding("f5", "found_from", "Found from file"),
+        Binding("f10", "sheet('description')", "Description"),
+        Binding("f12", "sheet('plots')", "Plots"),
+        Binding("ctrl+l", "layout", "Layout"),
         Binding("ctrl+q", "quit", "Quit", priority=True),
     ]
 
@@ -238,6 +247,21 @@ class LodelineApp(App[int]):
                 "Found corners from a point file…",
                 "Set found positions from a receiver's CSV, GeoJSON or GPX file (F5)",
                 self.action_found_from,
+            ),
+            (
+                "New description",
+                "Show the figure written as a description; w writes it to a file (F10)",
+                lambda: self.action_sheet("description"),
+            ),
+            (
+                "Plots and events",
+                "Show the plot list and the events along the lines (F12)",
+                lambda: self.action_sheet("plots"),
+            ),
+            (
+                "Cruise layout…",
+                "Lay parallel cruise lines and plots across this boundary (Ctrl+L)",
+                self.action_layout,
             ),
             ("Key guide", "Every key, and the cautions (F1)", self.action_key_guide),
             (
@@ -345,6 +369,7 @@ class LodelineApp(App[int]):
                 ],
             ),
             ("sketch", TraverseSketch.BINDINGS),
+            ("description, plots", _sheet_bindings()),
             (
                 "sketch",
                 [
@@ -362,6 +387,41 @@ class LodelineApp(App[int]):
             ),
         ]
         self.push_screen(KeyGuide(groups))
+
+    def action_sheet(self, name: str) -> None:
+        """Show the new description or the plot list and events (tui.screens.sheets)."""
+        from tui.screens.sheets import DescriptionSheet, PlotSheet
+
+        self.push_screen(DescriptionSheet() if name == "description" else PlotSheet())
+
+    def action_layout(self) -> None:
+        """Ask for a cruise layout's options and file, and write the layout document."""
+        from tui import outputs
+        from tui.dialogs.layout_form import LayoutForm
+
+        ws = self.workspace
+        stem = ws.path.with_suffix("") if ws.path else Path("boundary")
+
+        def asked(options: dict[str, str] | None) -> None:
+            if options is None:
+                return
+            prompt = FileNamePrompt("Write cruise lines", f"{stem}-lines.toml", DOCUMENT_SUFFIXES)
+
+            def chosen(path: Path | None) -> None:
+                if path is None:
+                    return
+                try:
+                    written = outputs.write_layout(
+                        ws.doc, path, options, file=ws.path, replace=prompt.replace
+                    )
+                except LodelineError as err:
+                    self.notify(f"⚠ Layout: not written: {err}", severity="error", timeout=8)
+                    return
+                self.notify(f"Written: {', '.join(str(p) for p in written)}", timeout=4)
+
+            self.push_screen(prompt, chosen)
+
+        self.push_screen(LayoutForm(), asked)
 
     def action_undo(self) -> None:
         """Undo the last edit of the document."""

@@ -29,6 +29,8 @@ SUBCOMMANDS: list[tuple[str, str]] = [
     ("stakeout", "stakeout"),
     ("export", "export"),
     ("found", "found"),
+    ("describe", "describe"),
+    ("layout", "layout"),
 ]
 
 EPILOG = (

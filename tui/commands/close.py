@@ -60,9 +60,19 @@ def stated_area_line(check: Any) -> str:
     )
 
 
-def render(result: Any, title: str | None = None, area_check: Any = None) -> str:
-    """The human-readable closure of a :class:`geo.survey.SurveyClosure`."""
+def render(result: Any, title: str | None = None, conv: Any = None) -> str:
+    """The human-readable closure of a :class:`geo.survey.SurveyClosure`; with the conversion
+    ``conv``, lengths are given in the record unit beside metres, the area in acres, roods and
+    perches for a perch or chain document, and the plot list and events follow."""
+    from geo.measures import area_text, conversion_unit, length_text
+
     from .common import text_table as table
+
+    ru = None if conv is None else conversion_unit(conv)
+    both = ru is not None and not ru.metric
+
+    def rec(metres: float) -> list[str]:
+        return [length_text(metres, ru)] if both else []
 
     lines: list[str] = []
     if title:
@@ -70,9 +80,13 @@ def render(result: Any, title: str | None = None, area_check: Any = None) -> str
     lines.append(
         f"north: {result.north} (recorded azimuths turned {result.rotation_deg:+.4f} deg); "
         f"adjustment: {result.adjustment}; lengths are recorded ground lengths, metres"
+        + (f" and {ru.name}" if both else "")
     )
     lines.append("")
+    unit_head = [f"length ({ru.label})", f"latitude ({ru.label})", f"departure ({ru.label})"]
     rows = [["#", "bearing", "length", "latitude", "departure", "corr lat", "corr dep"]]
+    if both:
+        rows[0] += unit_head
     for c in result.courses:
         rows.append(
             [
@@ -83,10 +97,14 @@ def render(result: Any, title: str | None = None, area_check: Any = None) -> str
                 _m(c.departure_m),
                 _m(c.latitude_correction_m),
                 _m(c.departure_correction_m),
+                *rec(c.length_m),
+                *rec(c.latitude_m),
+                *rec(c.departure_m),
             ]
         )
-    lines += table(rows, right={0, 2, 3, 4, 5, 6})
-    lines.append(f"perimeter {_m(result.perimeter_m)} m")
+    lines += table(rows, right={0, 2, 3, 4, 5, 6, 7, 8, 9})
+    perimeter = f" = {length_text(result.perimeter_m, ru)}" if both else ""
+    lines.append(f"perimeter {_m(result.perimeter_m)} m{perimeter}")
     if result.closes_on:
         onto = (
             ""
@@ -96,8 +114,10 @@ def render(result: Any, title: str | None = None, area_check: Any = None) -> str
         if result.misclosure_bearing is None:
             lines.append(f"misclosure{onto} 0 m: the figure closes exactly")
         else:
+            mis = f" = {length_text(result.misclosure_m, ru)}" if both else ""
             lines.append(
-                f"misclosure{onto} {_m(result.misclosure_m)} m toward {result.misclosure_bearing} "
+                f"misclosure{onto} {_m(result.misclosure_m)} m{mis} toward "
+                f"{result.misclosure_bearing} "
                 f"(azimuth {result.misclosure_azimuth_deg:.4f}); precision 1:"
                 f"{result.precision:,.0f}"
             )
@@ -106,9 +126,13 @@ def render(result: Any, title: str | None = None, area_check: Any = None) -> str
     how = f"{result.adjustment} adjustment" if adjusted else "as recorded, not adjusted"
     lines.append(f"stations ({how}), metres from the point of beginning")
     head = ["adjusted bearing", "adjusted length"] if adjusted else ["bearing", "length"]
-    rows = [["station", "north", "east", *head]]
+    rows = [["station", "north", "east", *head, "along m"]]
+    if both:
+        rows[0].append(f"along ({ru.label})")
+    along = 0.0
     for s in result.stations:
         course = result.courses[s.index - 1] if s.index else None
+        along += course.length_m if course else 0.0
         rows.append(
             [
                 str(s.index),
@@ -116,9 +140,11 @@ def render(result: Any, title: str | None = None, area_check: Any = None) -> str
                 _m(s.east_m),
                 course.adjusted_bearing if course else "",
                 _m(course.adjusted_length_m) if course else "",
+                _m(along),
+                *rec(along),
             ]
         )
-    lines += table(rows, right={0, 1, 2, 4})
+    lines += table(rows, right={0, 1, 2, 4, 5, 6})
     area = result.area
     if area is not None:
         lines.append(
@@ -126,8 +152,11 @@ def render(result: Any, title: str | None = None, area_check: Any = None) -> str
             f"{area.acres:,.4f} acres ({area.foot} foot acre); grid area {area.grid_m2:,.2f} m2 "
             f"(combined factor {area.combined_factor:.8f})"
         )
-    if area_check is not None:
-        lines.append(stated_area_line(area_check))
+        if ru is not None:
+            lines.append(f"area: {area_text(area.ground_m2, ru, area.acres)}")
+    check = _area_check(conv.document, result) if conv is not None else None
+    if check is not None:
+        lines.append(stated_area_line(check))
     lines += found_gap_lines(result.found_gaps)
     ang = result.angles
     if ang is not None:
@@ -167,6 +196,8 @@ def render(result: Any, title: str | None = None, area_check: Any = None) -> str
             )
             + f"; last station +-{last.total_m:.2f} m (1 sigma)"
         )
+    if conv is not None:
+        lines += along_lines(conv)
     return finish(lines, result.notes)
 
 
@@ -193,6 +224,23 @@ def found_gap_lines(gaps: Any) -> list[str]:
     return ["", head, *table(rows, right={0, 1, 2, 3, 4})]
 
 
+def along_lines(conv: Any) -> list[str]:
+    """The plot list and the events of ``conv`` as text tables (nothing when it has neither)."""
+    from geo.along import EVENT_HEADERS, PLOT_HEADERS, event_rows, plot_list, plot_rows
+
+    from .common import text_table
+
+    al = plot_list(conv)
+    lines: list[str] = []
+    if al.plots:
+        lines += ["", f"plot list ({len(al.plots)} plots; chainage record unit / metres)"]
+        lines += text_table([list(PLOT_HEADERS), *map(list, plot_rows(al))], right={0, 1, 2, 3})
+    if al.events:
+        lines += ["", "along the lines"]
+        lines += text_table([list(EVENT_HEADERS), *map(list, event_rows(al))], right={0, 3, 4})
+    return lines
+
+
 def finish(lines: list[str], notes: tuple[str, ...]) -> str:
     """Close a human-readable output: its notes, then the one-line caution."""
     from geo.cautions import SHORT_CAUTION
@@ -208,12 +256,16 @@ def emit(
     render_result: Any,
     *,
     allow_unknown_declination: bool = False,
+    extra_json: Any = None,
+    with_conversion: bool = False,
 ) -> int:
     """Load and convert ``args.document``, compute a result from the conversion and print it
     (``--json``: its ``as_dict()``; else ``render_result(result, title)``).
 
     ``allow_unknown_declination``: see :func:`geo.north.convert_document` (the fit and the
-    closure in magnetic north need no declination at the record date)."""
+    closure in magnetic north need no declination at the record date). ``extra_json(conv,
+    result)`` gives keys merged into the JSON object (:func:`geo.measures.merge_record_values`);
+    ``with_conversion`` passes the conversion to ``render_result`` as a third argument."""
     from geo.document import load_document
     from geo.north import convert_document
 
@@ -224,14 +276,15 @@ def emit(
         doc, file=args.document, allow_unknown_declination=allow_unknown_declination
     )
     result = compute(conv)
-    check = _area_check(doc, result) if getattr(result, "area", False) is not False else None
     if args.json:
-        data = result.as_dict()
-        if check is not None:
-            data["stated_area"] = check.as_dict()
-        print_json(data)
-    elif check is not None:
-        sys.stdout.write(render_result(result, doc.title, check))
+        obj = result.as_dict()
+        if extra_json is not None:
+            from geo.measures import merge_record_values
+
+            obj = merge_record_values(obj, extra_json(conv, result))
+        print_json(obj)
+    elif with_conversion:
+        sys.stdout.write(render_result(result, doc.title, conv))
     else:
         sys.stdout.write(render_result(result, doc.title))
     return 0
@@ -248,6 +301,18 @@ def _area_check(doc: Any, result: Any) -> Any:
     return compare_area(doc.record.area, area.ground_m2 if area else None, foot=foot)
 
 
+def record_json(conv: Any, result: Any) -> dict[str, Any]:
+    """What ``close --json`` adds: record-unit values, the plot list and the events."""
+    from geo.along import plot_list
+    from geo.measures import closure_record_values
+
+    out = {**closure_record_values(conv, result), **plot_list(conv).as_dict()}
+    check = _area_check(conv.document, result)
+    if check is not None:
+        out["stated_area"] = check.as_dict()
+    return out
+
+
 def run(args: argparse.Namespace) -> int:
     """Load, convert and close the document; print the closure or its JSON object."""
     from geo.survey import close_document
@@ -257,4 +322,6 @@ def run(args: argparse.Namespace) -> int:
         lambda conv: close_document(conv, adjust=args.adjust, north=args.north),
         render,
         allow_unknown_declination=args.north == "magnetic",
+        extra_json=record_json,
+        with_conversion=True,
     )
