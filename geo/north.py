@@ -44,6 +44,7 @@ import contextlib
 import dataclasses
 import datetime as _dt
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -371,6 +372,18 @@ def _first_model(model: Any) -> str:
         return model
     names = list(dict.fromkeys(np.asarray(model, dtype=object).ravel().tolist()))
     return ", ".join(str(n) for n in names)
+
+
+def _cardinals_as_recorded(courses: Sequence[Any], texts: list[str] | None) -> None:
+    """Write the recorded column's cardinal calls in their recorded form (``due N``, ``NE``),
+    in place; the derived columns keep the quadrant form."""
+    if texts is None:
+        return
+    from geo.bearings import recorded_bearing
+
+    for i, rc in enumerate(courses):
+        if rc.bearing_style == "cardinal":
+            texts[i] = recorded_bearing(rc.azimuth_deg, rc.precision_deg, "cardinal")
 
 
 def _finite_or_none(v: float) -> float | None:
@@ -936,12 +949,15 @@ def _texts(s: _Setup, d: _Directions) -> _Directions:
     def text(a: np.ndarray | None, recorded: bool) -> list[str] | None:
         return None if a is None else format_bearings(a, precision=own if recorded else derived)
 
-    return _Directions(
+    out = _Directions(
         text(d.mag1, s.magnetic),
         text(d.true, s.reference == "true"),
         text(d.grid, s.reference == "grid"),
         text(d.mag2, False),
     )
+    recorded = {"magnetic": out.mag1, "true": out.true, "grid": out.grid}[s.reference]
+    _cardinals_as_recorded(s.courses, recorded)
+    return out
 
 
 def _column(values: Any, at: np.ndarray) -> list[Any]:

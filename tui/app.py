@@ -73,16 +73,16 @@ def load_workspace(path: Path | None) -> Workspace:
 
 
 def _as_written(path: Path) -> dict[str, Any] | None:
-    """The data of a TOML or JSON file that has the shape of a traverse document of
-    format_version 1 (tables where the document has tables, a list of course tables), with
-    dates as text, or ``None``."""
-    from geo.document import load_mapping, plain_values
+    """The data of a TOML or JSON file that has the shape of a traverse document of a
+    format_version this version reads (tables where the document has tables, a list of
+    course tables), with dates as text, or ``None``."""
+    from geo.document import READABLE_VERSIONS, load_mapping, plain_values
 
     try:
         data = load_mapping(path)
     except DocumentError:
         return None
-    if not isinstance(data, dict) or data.get("format_version") != 1:
+    if not isinstance(data, dict) or data.get("format_version") not in READABLE_VERSIONS:
         return None
     if any(
         not isinstance(data.get(key, {}), dict) for key in ("place", "grid", "record", "target")
