@@ -403,6 +403,13 @@ def convert_document(
     stated = _stated_declination(doc, file)
     need_record_model = stated is None and record_year is not None
     magnetic = record.reference == "magnetic"
+    if magnetic and stated is None and record_year is None:
+        raise DocumentError(
+            "a magnetic record needs its date (record.date) or a stated declination "
+            "(record.declination) to be turned to true north",
+            file=file,
+            field="record.date",
+        )
 
     # Point of beginning and CRS
     place = doc.place

@@ -9,6 +9,7 @@ dialogs ask the questions (:mod:`tui.dialogs`). Numbers come from :mod:`geo` thr
 
 from __future__ import annotations
 
+import contextlib
 import datetime as _dt
 import gc
 import re
@@ -82,16 +83,50 @@ def _as_written(path: Path) -> dict[str, Any] | None:
         data = load_mapping(path)
     except DocumentError:
         return None
-    if not isinstance(data, dict) or data.get("format_version") != 1:
+    if not _has_document_shape(data):
         return None
+    return plain_values(data)
+
+
+def restore_problem(doc: Any) -> str | None:
+    """Why the document of a recovery file cannot be restored into the desk, or ``None``:
+    it must have a document's shape, and computing its findings must not fail unforeseen
+    (a problem of the document itself is shown as usual, not refused here)."""
+    from tui.results import compute_results, compute_safely
+
+    if not _has_document_shape(doc):
+        return "it does not hold a traverse document of format_version 1"
+    _results, ok = compute_safely(lambda: compute_results(doc), doc)
+    if not ok:
+        from tui.results import error_log_path
+
+        return f"computing it fails unforeseen (details in {error_log_path()})"
+    return None
+
+
+def _has_document_shape(data: Any) -> bool:
+    """Tables where the document has tables, a list of course tables, format_version 1."""
+    if not isinstance(data, dict) or data.get("format_version") != 1:
+        return False
     if any(
         not isinstance(data.get(key, {}), dict) for key in ("place", "grid", "record", "target")
     ):
-        return None
+        return False
     courses = data.get("course", [])
-    if not isinstance(courses, list) or not all(isinstance(c, dict) for c in courses):
-        return None
-    return plain_values(data)
+    return isinstance(courses, list) and all(isinstance(c, dict) for c in courses)
+
+
+def set_aside(file: Path) -> Path:
+    """Rename recovery ``file`` so it is no longer offered; return the new name
+    (``NAME.unrestorable-YYYYMMDD-HHMMSS.json`` beside it)."""
+    stamp = _dt.datetime.now().strftime("%Y%m%d-%H%M%S")
+    target = file.with_name(f"{file.stem}.unrestorable-{stamp}{file.suffix}")
+    n = 1
+    while target.exists():
+        n += 1
+        target = file.with_name(f"{file.stem}.unrestorable-{stamp}-{n}{file.suffix}")
+    file.rename(target)
+    return target
 
 
 _FOUND_KEYS = {
@@ -174,6 +209,10 @@ class LodelineApp(App[int]):
             return
         when = _dt.datetime.fromtimestamp(found.saved_at).strftime("%Y-%m-%d %H:%M")
         name = str(ws.path) if ws.path else "a new document"
+        problem = restore_problem(found.doc)
+        if problem is not None:
+            self._offer_set_aside(found.file, name, when, problem)
+            return
 
         def answered(answer: str | None) -> None:
             if answer == "restore":
@@ -194,6 +233,34 @@ class LodelineApp(App[int]):
             answered,
         )
 
+    def _offer_set_aside(self, file: Path, name: str, when: str, problem: str) -> None:
+        """A recovery file that cannot be restored: keep it aside (renamed) or discard it,
+        never replay it into the desk."""
+
+        def answered(answer: str | None) -> None:
+            if answer == "aside":
+                try:
+                    aside = set_aside(file)
+                except OSError as err:
+                    self.notify(f"⚠ cannot rename {file}: {err}", severity="error", timeout=8)
+                    return
+                self.notify(f"Kept aside as {aside}", timeout=6)
+            elif answer == "discard":
+                with contextlib.suppress(FileNotFoundError):
+                    file.unlink()
+                self.notify("Kept changes discarded.")
+
+        self.push_screen(
+            ChoiceDialog(
+                "Unsaved changes that cannot be restored",
+                f"Changes to {name} that were not saved (kept {when}) were found, but they "
+                f"cannot be opened here: {problem}. Keep the file aside (renamed, to read or "
+                "mend by hand) and start afresh?",
+                [("aside", "Keep it aside"), ("discard", "Discard it")],
+            ),
+            answered,
+        )
+
     # -- recovery ----------------------------------------------------------------------
     def keep_recovery(self) -> None:
         """Keep unsaved changes in the recovery file (or remove it when all is saved)."""
@@ -205,6 +272,21 @@ class LodelineApp(App[int]):
                 discard_recovery(ws.path)
         except (OSError, LodelineError, TypeError, ValueError) as err:
             self.notify(f"⚠ cannot keep the recovery file: {err}", severity="warning")
+
+    def after_crash(self) -> int:
+        """After the application stopped on an unforeseen error: keep the unsaved changes in
+        the recovery file, say where, and return the exit status (1)."""
+        import sys
+
+        ws = self.workspace
+        kept = ""
+        if ws.dirty:
+            try:
+                kept = f"; the unsaved changes are kept in {write_recovery(ws)}"
+            except (OSError, LodelineError, TypeError, ValueError) as err:
+                kept = f"; the unsaved changes could not be kept ({err})"
+        print(f"lodeline: the desk stopped on an unforeseen error{kept}", file=sys.stderr)
+        return 1
 
     # -- commands ----------------------------------------------------------------------
     def get_system_commands(self, screen: Screen) -> Iterable[SystemCommand]:

@@ -30,5 +30,8 @@ def run(args: argparse.Namespace) -> int:
     from tui.app import LodelineApp, load_workspace
 
     workspace = load_workspace(Path(args.document) if args.document else None)
-    status = LodelineApp(workspace).run()
+    app = LodelineApp(workspace)
+    status = app.run()
+    if app.return_code:  # the application stopped on an error it did not foresee
+        return app.after_crash()
     return int(status or 0)

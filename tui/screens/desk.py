@@ -30,7 +30,7 @@ from textual.timer import Timer
 from textual.widgets import Footer, Input, Static
 from textual.worker import get_current_worker
 
-from tui.results import Results, closure_stage, conversion_stage, plain_rows
+from tui.results import Results, closure_stage, compute_safely, conversion_stage, plain_rows
 from tui.widgets.call_table import CallEditor, CallTable
 from tui.widgets.findings import FindingsPanel, SteadyText, set_text
 from tui.widgets.job_form import JobForm
@@ -253,7 +253,10 @@ class Desk(Screen):
             # both stages, then one redraw: quicker than showing the conversion first
             started = time.perf_counter()
             with self._collector_waits():
-                results = closure_stage(conversion_stage(ws.doc, path=ws.path))
+                doc, path = ws.doc, ws.path
+                results, _ok = compute_safely(
+                    lambda: closure_stage(conversion_stage(doc, path=path)), doc
+                )
                 self._apply(results, ws.revision)
             if typed:  # what typing costs (a first computation also loads models and grids)
                 self._last_compute_s = time.perf_counter() - started
@@ -269,7 +272,7 @@ class Desk(Screen):
             self.recompute()  # edited meanwhile: compute what is there now
             return
         with self._collector_waits():
-            first = conversion_stage(doc, path=path)
+            first, _ok = compute_safely(lambda: conversion_stage(doc, path=path), doc)
             self._apply(first, revision)
         if not first.final:
             # then the closure, here too once the bearings are painted: a worker thread would
@@ -279,7 +282,8 @@ class Desk(Screen):
     def _close_here(self, first: Results, revision: int) -> None:
         if revision == self.lode.workspace.revision:  # else the edit's recompute follows
             with self._collector_waits():
-                self._apply(closure_stage(first), revision)
+                doc = self.lode.workspace.doc
+                self._apply(compute_safely(lambda: closure_stage(first), doc)[0], revision)
 
     @contextlib.contextmanager
     def _collector_waits(self) -> Iterator[None]:
@@ -309,13 +313,13 @@ class Desk(Screen):
     @work(thread=True, exclusive=True, group="compute", description="compute the findings")
     def _compute(self, doc: dict, path, revision: int) -> None:
         worker = get_current_worker()
-        first = conversion_stage(doc, path=path)
+        first, _ok = compute_safely(lambda: conversion_stage(doc, path=path), doc)
         if worker.is_cancelled:
             return
         self.app.call_from_thread(self._apply, first, revision)
         if first.final:
             return
-        final = closure_stage(first)
+        final, _ok = compute_safely(lambda: closure_stage(first), doc)
         if not worker.is_cancelled:
             self.app.call_from_thread(self._apply, final, revision)
 
