@@ -33,6 +33,10 @@ Schema, format_version 1 (every table and key below; any other key is an error):
     foot = "us"                   # us | international (optional; default by the date)
     vara_inches = 33.333333       # length of the vara in inches; required when varas occur
     angles = "right"              # right | left; required when a course gives an angle
+    attraction_tolerance = 0.25   # degrees within which fore and back bearings agree (local
+                                  # attraction); default: the coarsest precision to which
+                                  # those bearings are written (a compass read to 1/4 degree
+                                  # cannot show agreement closer than that)
 
     [target]                      # optional: the date to convert to (added in version 1)
     date = "2026-05-01"           # default: today (the command line may override it)
@@ -249,6 +253,7 @@ class Record(_Table):
     foot: Literal["us", "international"] | None = None
     vara_inches: Number = None
     angles: Literal["right", "left"] | None = None
+    attraction_tolerance: Number = None
 
     @property
     def stated_declination(self) -> bool:
@@ -726,6 +731,15 @@ def _check_record(doc: Document, file: str | None) -> list[DocumentError]:
                 parse_date(value)
             except LodelineError as err:
                 problems.append(_locate(err, file, None, f"{table}.date"))
+    tolerance = record.attraction_tolerance
+    if tolerance is not None and not 0.0 <= tolerance <= 10.0:
+        problems.append(
+            DocumentError(
+                f"attraction tolerance {tolerance} is outside 0..10 degrees",
+                file=file,
+                field="record.attraction_tolerance",
+            )
+        )
     if record.reference == "magnetic" and record.date is None:
         problems.append(
             DocumentError(

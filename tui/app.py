@@ -493,8 +493,7 @@ class LodelineApp(App[int]):
 
     def action_save_as(self) -> None:
         """Ask for a file name and save there (never replacing a file without asking)."""
-        ws = self.workspace
-        suggestion = str(ws.path) if ws.path else "traverse.toml"
+        suggestion = self.suggested_name()
 
         def chosen(path: Path | None) -> None:
             if path is not None:
@@ -502,13 +501,25 @@ class LodelineApp(App[int]):
 
         self.push_screen(FileNamePrompt("Save as", suggestion, DOCUMENT_SUFFIXES), chosen)
 
+    def suggested_name(self) -> str:
+        """The file name offered by Save as: the document's own, else one made from its
+        title ("Glen Tract, 1854" -> glen_tract_1854.toml), else traverse.toml."""
+        ws = self.workspace
+        if ws.path is not None:
+            return str(ws.path)
+        title = str(ws.doc.get("title") or "")
+        stem = re.sub(r"[^0-9a-z]+", "_", title.lower()).strip("_")[:60]
+        if not stem or stem == "untitled_traverse":
+            stem = "traverse"
+        return f"{stem}.toml"
+
     def action_export(self, kind: str) -> None:
         """Ask for a file name and write the GeoJSON, CSV or report there."""
         from tui import outputs
 
         spec = outputs.OUTPUTS[kind]
         ws = self.workspace
-        stem = ws.path.with_suffix("") if ws.path else Path("traverse")
+        stem = Path(self.suggested_name()).with_suffix("")
         prompt = FileNamePrompt(
             spec.title,
             f"{stem}{spec.suffixes[0]}",
@@ -547,7 +558,8 @@ class LodelineApp(App[int]):
                             self.exit(0)
 
                     self.push_screen(
-                        FileNamePrompt("Save as", "traverse.toml", DOCUMENT_SUFFIXES), chosen
+                        FileNamePrompt("Save as", self.suggested_name(), DOCUMENT_SUFFIXES),
+                        chosen,
                     )
                 elif self.save_to(ws.path):
                     self.exit(0)

@@ -46,6 +46,7 @@ SETTING_LABELS: dict[str, str] = {
     "record.foot": "Foot",
     "record.vara_inches": "Vara (inches)",
     "record.angles": "Angles turned",
+    "record.attraction_tolerance": "Attraction tolerance (°)",
     "target.date": "Target date",
     "target.model": "Target field model",
 }

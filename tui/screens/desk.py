@@ -24,18 +24,20 @@ from textual import work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.message import Message
 from textual.reactive import reactive
 from textual.screen import Screen
 from textual.timer import Timer
+from textual.widget import Widget
 from textual.widgets import Footer, Input, Static
 from textual.worker import get_current_worker
 
 from tui.results import Results, closure_stage, compute_safely, conversion_stage, plain_rows
-from tui.widgets.call_table import CallEditor, CallTable
+from tui.widgets.call_table import FIELD_TITLES, CallEditor, CallTable
 from tui.widgets.findings import FindingsPanel, SteadyText, set_text
 from tui.widgets.job_form import JobForm
 from tui.widgets.sketch import TraverseSketch
-from tui.workspace import COURSE_FIELDS, course_call_text, distance_unit_of
+from tui.workspace import COURSE_FIELDS, course_call_text, distance_unit_of, is_blank_course
 
 if TYPE_CHECKING:
     from tui.app import LodelineApp
@@ -50,6 +52,10 @@ DEBOUNCE_MAX_S = 0.5
 SKETCH_PAUSE_S = 0.2
 #: Documents with more courses than this are computed in a thread.
 THREAD_ABOVE = 1000
+
+#: Width of the job form when it takes the findings' place beside the calls: room for
+#: each label beside its field (see tui.widgets.job_form.TWO_COLUMNS_FROM).
+JOB_BESIDE_WIDTH = 60
 
 PANELS = (
     ("field", "Field at the beginning"),
@@ -74,10 +80,12 @@ def arrangement(width: int, height: int) -> str:
 class Desk(Screen):
     """The main screen: job form, call table with its editor, findings and sketch."""
 
+    # Priority: the focus moves before the next key is read (typing straight after F2 goes
+    # into the job form).
     BINDINGS = [
-        Binding("f2", "pane('job')", "Job"),
-        Binding("f3", "pane('calls')", "Calls"),
-        Binding("f4", "pane('findings')", "Findings"),
+        Binding("f2", "pane('job')", "Job", priority=True),
+        Binding("f3", "pane('calls')", "Calls", priority=True),
+        Binding("f4", "pane('findings')", "Findings", priority=True),
     ]
 
     DEFAULT_CSS = """
@@ -85,7 +93,15 @@ class Desk(Screen):
     Desk #panes { height: 1fr; }
     Desk #job { width: 34; border: round $foreground 30%; }
     Desk #main { width: 1fr; }
-    Desk #calls { width: 1fr; height: 1fr; }
+    Desk #calls { width: 1fr; height: 1fr; border: round $foreground 30%; }
+    Desk #findings { border: round $foreground 30%; }
+    Desk #job:focus-within, Desk #calls:focus-within, Desk #findings:focus-within {
+        border: heavy $accent;
+    }
+    Desk #bottom { dock: bottom; height: 1; }
+    Desk #keyboard { width: auto; max-width: 50%; height: 1; padding: 0 1;
+                     background: $accent; color: $text; text-style: bold; }
+    Desk #bottom Footer { width: 1fr; dock: none; }
     Desk #calls CallTable { height: 1fr; }
     Desk #findings { width: 52; height: 1fr; }
     Desk #findings > Vertical { height: auto; }
@@ -131,10 +147,12 @@ class Desk(Screen):
         with Horizontal(id="panes"):
             yield JobForm(id="job")
             with Horizontal(id="main"):
-                with Vertical(id="calls"):
+                with Vertical(id="calls") as calls:
+                    calls.border_title = "Calls"
                     yield CallTable(id="table")
                     yield CallEditor(id="editor")
-                with VerticalScroll(id="findings"):
+                with VerticalScroll(id="findings") as findings:
+                    findings.border_title = "Findings"
                     with Vertical(id="findings-a"):
                         for key, title in PANELS[:2]:
                             yield FindingsPanel(title, id=f"panel-{key}")
@@ -146,12 +164,46 @@ class Desk(Screen):
                         sketch.border_title = "Sketch (to scale, grid north up)"
                         yield sketch
                         yield Static("", id="sketch-key")
-        yield Footer()
+        with Horizontal(id="bottom"):
+            yield Static("", id="keyboard")
+            yield Footer()
 
     def on_mount(self) -> None:
+        table = self.query_one(CallTable)
+        table.handler = self._table_request
+        self.query_one(CallEditor).handler = self.on_call_editor_finished
         self.reload()
-        self.query_one(CallTable).focus()
         self._arrange()
+        if all(is_blank_course(c) for c in self.lode.workspace.courses):
+            self.open_editor(0, "call")  # a new or empty document: the cursor in the call
+        else:
+            table.focus()
+
+    def _table_request(self, message: Message) -> None:
+        """What the table asks for, done at once (see :attr:`CallTable.handler`)."""
+        if isinstance(message, CallTable.EditRequested):
+            self.on_call_table_edit_requested(message)
+        elif isinstance(message, CallTable.StructureRequested):
+            self.on_call_table_structure_requested(message)
+
+    def on_descendant_focus(self, event) -> None:
+        self.show_keyboard(event.widget)
+
+    def show_keyboard(self, widget: Widget | None) -> None:
+        """Say in the footer which pane has the keyboard and what the keys do there."""
+        if isinstance(widget, CallTable):
+            text = "⌨ call table: letters are commands (Enter edits)"
+        elif widget is not None and widget.id == "editor-input":
+            editor = self.query_one(CallEditor)
+            what = FIELD_TITLES.get(editor.field, editor.field)
+            text = f"⌨ typing the {what} of course {editor.index + 1} (Enter: done)"
+        elif widget is not None and self.query_one(JobForm) in widget.ancestors_with_self:
+            text = "⌨ job form: typing a setting (Tab: next)"
+        elif widget is not None:
+            text = "⌨ findings and sketch (0 fits the sketch)"
+        else:
+            text = ""
+        set_text(self.query_one("#keyboard", Static), text)
 
     def on_resize(self, _event) -> None:
         self._arrange()
@@ -193,7 +245,8 @@ class Desk(Screen):
             column.styles.overflow_y = "auto" if stacked else "hidden"
         sketch = self.query_one(TraverseSketch)
         sketch.styles.height = "1fr" if stacked else 22
-        self.query_one("#job").styles.width = "1fr" if mode == "single" else 34
+        job_width = {"single": "1fr", "wide": 34}.get(mode, JOB_BESIDE_WIDTH)
+        self.query_one("#job").styles.width = job_width
 
     # -- data flow -----------------------------------------------------------------------
     def reload(self) -> None:
@@ -382,8 +435,13 @@ class Desk(Screen):
 
     def update_docbar(self) -> None:
         ws = self.lode.workspace
-        name = str(ws.path) if ws.path else "new document (not yet saved)"
-        state = "● modified" if ws.dirty else "saved"
+        name = str(ws.path) if ws.path else "new document"
+        if ws.dirty:
+            state = "● modified"
+        elif ws.path is not None and ws.path.exists():
+            state = "saved"
+        else:
+            state = "nothing typed yet, not saved"
         problems = ""
         if self.results is not None and self.results.problem_count:
             n = self.results.problem_count
@@ -437,6 +495,7 @@ class Desk(Screen):
         editor.load(index, field, self._field_text(courses[index], field), self._editor_session)
         self._show_row_message()
         editor.focus_input()
+        self.show_keyboard(self.app.focused)
 
     def on_call_editor_edited(self, event: CallEditor.Edited) -> None:
         value = event.value
@@ -451,8 +510,7 @@ class Desk(Screen):
     def on_call_editor_finished(self, _event: CallEditor.Finished) -> None:
         self._end_typing()
         self.flush_sketch()  # the call is done: the sketch need not wait
-        table = self.query_one(CallTable)
-        table.focus()
+        self.set_focus(self.query_one(CallTable))
 
     def on_call_table_row_highlighted(self, event: CallTable.RowHighlighted) -> None:
         editor = self.query_one(CallEditor)
@@ -489,6 +547,11 @@ class Desk(Screen):
             rows = plain_rows(ws.doc)
         table.show_rows(rows)  # the table changes at once; the numbers follow
         table.move_cursor(row=target, animate=False)
+        if event.action != "insert":  # the editor shows the course now under the cursor
+            self._editor_session += 1
+            self.query_one(CallEditor).load(
+                target, "call", self._field_text(ws.courses[target], "call"), self._editor_session
+            )
         self.recompute()
         self.update_docbar()
         if event.action == "insert":
@@ -522,13 +585,12 @@ class Desk(Screen):
             self.side = name
         target = {"job": "#job Input", "calls": "#table", "findings": "#findings"}[name]
 
-        def bring() -> None:
-            widget = self.query(target).first()
-            widget.focus(scroll_visible=False)
-            if name == "findings":
-                widget.scroll_home(animate=False)
-
-        self.call_after_refresh(bring)
+        if name == "job" and self.query_one(JobForm) in getattr(self.app.focused, "ancestors", ()):
+            return  # already in the form: keep the field
+        widget = self.query(target).first()
+        self.set_focus(widget, scroll_visible=False)
+        if name == "findings":
+            widget.scroll_home(animate=False)
 
     def current_course(self) -> int:
         return self.query_one(CallTable).current_index
