@@ -315,7 +315,8 @@ def closure_stage(results: Results) -> Results:
         panels["closure"] = panels["attraction"] = PanelText(error=str(err))
     else:
         panels["closure"] = _panel(lambda: _closure_panel(closure))
-        panels["attraction"] = _panel(lambda: _attraction_panel(closure))
+        stated = conv.document.record.attraction_tolerance
+        panels["attraction"] = _panel(lambda: _attraction_panel(closure, stated))
     panels["fit"] = _panel(lambda: _fit_panel(conv))
     return replace(results, panels=panels, final=True)
 
@@ -523,14 +524,28 @@ def _closure_panel(closure: Any) -> PanelText:
     return PanelText(tuple(lines))
 
 
-def _attraction_panel(closure: Any) -> PanelText:
-    """Fore and back bearings compared at each station, from the closure."""
+def _attraction_panel(closure: Any, stated_tolerance: float | None = None) -> PanelText:
+    """Fore and back bearings compared at each station, from the closure, in plain words.
+    ``stated_tolerance``: the document's record.attraction_tolerance (degrees), if given."""
     from geo.bearings import format_declination
 
     la = closure.attraction
     if la is None:
         return _idle("no back bearings in the document")
-    lines = [la.reference_text()]
+    minutes = la.tolerance_deg * 60.0
+    why = (
+        "as set in the job form"
+        if stated_tolerance is not None
+        else "the precision the bearings are written to; the job form can set it"
+    )
+    lines = [f"tolerance {minutes:.4g}′ ({why})"]
+    k = la.start_course
+    if la.start_is_free:
+        lines.append(f"course {k} is taken as undisturbed: its fore and back bearings agree")
+    else:
+        lines.append(
+            f"no course's fore and back bearings agree: corrections are relative to course {k}"
+        )
     for st in la.stations:
         if st.disturbed and st.correction_deg is not None:
             lines.append(
@@ -538,10 +553,13 @@ def _attraction_panel(closure: Any) -> PanelText:
                 f" add {format_declination(st.correction_deg, precision=1.0 / 60.0)}"
             )
     if not la.disturbed_stations:
-        lines.append(f"no station off by > {la.tolerance_deg * 60:.0f}′")
+        lines.append(f"no station off by more than {minutes:.4g}′")
     unreached = [str(st.station) for st in la.stations if st.correction_deg is None]
     if unreached:
-        lines.append(f"not reached: station {', '.join(unreached)}")
+        lines.append(
+            f"no correction for station {', '.join(unreached)}: no back bearing links it "
+            "to the undisturbed course"
+        )
     return PanelText(tuple(lines))
 
 

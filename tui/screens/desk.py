@@ -2,8 +2,9 @@
 
 The arrangement follows the terminal (see :func:`arrangement`):
 
-- ``wide`` (200 columns or more): job | calls | findings, side by side;
-- ``side`` (150-199): calls | findings, the job taking the findings' place on F2;
+- ``wide`` (240 columns or more): job | calls | findings, side by side;
+- ``side`` (150-239): calls | findings, the job taking the findings' place on F2 (at 200
+  columns the calls keep room for a long call beside every bearing);
 - ``stacked`` (100-149 columns and 30 rows or more): calls above, the findings below in three
   columns (field and grid | closure, attraction, fit | sketch); F2 puts the job beside the
   calls instead of the findings, F4 brings the findings back;
@@ -68,7 +69,7 @@ PANELS = (
 
 def arrangement(width: int, height: int) -> str:
     """The arrangement of the desk for a terminal of ``width`` x ``height`` cells."""
-    if width >= 200:
+    if width >= 240:
         return "wide"
     if width >= 150:
         return "side"
@@ -426,7 +427,13 @@ class Desk(Screen):
         sketch.show_figure(results.sketch, results.sketch_message)
         if results.sketch is not None:
             sketch.border_title = f"Sketch (to scale, {results.sketch.up} up)"
-        key = TraverseSketch.key_text(results.sketch) if results.sketch else ""
+        # no figure: no empty plot frame, only the reason
+        sketch.display = results.sketch is not None
+        key = (
+            TraverseSketch.key_text(results.sketch)
+            if results.sketch
+            else f"Sketch: {results.sketch_message or 'no figure yet'}"
+        )
         set_text(self.query_one("#sketch-key", Static), key)
         if results.final:
             self.applied = (revision, True)

@@ -34,15 +34,17 @@ COLUMNS: tuple[tuple[str, str], ...] = (
     ("mark", " "),
     ("call", "Call as written"),
     ("length", "Length"),
-    ("mag_record", "Magnetic (record)"),
+    ("mag_record", "Mag. record"),
     ("true", "True"),
     ("grid", "Grid"),
-    ("mag_target", "Magnetic (target)"),
+    ("mag_target", "Mag. target"),
     ("back", "Back"),
 )
 
-#: Characters of the call shown in the table (the editor shows all of it).
-CALL_WIDTH = 30
+#: The call column takes the width the other columns leave, but never less than this many
+#: characters (the table then scrolls sideways to the bearings; the editor shows the call
+#: whole). A longer call is cut with "…".
+CALL_MIN_WIDTH = 20
 
 #: Names of the course fields the editor can edit, as the user sees them.
 FIELD_TITLES = {
@@ -79,11 +81,10 @@ class CallRow:
     message: str = ""
 
     def cells(self, number: int) -> tuple[str, ...]:
-        call = self.call if len(self.call) <= CALL_WIDTH else self.call[: CALL_WIDTH - 1] + "…"
         return (
             str(number),
             self.mark,
-            call,
+            self.call,
             self.length,
             self.mag_record,
             self.true,
@@ -241,7 +242,22 @@ class CallTable(ScrollView, can_focus=True):
 
     # -- drawing -------------------------------------------------------------------------
     def _total_width(self) -> int:
-        return sum(w + 2 for w in self._widths)
+        return sum(w + 2 for w in self._shown_widths())
+
+    def _shown_widths(self) -> list[int]:
+        """Column widths as drawn: the call's own width where the table is wide enough, else
+        the width the other columns leave (at least :data:`CALL_MIN_WIDTH`)."""
+        widths = list(self._widths)
+        others = sum(w + 2 for c, w in enumerate(widths) if c != 2)
+        room = self.size.width - others - 2
+        widths[2] = max(min(widths[2], room), min(widths[2], CALL_MIN_WIDTH), len(COLUMNS[2][1]))
+        return widths
+
+    def on_resize(self) -> None:
+        self._cache.clear()
+        size = Size(self._total_width(), len(self._rows) + 1)
+        if size != self.virtual_size:
+            self.virtual_size = size
 
     def notify_style_update(self) -> None:
         super().notify_style_update()
@@ -249,7 +265,9 @@ class CallTable(ScrollView, can_focus=True):
 
     def _line_text(self, cells: tuple[str, ...]) -> str:
         parts = []
-        for c, (text, width) in enumerate(zip(cells, self._widths, strict=True)):
+        for c, (text, width) in enumerate(zip(cells, self._shown_widths(), strict=True)):
+            if len(text) > width:
+                text = text[: width - 1] + "…"
             parts.append(" " + (text.rjust(width) if c == 0 else text.ljust(width)) + " ")
         return "".join(parts)
 
