@@ -26,7 +26,7 @@ from tui.dialogs.choice import ChoiceDialog
 from tui.dialogs.file_prompt import FileNamePrompt
 from tui.screens.desk import Desk
 from tui.screens.key_guide import KeyGuide
-from tui.widgets.call_table import CallEditor, CallTable
+from tui.widgets.call_table import CallTable
 from tui.widgets.sketch import TraverseSketch
 from tui.workspace import (
     Workspace,
@@ -161,6 +161,62 @@ def parse_found(text: str) -> dict[str, float] | str | None:
         return text
 
 
+def key_guide_tasks() -> list[tuple[str, list[Binding]]]:
+    """The keys of the desk grouped by what the user is doing (the F1 guide)."""
+
+    def keys(*rows: tuple[str, str]) -> list[Binding]:
+        return [Binding(key, "", what) for key, what in rows]
+
+    return [
+        (
+            "enter a deed",
+            keys(
+                ("f2", "Job form: place, record date and reference, unit (Tab: next)"),
+                ("f3", "The calls: the table, one course a line"),
+                ("enter", "Edit the call under the cursor; Enter again: done"),
+                ("escape", "Leave the editor, back to the table"),
+                ("a", "Add a course after this one (and type its call)"),
+                ("i", "Insert a course above this one"),
+                ("delete,x", "Delete this course"),
+                ("left_square_bracket,right_square_bracket", "Move this course up / down"),
+                ("b", "Back bearing read at the far end"),
+                ("n", "Note of this course"),
+                ("e", "Points every so far along this course"),
+                ("ctrl+z", "Undo"),
+                ("ctrl+y", "Redo"),
+            ),
+        ),
+        (
+            "mark found corners",
+            keys(
+                ("f", "Found position of this course's end (easting=…, northing=…)"),
+                ("f4", "Findings: closure, local attraction, record-to-found fit, sketch"),
+                ("0", "Fit the whole figure in the sketch"),
+                ("plus,minus", "Zoom the sketch in / out"),
+                ("left,right,up,down", "Pan the sketch"),
+            ),
+        ),
+        (
+            "export for the field",
+            keys(
+                ("ctrl+s", "Save the document (the previous file kept as .bak)"),
+                ("f9", "Save under a new name"),
+                ("f6", "GeoJSON of the stations and lines"),
+                ("f7", "CSV of stations and courses"),
+                ("f8", "Report with the cautions"),
+            ),
+        ),
+        (
+            "anywhere",
+            keys(
+                ("f1", "This guide"),
+                ("ctrl+p", "Command palette: every action by name"),
+                ("ctrl+q", "Quit (asks about unsaved changes)"),
+            ),
+        ),
+    ]
+
+
 class LodelineApp(App[int]):
     """Edit a traverse and see its conversions, closure and sketch update as you type."""
 
@@ -179,14 +235,20 @@ class LodelineApp(App[int]):
         Binding("ctrl+q", "quit", "Quit", priority=True),
     ]
 
-    def __init__(self, workspace: Workspace | None = None) -> None:
+    def __init__(self, workspace: Workspace | None = None, *, start: bool = False) -> None:
         super().__init__()
         self.workspace = workspace or Workspace()
         self.parse_found = parse_found
+        #: Show the start screen (new document, open a file, open a demo) first.
+        self.start = start
 
     # -- start -------------------------------------------------------------------------
     def on_mount(self) -> None:
         self.push_screen(Desk())
+        if self.start:
+            from tui.screens.start import StartScreen
+
+            self.push_screen(StartScreen())
         self.call_after_refresh(self._offer_recovery)
         # Everything alive once the screen is up (Textual, the document, the models) lasts
         # the session: keep it out of the collector's full passes, which otherwise walk it
@@ -201,6 +263,36 @@ class LodelineApp(App[int]):
             if isinstance(screen, Desk):
                 return screen
         raise LookupError("the desk is not open")
+
+    # -- the start screen's ways in -----------------------------------------------------
+    def start_document(self, doc: dict[str, Any], *, path: Path | None) -> None:
+        """Put ``doc`` (a new document, not yet saved) on the desk, cursor in its first call."""
+        ws = Workspace(path=path)
+        ws.replace(doc, label="new document")
+        self._show_workspace(ws)
+
+    def start_demo(self, demo: Path) -> None:
+        """A copy of shipped demo ``demo`` on the desk (saving asks for a name here)."""
+        shown = load_workspace(demo)
+        self.start_document(shown.doc, path=None)
+        self.notify(f"Demo {demo.stem}: a copy, saved only where you choose.", timeout=4)
+
+    def open_path(self, path: Path) -> bool:
+        """Open document ``path`` on the desk; ``False`` (and a message) if it cannot be."""
+        try:
+            ws = load_workspace(path)
+        except LodelineError as err:
+            self.notify(f"⚠ {err}", severity="error", timeout=8)
+            return False
+        self._show_workspace(ws)
+        self.call_after_refresh(self._offer_recovery)
+        return True
+
+    def _show_workspace(self, ws: Workspace) -> None:
+        self.workspace = ws
+        desk = self.desk
+        desk.reload()
+        desk.focus_start()
 
     def _offer_recovery(self) -> None:
         ws = self.workspace
@@ -401,37 +493,8 @@ class LodelineApp(App[int]):
 
     # -- actions -----------------------------------------------------------------------
     def action_key_guide(self) -> None:
-        """Show every key and the cautions."""
-        groups = [
-            ("anywhere", self.BINDINGS),
-            ("anywhere", Desk.BINDINGS),
-            ("anywhere", [Binding("ctrl+p", "command_palette", "Command palette: every action")]),
-            ("call table", CallTable.BINDINGS),
-            (
-                "call editor",
-                [
-                    *CallEditor.BINDINGS,
-                    Binding("enter", "done", "Finish editing, back to the table"),
-                ],
-            ),
-            ("sketch", TraverseSketch.BINDINGS),
-            (
-                "sketch",
-                [
-                    Binding("plus", "zoom_in", "Zoom in"),
-                    Binding("minus", "zoom_out", "Zoom out"),
-                    Binding("left,right,up,down", "pan", "Pan"),
-                ],
-            ),
-            (
-                "job form",
-                [
-                    Binding("tab", "next", "Next field"),
-                    Binding("shift+tab", "previous", "Previous field"),
-                ],
-            ),
-        ]
-        self.push_screen(KeyGuide(groups))
+        """Show the keys by task, and the cautions."""
+        self.push_screen(KeyGuide(key_guide_tasks()))
 
     def action_undo(self) -> None:
         """Undo the last edit of the document."""

@@ -175,10 +175,16 @@ class Desk(Screen):
         self.query_one(CallEditor).handler = self.on_call_editor_finished
         self.reload()
         self._arrange()
+        self.focus_start()
+
+    def focus_start(self) -> None:
+        """The cursor in the first call of a new or empty document, else on the table."""
+        table = self.query_one(CallTable)
         if all(is_blank_course(c) for c in self.lode.workspace.courses):
-            self.open_editor(0, "call")  # a new or empty document: the cursor in the call
+            table.move_cursor(row=0)
+            self.open_editor(0, "call")
         else:
-            table.focus()
+            self.set_focus(table)
 
     def _table_request(self, message: Message) -> None:
         """What the table asks for, done at once (see :attr:`CallTable.handler`)."""
