@@ -505,3 +505,77 @@ async def test_the_grid_panel_shows_the_grid_of_the_place_before_any_course(tmp_
         grid = app.desk.results.panels["grid"].lines
         assert grid[0] == "EPSG:32618"  # 77° W lies in UTM zone 18 (78-72° W)
         assert any(line.startswith("γ ") for line in grid)
+
+
+@sync
+async def test_typing_after_an_undone_insert_goes_to_a_course_that_exists(square):
+    # Found by the random-key test below: "a" opens the editor on a new course 5, Ctrl+Z
+    # takes the course away, and the next key once raised an IndexError.
+    app = LodelineApp(load_workspace(square))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot)
+        await pilot.press("end", "a", "ctrl+z", "2")
+        await settle(pilot)
+        assert app.is_running
+        assert len(app.workspace.courses) == 4
+        assert app.desk.query_one(CallEditor).index == 3
+
+
+# -- random keys into a new document -------------------------------------------------------------
+
+from hypothesis import HealthCheck, Phase, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+KEYS = st.one_of(
+    st.sampled_from(list("NSEW 0123456789./-perchs")),
+    st.sampled_from(
+        ["tab", "enter", "escape", "f2", "f3", "f4", "a", "i", "x", "ctrl+z", "ctrl+y"]
+    ),
+)
+
+
+@pytest.mark.slow
+@settings(
+    max_examples=12,
+    deadline=None,
+    # each example runs the whole desk (seconds): examples are reported as found, unshrunk
+    phases=[Phase.explicit, Phase.reuse, Phase.generate],
+    suppress_health_check=[HealthCheck.too_slow, HealthCheck.function_scoped_fixture],
+)
+@given(keys=st.lists(KEYS, min_size=1, max_size=40))
+def test_random_keys_leave_the_desk_running_and_the_document_whole(keys, tmp_path_factory):
+    from geo.document import document_to_dict, load_document, save_document
+    from geo.errors import LodelineError
+    from tui.workspace import read_recovery, saveable_document
+
+    folder = tmp_path_factory.mktemp("keys")
+
+    async def run() -> dict:
+        app = LodelineApp(Workspace())
+        async with app.run_test(size=(120, 40)) as pilot:
+            await settle(pilot)
+            for key in keys:
+                await pilot.press(key)
+            await settle(pilot)
+            assert app.is_running
+            assert app.desk.results is not None
+            return app.workspace.doc
+
+    doc = asyncio.run(run())
+    try:
+        checked = document_from_dict(saveable_document(doc), check=False)
+    except LodelineError:
+        # refused by the schema (a latitude typed as "4-."): kept whole in the recovery file
+        ws = Workspace(doc=doc, path=folder / "typed.toml")
+        write_recovery(ws)
+        kept = read_recovery(ws.path)
+        assert kept is not None and kept.doc == doc
+        return
+    path = folder / "typed.toml"
+    save_document(checked, path)
+    assert document_to_dict(load_document(path, check=False)) == document_to_dict(checked)
+    reopened = load_workspace(path)
+    assert saveable_document(reopened.doc) == {
+        **document_to_dict(checked),
+        "course": list(document_to_dict(checked).get("course") or []),
+    }

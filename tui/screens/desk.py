@@ -266,13 +266,19 @@ class Desk(Screen):
         self.recompute()
         editor = self.query_one(CallEditor)
         courses = self.lode.workspace.courses
-        if courses and editor.index < len(courses):
+        if courses:
+            # the editor's course may be gone (an undone insert): it moves to the last one,
+            # as a new editing session (what is typed next is its own undo step)
+            index, session = editor.index, editor.session
+            if index >= len(courses):
+                index = len(courses) - 1
+                self._editor_session += 1
+                session = self._editor_session
+                table.move_cursor(row=index)
             editor.load(
-                editor.index,
-                editor.field,
-                self._field_text(courses[editor.index], editor.field),
-                editor.session,
+                index, editor.field, self._field_text(courses[index], editor.field), session
             )
+            self.show_keyboard(self.app.focused)
 
     def schedule_recompute(self) -> None:
         """Recompute once typing pauses (see :data:`DEBOUNCE_S`)."""
@@ -511,6 +517,8 @@ class Desk(Screen):
         self.show_keyboard(self.app.focused)
 
     def on_call_editor_edited(self, event: CallEditor.Edited) -> None:
+        if not 0 <= event.index < len(self.lode.workspace.courses):
+            return  # typed for a course an undo removed meanwhile (the editor has moved)
         value = event.value
         stored: object = value
         if event.field == "found":
