@@ -19,7 +19,7 @@ from geo.document import document_from_dict
 from geo.errors import DocumentError
 from tui.app import LodelineApp, load_workspace
 from tui.dialogs.choice import ChoiceDialog
-from tui.widgets.call_table import CallTable
+from tui.widgets.call_table import CallEditor, CallTable
 from tui.widgets.job_form import JobForm
 from tui.workspace import SETTING_LABELS, Workspace, recovery_path, write_recovery
 
