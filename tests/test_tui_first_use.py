@@ -579,3 +579,97 @@ def test_random_keys_leave_the_desk_running_and_the_document_whole(keys, tmp_pat
         **document_to_dict(checked),
         "course": list(document_to_dict(checked).get("course") or []),
     }
+
+
+# -- the start screen ----------------------------------------------------------------------------
+
+
+@sync
+async def test_a_new_document_from_the_start_screen_types_saves_and_reopens(tmp_path):
+    from geo.document import document_to_dict, load_document
+    from tui.screens.start import StartScreen
+
+    app = LodelineApp(Workspace(), start=True)
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot)
+        assert isinstance(app.screen, StartScreen)
+        await pilot.press(*"Glen Tract", "tab", *"42.8731", "tab", *"-76.1934")
+        await pilot.press("enter")  # no record date for a magnetic record: named, not opened
+        await pilot.pause()
+        assert isinstance(app.screen, StartScreen)
+        assert "record.date" in str(app.screen.query_one("#new-problems").render())
+        date = app.screen.query_one("#new-record--date")
+        app.screen.set_focus(date)
+        await pilot.press(*"1854-05-12", "enter")
+        await settle(pilot)
+        assert not isinstance(app.screen, StartScreen)
+        assert app.focused.id == "editor-input"  # the cursor in the first call
+        await pilot.press(*"N 45 E 20 perches to a white oak", "enter", "a")
+        await pilot.press(*"S 45 E 20 perches", "enter")
+        await settle(pilot)
+        assert app.desk.results.problem_count == 0
+        await pilot.press("ctrl+s")  # Save as, with a name from the title
+        await pilot.pause()
+        assert app.screen.query_one("#prompt-input").value == "glen_tract.toml"
+        await pilot.press("enter")
+        await settle(pilot)
+        typed = app.workspace.doc
+    saved = load_document(tmp_path / "glen_tract.toml")  # valid: the full check passes
+    assert [c.call for c in saved.course] == ["N 45 E 20 perches to a white oak", "S 45 E 20 perches"]
+    assert saved.record.date == "1854-05-12" and saved.record.distance_unit == "perch"
+    again = load_workspace(tmp_path / "glen_tract.toml")
+    assert again.doc == {**document_to_dict(saved), "course": list(document_to_dict(saved)["course"])}
+    assert again.doc["course"] == typed["course"]
+
+
+@sync
+async def test_the_start_screen_opens_a_file_of_the_folder_and_a_demo(square):
+    from tui.screens.start import StartScreen, demo_files
+
+    assert {p.name for p in demo_files()} >= {"brindlecombe_farm_1854.toml"}
+    app = LodelineApp(Workspace(), start=True)
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot)
+        await pilot.press("f6", "enter")  # the first (only) document here: square.toml
+        await settle(pilot)
+        assert not isinstance(app.screen, StartScreen)
+        assert app.workspace.path == square.resolve() or app.workspace.path.name == "square.toml"
+        assert app.desk.results.rows[0].true.startswith("N 10")
+    app = LodelineApp(Workspace(), start=True)
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot)
+        await pilot.press("f7", "down", "enter")  # the second demo, by name
+        await settle(pilot, 0.3)
+        assert app.workspace.path is None  # a copy: saved only where the user chooses
+        assert app.workspace.doc["title"] == load_workspace(demo_files()[1]).doc["title"]
+        assert app.desk.results.problem_count == 0
+
+
+@sync
+async def test_escape_on_the_start_screen_gives_an_empty_desk():
+    app = LodelineApp(Workspace(), start=True)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await pilot.press("escape")
+        await settle(pilot)
+        assert app.focused.id == "editor-input"
+        assert app.workspace.courses == [{"call": ""}]
+
+
+@sync
+async def test_the_key_guide_is_by_task(square):
+    from tui.screens.key_guide import KeyGuide
+
+    app = LodelineApp(load_workspace(square))
+    async with app.run_test(size=(100, 40)) as pilot:
+        await settle(pilot)
+        await pilot.press("f1")
+        await pilot.pause()
+        assert isinstance(app.screen, KeyGuide)
+        tasks = [where for where, _k, _w in app.screen._rows]
+        assert list(dict.fromkeys(tasks)) == [
+            "enter a deed",
+            "mark found corners",
+            "export for the field",
+            "anywhere",
+        ]
