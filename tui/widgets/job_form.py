@@ -156,7 +156,7 @@ class JobForm(VerticalScroll):
             yield Label(label, id=_widget_id(key) + "-label")
             if key == "closed":
                 yield Checkbox(
-                    "the calls return to the beginning",
+                    "returns to the beginning",
                     value=True,
                     id=_widget_id(key),
                     compact=True,
