@@ -13,9 +13,11 @@ Public API
     The two RFC 4180 CSV tables.
 ``courses_csv_path(path) -> Path``
     Where the course table goes beside a points CSV: ``NAME-courses.csv``.
-``write_exports(conv, *, geojson=None, csv=None, adjust=None, force=False) -> list[Path]``
+``write_exports(conv, *, geojson=None, csv=None, adjust=None, force=False, gpx=None, kml=None,
+dxf=None) -> list[Path]``
     Write the requested files atomically; refuses to replace any existing one (before writing
-    anything) unless ``force``.
+    anything) unless ``force``. GPX, KML and DXF come from :mod:`geo.gpx`, :mod:`geo.kml` and
+    :mod:`geo.dxf`, fed by the same :class:`Positions` as the GeoJSON.
 
 Positions
     Each course runs from its (adjusted) starting station along its **grid** azimuth for its
@@ -484,8 +486,12 @@ def write_exports(
     csv_path: str | Path | None = None,
     adjust: str | None = None,
     force: bool = False,
+    gpx: str | Path | None = None,
+    kml: str | Path | None = None,
+    dxf: str | Path | None = None,
 ) -> list[Path]:
-    """Write the GeoJSON and/or the two CSV files; return the paths written.
+    """Write the GeoJSON, the two CSV files, GPX (:mod:`geo.gpx`), KML (:mod:`geo.kml`) and/or
+    DXF (:mod:`geo.dxf`), all from the same positions; return the paths written.
 
     Every file is generated first and every target checked before anything is written: without
     ``force`` an existing target raises :class:`OutputExistsError` and nothing is touched. Each
@@ -493,15 +499,20 @@ def write_exports(
     """
     from geo.atomic import write_atomic
 
-    if geojson is None and csv_path is None:
-        raise InputError("nothing to export: name a GeoJSON and/or a CSV file", field="output")
+    if all(x is None for x in (geojson, csv_path, gpx, kml, dxf)):
+        raise InputError("nothing to export: name a GeoJSON, CSV, GPX, KML or DXF file",
+                         field="output")  # fmt: skip
     pos = positions(conv, adjust=adjust)
     outputs: list[tuple[Path, str]] = []
-    if geojson is not None:
-        outputs.append((Path(geojson), geojson_text(geojson_collection(conv, positions_=pos))))
+    collection = None
+    if geojson is not None or kml is not None:
+        collection = geojson_collection(conv, positions_=pos)
+    if geojson is not None and collection is not None:
+        outputs.append((Path(geojson), geojson_text(collection)))
     if csv_path is not None:
         outputs.append((Path(csv_path), points_csv(pos)))
         outputs.append((courses_csv_path(csv_path), courses_csv(conv, pos)))
+    outputs += _field_files(conv, pos, collection, gpx=gpx, kml=kml, dxf=dxf)
     targets = [p for p, _ in outputs]
     if len({t.resolve() for t in targets}) != len(targets):
         raise InputError("two outputs name the same file", file=str(targets[0]), field="output")
@@ -515,3 +526,29 @@ def write_exports(
     for target, text in outputs:
         written.append(write_atomic(target, text, overwrite=force))  # OutputError names it
     return written
+
+
+def _field_files(
+    conv: DocumentConversion,
+    pos: Positions,
+    collection: dict[str, Any] | None,
+    *,
+    gpx: str | Path | None,
+    kml: str | Path | None,
+    dxf: str | Path | None,
+) -> list[tuple[Path, str]]:
+    """The GPX, KML and DXF texts asked for, from ``pos`` (and the GeoJSON figure for KML)."""
+    out: list[tuple[Path, str]] = []
+    if gpx is not None:
+        from geo.gpx import gpx_text
+
+        out.append((Path(gpx), gpx_text(conv, pos)))
+    if kml is not None and collection is not None:
+        from geo.kml import kml_text
+
+        out.append((Path(kml), kml_text(conv, pos, collection["features"][0]["geometry"])))
+    if dxf is not None:
+        from geo.dxf import dxf_text
+
+        out.append((Path(dxf), dxf_text(conv, pos)))
+    return out

@@ -190,6 +190,7 @@ def key_guide_tasks() -> list[tuple[str, list[Binding]]]:
             "mark found corners",
             keys(
                 ("f", "Found position of this course's end (easting=…, northing=…)"),
+                ("f5", "Found corners from a receiver's point file (CSV, GeoJSON, GPX)"),
                 ("f4", "Findings: closure, local attraction, record-to-found fit, sketch"),
                 ("0", "Fit the whole figure in the sketch"),
                 ("plus,minus", "Zoom the sketch in / out"),
@@ -232,6 +233,7 @@ class LodelineApp(App[int]):
         Binding("f6", "export('geojson')", "GeoJSON"),
         Binding("f7", "export('csv')", "CSV"),
         Binding("f8", "export('report')", "Report"),
+        Binding("f5", "found_from", "Found from file"),
         Binding("ctrl+q", "quit", "Quit", priority=True),
     ]
 
@@ -406,6 +408,11 @@ class LodelineApp(App[int]):
                 "Write report…",
                 "Write the retracement report (F8)",
                 lambda: self.action_export("report"),
+            ),
+            (
+                "Found corners from a point file…",
+                "Set found positions from a receiver's CSV, GeoJSON or GPX file (F5)",
+                self.action_found_from,
             ),
             ("Key guide", "Every key, and the cautions (F1)", self.action_key_guide),
             (
@@ -603,6 +610,12 @@ class LodelineApp(App[int]):
             self.notify(f"Written: {', '.join(str(p) for p in written)}", timeout=4)
 
         self.push_screen(prompt, chosen)
+
+    def action_found_from(self) -> None:
+        """Set found corners from a point file (see :mod:`tui.found_from`)."""
+        from tui.found_from import found_from_file
+
+        found_from_file(self)
 
     async def action_quit(self) -> None:
         """Quit, asking first when there are unsaved changes."""

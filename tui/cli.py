@@ -26,6 +26,7 @@ SUBCOMMANDS: list[tuple[str, str]] = [
     ("close", "close"),
     ("fit", "fit"),
     ("export", "export"),
+    ("found", "found"),
 ]
 
 EPILOG = (

@@ -1,4 +1,6 @@
-"""``lodeline export DOC --geojson OUT.geojson [--csv OUT.csv]``: files for GIS and GNSS receivers.
+"""``lodeline export DOC [--geojson OUT] [--csv OUT] [--gpx OUT] [--kml OUT] [--dxf OUT]``.
+
+Files for GIS, GNSS receivers, globe viewers and CAD.
 
 The positions, GeoJSON and CSV come from :mod:`geo.export` (see its module docstring for the
 method and the file layouts); the CSV course table goes to ``OUT-courses.csv`` beside
@@ -13,7 +15,7 @@ from typing import Any
 
 from .common import add_adjust_option
 
-HELP = "write the traverse as GeoJSON (RFC 7946) and/or CSV"
+HELP = "write the traverse as GeoJSON (RFC 7946), CSV, GPX, KML and/or DXF"
 
 
 def register(subparsers: Any) -> None:
@@ -24,7 +26,10 @@ def register(subparsers: Any) -> None:
         description=(
             "Write station positions (grid CRS and WGS84), intermediate points and every "
             "course's bearings as a GeoJSON FeatureCollection and/or CSV (OUT.csv for the "
-            "points, OUT-courses.csv for the courses)."
+            "points, OUT-courses.csv for the courses); waypoints and a route as GPX for a "
+            "handheld receiver; the figure and marks as KML; the figure in grid coordinates "
+            "as DXF for drafting. Every file carries the same positions and all are written "
+            "or none."
         ),
     )
     p.add_argument("document", metavar="DOC", help="traverse document (.toml or .json)")
@@ -32,6 +37,9 @@ def register(subparsers: Any) -> None:
     p.add_argument(
         "--csv", metavar="OUT.csv", help="CSV of the points (and OUT-courses.csv) to write"
     )
+    p.add_argument("--gpx", metavar="OUT.gpx", help="GPX 1.1 file for a handheld receiver")
+    p.add_argument("--kml", metavar="OUT.kml", help="KML 2.2 file for a globe viewer")
+    p.add_argument("--dxf", metavar="OUT.dxf", help="DXF drawing in grid coordinates for CAD")
     add_adjust_option(p, "adjustment of the positions")
     p.add_argument("--force", action="store_true", help="replace existing output files")
     p.set_defaults(func=run)
@@ -45,13 +53,20 @@ def run(args: argparse.Namespace) -> int:
     from geo.export import write_exports
     from geo.north import convert_document
 
-    if not args.geojson and not args.csv:
-        raise InputError("nothing to export: give --geojson OUT.geojson and/or --csv OUT.csv")
+    if not any((args.geojson, args.csv, args.gpx, args.kml, args.dxf)):
+        raise InputError("nothing to export: give --geojson, --csv, --gpx, --kml or --dxf")
     _check_destinations(args)
     doc = load_document(args.document)
     conv = convert_document(doc, file=args.document)
     written = write_exports(
-        conv, geojson=args.geojson, csv_path=args.csv, adjust=args.adjust, force=args.force
+        conv,
+        geojson=args.geojson,
+        csv_path=args.csv,
+        adjust=args.adjust,
+        force=args.force,
+        gpx=args.gpx,
+        kml=args.kml,
+        dxf=args.dxf,
     )
     for path in written:
         sys.stdout.write(f"wrote {path}\n")
@@ -70,6 +85,7 @@ def _check_destinations(args: argparse.Namespace) -> None:
     targets = [Path(args.geojson)] if args.geojson else []
     if args.csv:
         targets += [Path(args.csv), courses_csv_path(args.csv)]
+    targets += [Path(p) for p in (args.gpx, args.kml, args.dxf) if p]
     for target in targets:
         folder = target.parent
         if not folder.is_dir():

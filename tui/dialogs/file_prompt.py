@@ -39,12 +39,14 @@ class FileNamePrompt(ModalScreen[Path | None]):
         suggestion: str,
         suffixes: tuple[str, ...],
         companions: Callable[[Path], list[Path]] | None = None,
+        verb: str = "write",
     ) -> None:
         super().__init__()
         self._title = title
         self._suggestion = suggestion
         self._suffixes = suffixes
         self._companions = companions or (lambda path: [path])
+        self._verb = verb
         #: True when the user agreed to replace files that exist.
         self.replace = False
 
@@ -52,7 +54,8 @@ class FileNamePrompt(ModalScreen[Path | None]):
         with Vertical() as box:
             box.border_title = self._title
             yield Static(
-                f"File name ({' or '.join(self._suffixes)}); Enter to write, Escape to cancel."
+                f"File name ({' or '.join(self._suffixes)}); Enter to {self._verb}, "
+                "Escape to cancel."
             )
             yield Input(value=self._suggestion, id="prompt-input")
             yield Static("", id="prompt-message")
