@@ -615,10 +615,16 @@ async def test_a_new_document_from_the_start_screen_types_saves_and_reopens(tmp_
         await settle(pilot)
         typed = app.workspace.doc
     saved = load_document(tmp_path / "glen_tract.toml")  # valid: the full check passes
-    assert [c.call for c in saved.course] == ["N 45 E 20 perches to a white oak", "S 45 E 20 perches"]
+    assert [c.call for c in saved.course] == [
+        "N 45 E 20 perches to a white oak",
+        "S 45 E 20 perches",
+    ]
     assert saved.record.date == "1854-05-12" and saved.record.distance_unit == "perch"
     again = load_workspace(tmp_path / "glen_tract.toml")
-    assert again.doc == {**document_to_dict(saved), "course": list(document_to_dict(saved)["course"])}
+    assert again.doc == {
+        **document_to_dict(saved),
+        "course": list(document_to_dict(saved)["course"]),
+    }
     assert again.doc["course"] == typed["course"]
 
 
