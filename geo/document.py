@@ -54,6 +54,17 @@ Schema, format_version 1 (every table and key below; any other key is an error):
     every = "5 chains"            # optional: intermediate points along the course
     note = "..."                  # optional
 
+    [[course.at]]                 # zero or more events along the course (field notes)
+    distance = "12 chains"        # from the course's start: a number (in the course's unit)
+                                  # or a distance text
+    note = "crossed a run"        # optional: what is there
+
+    [plots]                       # optional: the plot list of a cruise (courses with every)
+    start = 1                     # number of the first plot (default 1)
+    first = "2.5 chains"          # first plot on each course with every, from its start
+                                  # (default: one spacing; 0: at the course's start)
+    course_ends = false           # also a plot at the end of each course with every
+
 Keys beyond the issue that introduced the format, and why:
 
 - ``[target]`` (``date``, ``model``): the terminal application edits and saves the target date;
@@ -71,6 +82,11 @@ Keys beyond the issue that introduced the format, and why:
   any note), which is how the commands and the terminal application show a course given by
   ``angle`` and ``distance``; a course whose call gives a bearing may carry ``angle`` too (the
   angle at its starting station, for the angular misclosure).
+
+- ``[[course.at]]`` (``distance``, ``note``) and ``[plots]`` (``start``, ``first``,
+  ``course_ends``): what field notes record along a line ("at 12 chains crossed a run") and
+  how a cruise numbers and places its plots (:mod:`geo.along`). Documents without them read
+  as before.
 
 Every error is a :class:`geo.errors.DocumentError` with the file, the 1-based course number and
 the key (``record.date``, ``found.easting`` ...), printed as one line.
@@ -106,19 +122,23 @@ from geo.angles import normalize_azimuth
 from geo.bearings import parse_bearing
 from geo.calls import parse_call, parse_distance
 from geo.errors import DocumentError, LodelineError
+from geo.omitted import has_unknown
 
 __all__ = [
     "FORMAT_VERSION",
     "Course",
+    "CourseEvent",
     "Document",
     "Found",
     "Grid",
     "Place",
+    "Plots",
     "RecordedCourse",
     "Record",
     "Target",
     "check_document",
     "course_call_text",
+    "document_distance",
     "document_from_dict",
     "document_problems",
     "document_to_dict",
@@ -178,6 +198,14 @@ def _strict_number(value: Any) -> Any:
         raise _fail(None, f"must be a number, not {_show(value)}")
     if value is not None and not math.isfinite(value):
         raise _fail(None, f"must be a finite number, not {value!r}")
+    return value
+
+
+def _strict_int(value: Any) -> Any:
+    if isinstance(value, bool) or not isinstance(value, int):
+        raise _fail(None, f"must be a whole number, not {_show(value)}")
+    if not 0 <= value <= 10**9:
+        raise _fail(None, f"must be a whole number from 0 to 1000000000, not {value}")
     return value
 
 
@@ -294,6 +322,21 @@ class Found(_Table):
         return self
 
 
+class CourseEvent(_Table):
+    """Something the line meets at a distance from the course's start (``[[course.at]]``)."""
+
+    distance: Annotated[float | str, BeforeValidator(_number_or_text)]
+    note: Text = None
+
+
+class Plots(_Table):
+    """How the plots of a cruise are numbered and placed (``[plots]``; see geo.along)."""
+
+    start: Annotated[int, BeforeValidator(_strict_int)] = 1
+    first: NumberOrText = None
+    course_ends: Annotated[bool, BeforeValidator(_strict_bool)] = False
+
+
 class Course(_Table):
     """One course as written: ``call``, or ``bearing``/``angle`` + ``distance`` [+ ``unit``]."""
 
@@ -306,6 +349,7 @@ class Course(_Table):
     found: Found | None = None
     every: NumberOrText = None
     note: Text = None
+    at: tuple[CourseEvent, ...] = ()
 
     @model_validator(mode="after")
     def _call_or_parts(self) -> Course:
@@ -338,6 +382,7 @@ class Document(_Table):
     grid: Grid | None = None
     record: Record = Field(default_factory=Record)
     target: Target | None = None
+    plots: Plots | None = None
     course: tuple[Course, ...] = ()
 
     @model_validator(mode="after")
@@ -360,6 +405,8 @@ _TABLES: dict[str, type[_Table]] = {
     "target": Target,
     "course": Course,
     "found": Found,
+    "at": CourseEvent,
+    "plots": Plots,
 }
 
 
@@ -466,7 +513,11 @@ def document_to_dict(doc: Document) -> dict[str, Any]:
     Keys whose value is absent (``None``) are left out; everything else is written, so a dict
     read back gives an identical document. Derived numbers are never included.
     """
-    return doc.model_dump(mode="python", exclude_none=True)
+    data = doc.model_dump(mode="python", exclude_none=True)
+    for course in data.get("course", ()):
+        if not course.get("at"):
+            course.pop("at", None)  # no events: the key is left out, as an absent one
+    return data
 
 
 # --------------------------------------------------------------------------------------------
@@ -498,11 +549,15 @@ def dumps_document(doc: Document, fmt: Literal["toml", "json"] = "toml") -> str:
         return json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
     top = {k: v for k, v in data.items() if not isinstance(v, Mapping | list | tuple)}
     out = [_toml_pairs(top)]
-    for name in ("place", "grid", "record", "target"):
+    for name in ("place", "grid", "record", "target", "plots"):
         if name in data:
             out.append(f"\n[{name}]\n" + _toml_pairs(data[name]))
     for course in data.get("course", ()):
-        out.append("\n[[course]]\n" + _toml_pairs(course))
+        events = course.get("at", ())
+        pairs = {k: v for k, v in course.items() if k != "at"}
+        out.append("\n[[course]]\n" + _toml_pairs(pairs))
+        for event in events:
+            out.append("\n[[course.at]]\n" + _toml_pairs(event))
     return "".join(out)
 
 
@@ -655,6 +710,8 @@ class RecordedCourse:
     every_m: float | None
     note: str | None
     call_note: str | None
+    #: What the closure supplied when the call wrote "?" (geo.omitted), else None.
+    solved: str | None = None
 
 
 def course_call_text(course: Course, default_unit: str | None = None) -> str:
@@ -688,6 +745,16 @@ def _angle_call(text: str) -> tuple[str, str] | None:
     return match.group("angle"), match.group("rest")
 
 
+def _without_events(text: str, ctx: dict[str, Any]) -> str:
+    """The call without the events written in it ("N 10 E, at 12 chains a run, 40 chains"):
+    see :func:`geo.along.split_call_events`."""
+    if "," not in text:
+        return text
+    from geo.along import split_call_events
+
+    return split_call_events(text, foot=ctx["foot"], vara_inches=ctx["vara_inches"])[0]
+
+
 def _plain(value: float | str | None) -> str:
     if value is None:
         return ""
@@ -717,6 +784,22 @@ def _unit_context(doc: Document) -> dict[str, Any]:
         "foot": foot,
         "vara_inches": record.vara_inches,
     }
+
+
+def document_distance(doc: Document, value: float | str, *, unit: str | None = None) -> Any:
+    """Read a length of ``doc`` (an event's ``distance``, ``plots.first``): a distance text, or a
+    number in ``unit`` (default ``record.distance_unit``), with the document's foot and vara.
+    Returns a :class:`geo.calls.Distance`; raises :class:`~geo.errors.LodelineError` (the
+    caller names the course and key)."""
+    ctx = _unit_context(doc)
+    if isinstance(value, str):
+        return parse_distance(value, **{**ctx, "default_unit": unit or ctx["default_unit"]})
+    unit = unit or ctx["default_unit"]
+    if unit is None:
+        raise DocumentError("a bare number needs a unit: write it as a distance ('12 chains')")
+    if not value > 0.0:
+        raise DocumentError(f"must be a positive length, not {_plain(value)}")
+    return parse_distance(f"{_plain(value)} {unit}", **ctx)
 
 
 def _check_record(doc: Document, file: str | None) -> list[DocumentError]:
@@ -914,7 +997,7 @@ def _parse_course_cached(
         call_note = call.note or None
     elif course.call is not None:
         try:
-            call = parse_call(course.call, **ctx)
+            call = parse_call(_without_events(course.call, ctx), **ctx)
         except LodelineError as err:
             raise _locate(err, None, None, "call") from None
         if call.bearing is None:
@@ -1003,12 +1086,40 @@ def parse_courses(doc: Document, *, file: str | None = None) -> tuple[RecordedCo
     """
     ctx_items = tuple(_unit_context(doc).items())
     out: list[RecordedCourse] = []
+    omitted: list[Any] = []
     previous: float | None = None
     for i, course in enumerate(doc.course, start=1):
+        if has_unknown(course):  # "?" in the call: completed from the closure (geo.omitted)
+            omitted.append(_read_omitted(course, i, ctx_items, file))
+            previous = None
+            continue
         parsed = _parse_course(course, i, previous, doc, ctx_items, file)
         out.append(parsed)
         previous = parsed.azimuth_deg
+    if omitted:
+        out = _with_omitted(doc, out, omitted, file)
     return tuple(out)
+
+
+def _read_omitted(course: Course, i: int, ctx_items: tuple, file: str | None) -> Any:
+    from geo.omitted import read_omitted
+
+    try:
+        return read_omitted(course, i, dict(ctx_items))
+    except DocumentError as err:
+        raise err.located(file=file) from None
+
+
+def _with_omitted(
+    doc: Document, known: list[RecordedCourse], omitted: list[Any], file: str | None
+) -> list[RecordedCourse]:
+    """The courses in order, those written with "?" completed from the closure."""
+    from geo.omitted import solve_omitted
+
+    solved = solve_omitted(
+        known, omitted, closed=doc.closed, reference=doc.record.reference, file=file
+    )
+    return sorted([*known, *solved], key=lambda r: r.index)
 
 
 _VARA_MISSING = (
@@ -1031,6 +1142,12 @@ def document_problems(doc: Document, *, file: str | None = None) -> list[Documen
         return problems
     ctx_items = tuple(ctx.items())
     previous: float | None = None
+    if any(has_unknown(c) for c in doc.course):
+        try:
+            parse_courses(doc, file=file)
+        except DocumentError as err:
+            problems.append(err)
+        return problems
     for i, course in enumerate(doc.course, start=1):
         try:
             previous = _parse_course(course, i, previous, doc, ctx_items, file).azimuth_deg
@@ -1039,6 +1156,9 @@ def document_problems(doc: Document, *, file: str | None = None) -> list[Documen
                 err if isinstance(err, DocumentError) else _locate(err, file, i, "call")
             )
             previous = None
+    from geo.along import along_problems
+
+    problems.extend(along_problems(doc, file=file))
     return problems
 
 
@@ -1048,3 +1168,8 @@ def check_document(doc: Document, *, file: str | None = None) -> None:
     if problems:
         raise problems[0]
     parse_courses(doc, file=file)
+    from geo.along import along_problems
+
+    problems = along_problems(doc, file=file)
+    if problems:
+        raise problems[0]

@@ -28,9 +28,11 @@ Positions
     :func:`geo.survey.record_figure` turn the grid azimuths by the same amount. Easting and
     northing are in the CRS's unit; latitude/longitude come from the inverse projection
     (:func:`geo.grid.to_geographic`). With ``adjust="none"`` the stations are exactly those of
-    the conversion. Intermediate points (``every``) lie on their course at every multiple of
-    the spacing (ground distance from the course's start) short of the course's end, placed
-    proportionally along the adjusted course.
+    the conversion. Intermediate points are the plots of courses with ``every``
+    (:func:`geo.along.plot_chainages`: by default every multiple of the spacing, ground
+    distance from the course's start, short of the course's end; ``[plots]`` sets the first
+    number, the first plot's distance and a plot at each course end), numbered as the plot list
+    numbers them and placed proportionally along the adjusted course.
 
 GeoJSON (RFC 7946)
     A FeatureCollection of: the figure (a Polygon for a closed traverse, exterior ring
@@ -38,7 +40,8 @@ GeoJSON (RFC 7946)
     LineString when the calls cross themselves, which no valid Polygon can hold, with the
     crossing pair in ``crossing_courses``; otherwise a LineString through every station), one
     Point per station (for an adjusted closed traverse the last station is the point of
-    beginning and is not repeated) and one Point per intermediate point. Coordinates are
+    beginning and is not repeated), one Point per intermediate point (plot), and one Point
+    per event (``kind = "event"``) of :mod:`geo.along`. Coordinates are
     [longitude, latitude], WGS84, rounded to 8 decimals (about 1 mm).
     The figure's properties hold one object per course (call as written; magnetic (record),
     true, grid and magnetic (target) bearings and azimuths; length in the document's unit and
@@ -52,9 +55,10 @@ CSV (RFC 4180, UTF-8, CRLF line ends, a header row)
     ``OUT.csv``: one row per station and intermediate point, columns ``index, kind, course,
     along_m, easting, northing, latitude, longitude``; ``kind`` is ``station`` (``index`` the
     station number, ``course`` the course it ends, empty for the point of beginning) or
-    ``point`` (``index`` numbers the points from 1, ``course`` the course it lies on,
+    ``point`` (``index`` the plot number, ``course`` the course it lies on,
     ``along_m`` its ground distance from the course's start). ``OUT-courses.csv``: one row per
-    course with every bearing and length (see :data:`COURSE_COLUMNS`).
+    course with every bearing and length (see :data:`COURSE_COLUMNS`). When the document has
+    plots or events, ``OUT-plots.csv`` and ``OUT-events.csv`` too (:mod:`geo.along`).
 """
 
 from __future__ import annotations
@@ -62,7 +66,6 @@ from __future__ import annotations
 import csv
 import io
 import json
-import math
 from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
@@ -124,10 +127,10 @@ class Position:
     """One exported point.
 
     ``kind`` is ``"station"`` or ``"point"`` (intermediate); ``index`` the station number, or
-    the intermediate point's number from 1; ``course`` the course a station ends (``None`` for
-    the point of beginning) or a point lies on; ``along_m`` a point's ground distance from its
-    course's start (``None`` for a station). ``easting``/``northing`` in the CRS's unit,
-    ``lat``/``lon`` WGS84 degrees.
+    the intermediate point's plot number (geo.along); ``course`` the course a station ends
+    (``None`` for the point of beginning) or a point lies on; ``along_m`` a point's ground
+    distance from its course's start (``None`` for a station). ``easting``/``northing`` in
+    the CRS's unit, ``lat``/``lon`` WGS84 degrees.
     """
 
     kind: str
@@ -204,26 +207,18 @@ def positions(conv: DocumentConversion, *, adjust: str | None = None) -> Positio
     e_st = p0.easting + east_m / unit
     n_st = p0.northing + north_m / unit
 
-    # Intermediate points: fractions along each adjusted course.
-    pts: list[tuple[int, float, float, float]] = []  # course, along_m, easting, northing
-    for i, c in enumerate(conv.courses):
-        spacing = c.recorded.every_m
-        if not spacing:
-            continue
-        count = math.ceil(c.length_m / spacing - 1e-9) - 1
-        for k in range(1, count + 1):
-            along = k * spacing
-            f = along / c.length_m
-            pts.append(
-                (
-                    c.index,
-                    along,
-                    e_st[i] + f * (e_st[i + 1] - e_st[i]),
-                    n_st[i] + f * (n_st[i + 1] - n_st[i]),
-                )
-            )
-    all_e = np.concatenate([e_st, [p[2] for p in pts]])
-    all_n = np.concatenate([n_st, [p[3] for p in pts]])
+    # Intermediate points: the plots (numbered and placed along their course by
+    # geo.along.plot_chainages), at fractions along each adjusted course.
+    from geo.along import plot_chainages
+
+    pts: list[tuple[int, int, float, float, float]] = []  # number, course, along_m, e, n
+    for number, course, along, _end in plot_chainages(conv):
+        i = course - 1
+        f = along / conv.courses[i].length_m
+        e = e_st[i] + f * (e_st[i + 1] - e_st[i])
+        pts.append((number, course, along, e, n_st[i] + f * (n_st[i + 1] - n_st[i])))
+    all_e = np.concatenate([e_st, [p[3] for p in pts]])
+    all_n = np.concatenate([n_st, [p[4] for p in pts]])
     try:
         lat, lon = _grid.to_geographic(conv.crs, easting=all_e, northing=all_n)
     except LodelineError as err:
@@ -251,11 +246,11 @@ def positions(conv: DocumentConversion, *, adjust: str | None = None) -> Positio
     points = tuple(
         Position(
             "point",
-            k + 1,
             p[0],
-            float(p[1]),
+            p[1],
             float(p[2]),
             float(p[3]),
+            float(p[4]),
             float(lat[n + 1 + k]),
             float(lon[n + 1 + k]),
         )
@@ -380,6 +375,11 @@ def geojson_collection(
                 },
             }
         )
+    from geo.along import geojson_features, plot_list
+    from geo.retrace import corner_features
+
+    features += geojson_features(plot_list(conv))
+    features += corner_features(conv, decimals=COORD_DECIMALS)
     area = clo.area
     properties = {
         "title": doc.title,
@@ -417,7 +417,8 @@ def geojson_text(collection: dict[str, Any]) -> str:
 # --------------------------------------------------------------------------------------------
 
 
-def _csv(header: tuple[str, ...], rows: list[list[Any]]) -> str:
+def csv_table(header: tuple[str, ...], rows: list[list[Any]]) -> str:
+    """RFC 4180 CSV text (CRLF line ends, a header row; floats by their shortest repr)."""
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\r\n")
     writer.writerow(header)
@@ -433,7 +434,7 @@ def points_csv(pos: Positions) -> str:
         [p.index, p.kind, p.course, p.along_m, p.easting, p.northing, p.lat, p.lon]
         for p in (*pos.stations, *pos.points)
     ]
-    return _csv(POINT_COLUMNS, rows)
+    return csv_table(POINT_COLUMNS, rows)
 
 
 def courses_csv(conv: DocumentConversion, pos: Positions) -> str:
@@ -465,13 +466,19 @@ def courses_csv(conv: DocumentConversion, pos: Positions) -> str:
                 pos.grid_length_m[i],
             ]
         )
-    return _csv(COURSE_COLUMNS, rows)
+    return csv_table(COURSE_COLUMNS, rows)
 
 
 def courses_csv_path(path: str | Path) -> Path:
     """The course table's file beside the points CSV ``path``: ``NAME-courses.csv``."""
+    return csv_path_beside(path, "courses")
+
+
+def csv_path_beside(path: str | Path, table: str) -> Path:
+    """A table's file beside the points CSV ``path``: ``NAME-courses.csv``, ``NAME-plots.csv``,
+    ``NAME-events.csv``."""
     p = Path(path)
-    return p.with_name(f"{p.stem}-courses{p.suffix or '.csv'}")
+    return p.with_name(f"{p.stem}-{table}{p.suffix or '.csv'}")
 
 
 # --------------------------------------------------------------------------------------------
@@ -510,8 +517,15 @@ def write_exports(
     if geojson is not None and collection is not None:
         outputs.append((Path(geojson), geojson_text(collection)))
     if csv_path is not None:
+        from geo.along import events_csv, plot_list, plots_csv
+
         outputs.append((Path(csv_path), points_csv(pos)))
         outputs.append((courses_csv_path(csv_path), courses_csv(conv, pos)))
+        al = plot_list(conv)
+        if al.plots:
+            outputs.append((csv_path_beside(csv_path, "plots"), plots_csv(al)))
+        if al.events:
+            outputs.append((csv_path_beside(csv_path, "events"), events_csv(al)))
     outputs += _field_files(conv, pos, collection, gpx=gpx, kml=kml, dxf=dxf)
     targets = [p for p, _ in outputs]
     if len({t.resolve() for t in targets}) != len(targets):

@@ -64,6 +64,12 @@ class SimilarityFit:
     rms_m: float
     with_scale: bool
     exact: bool
+    #: Standard error of ``rotation_deg`` (degrees) from the residuals: sigma0 / (|b| sqrt(sum
+    #: |z - z_mean|^2)), sigma0^2 = sum |residual|^2 / (2m - parameters), b the fitted complex
+    #: rotation-scale (the least-squares 2-D conformal transformation; Ghilani, *Adjustment
+    #: Computations*, chapter on coordinate transformations, from memory). ``None`` without
+    #: redundancy (two stations with scale).
+    rotation_sigma_deg: float | None = None
 
     def apply(self, *, east_m: ArrayLike, north_m: ArrayLike) -> tuple[Array, Array]:
         """Map record coordinates (metres) into the found frame: returns (east_m, north_m)."""
@@ -142,6 +148,11 @@ def fit_similarity(
     fitted = a + b * z
     res = w - fitted
     rms = math.sqrt(math.fsum((np.abs(res) ** 2).tolist()) / m)
+    dof = 2 * m - (4 if with_scale else 3)
+    sigma_rot = None
+    if dof > 0:
+        sigma0 = math.sqrt(math.fsum((np.abs(res) ** 2).tolist()) / dof)
+        sigma_rot = math.degrees(sigma0 / (abs(b) * math.sqrt(zz)))
     return SimilarityFit(
         rotation_deg=float(angle_difference(math.degrees(theta), 0.0)),
         scale=scale,
@@ -153,4 +164,5 @@ def fit_similarity(
         rms_m=rms,
         with_scale=with_scale,
         exact=with_scale and m == 2,
+        rotation_sigma_deg=sigma_rot,
     )

@@ -1034,6 +1034,12 @@ def collect_report(
         blocks.append(Heading("Closure"))
         blocks.append(Notice("Closure not computed", (str(survey_error),)))
 
+    if closure is not None and doc.closed:
+        blocks += _description_blocks(conv, closure.adjustment)
+    from geo.along import plot_list, report_blocks
+
+    blocks += report_blocks(plot_list(conv), conv)
+
     fit = None
     if survey.found_count(conv) >= 2:
         blocks.append(Heading("Record-to-found fit"))
@@ -1043,6 +1049,10 @@ def collect_report(
             blocks.append(Notice("Fit not computed", (err.message,)))
         else:
             blocks += _fit_blocks(conv, fit)
+
+    from geo.retrace_report import retracement_blocks
+
+    blocks += retracement_blocks(conv, fit)
 
     blocks.append(Heading("Notes"))
     note_rows = tuple((str(c.index), c.recorded.note) for c in conv.courses if c.recorded.note)
@@ -1064,6 +1074,12 @@ def collect_report(
 
 def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
     from geo.bearings import format_bearing
+    from geo.measures import area_text, conversion_unit, length_text
+
+    ru = conversion_unit(conv)
+
+    def rec(metres: float) -> str:
+        return "" if ru.metric else f" = {length_text(metres, ru)}"
 
     out: list[Block] = [Heading("Closure, adjustment and area")]
     north = {"true": "true north", "grid": "grid north", "magnetic": "magnetic north (record)"}
@@ -1072,17 +1088,22 @@ def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
             "figure",
             "closed (the calls return to the point of beginning)"
             if clo.closed
-            else "open traverse (closed = false)",
+            else (
+                f"open line closed on its found end (station {len(clo.courses)})"
+                if clo.closes_on
+                else "open traverse (closed = false)"
+            ),
         ),
         ("directions referred to", north.get(clo.north, clo.north)),
-        ("perimeter", f"{clo.perimeter_m:,.3f} m"),
+        ("perimeter", f"{clo.perimeter_m:,.3f} m{rec(clo.perimeter_m)}"),
     ]
-    if clo.closed:
+    if clo.closes_on:
         if clo.misclosure_m:
             facts.append(
                 (
                     "linear misclosure",
-                    f"{clo.misclosure_m:,.3f} m toward {clo.misclosure_bearing} "
+                    f"{clo.misclosure_m:,.3f} m{rec(clo.misclosure_m)} toward "
+                    f"{clo.misclosure_bearing} "
                     f"(north {clo.misclosure_north_m:+.3f} m, east {clo.misclosure_east_m:+.3f} m)",
                 )
             )
@@ -1108,6 +1129,7 @@ def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
                     f"({'US survey' if a.foot == 'us' else 'international'} acre)",
                 )
             )
+            facts.append(("area in the record's measure", area_text(a.ground_m2, ru, a.acres)))
             facts.append(
                 (
                     "area (grid)",
@@ -1139,6 +1161,8 @@ def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
     if clo.notes:
         out.append(Notice("Closure notes", tuple(clo.notes)))
 
+    if not ru.metric:
+        out.append(_record_unit_table(clo, ru))
     ua = clo.unadjusted_stations
     adj_n = [s.north_m for s in clo.stations]
     adj_e = [s.east_m for s in clo.stations]
@@ -1267,6 +1291,55 @@ def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
                 right=frozenset({0}),
             )
         )
+    return out
+
+
+def _record_unit_table(clo: Any, ru: Any) -> Table:
+    """Lengths, latitudes, departures and the running distance in the record unit."""
+    from geo.measures import length_text
+
+    rows = []
+    along = 0.0
+    for c in clo.courses:
+        along += c.length_m
+        rows.append(
+            (
+                str(c.index),
+                length_text(c.length_m, ru),
+                length_text(c.latitude_m, ru),
+                length_text(c.departure_m, ru),
+                length_text(along, ru),
+            )
+        )
+    return Table(
+        ("#", "length", "latitude", "departure", "to the course's end"),
+        tuple(rows),
+        right=frozenset({0, 1, 2, 3, 4}),
+        small=True,
+        caption=f"The same courses in {ru.name} (1 {ru.unit} = {ru.metres:.10g} m; "
+        f"record unit from {ru.source}), unadjusted; the last column runs from the point of "
+        "beginning.",
+    )
+
+
+def _description_blocks(conv: Any, adjust: str | None) -> list[Block]:
+    """The new description (closed figures): see :mod:`geo.deed_text`."""
+    from geo.deed_text import write_description
+    from geo.errors import LodelineError
+
+    out: list[Block] = [Heading("New description")]
+    try:
+        desc = write_description(conv, adjust=adjust)
+    except LodelineError as err:
+        return [*out, Notice("Description not written", (err.message,))]
+    out.append(
+        Paragraph(
+            "The figure written as a description, bearings referred to true north "
+            "(lodeline describe writes it to grid or magnetic north and in other units)."
+        )
+    )
+    for text in (desc.courses, desc.basis, desc.record, desc.distances):
+        out.append(Paragraph(text))
     return out
 
 

@@ -417,6 +417,11 @@ class SurveyClosure:
     declination_sigma_deg: float | None
     budget: tuple[BudgetStation, ...]
     notes: tuple[str, ...]
+    #: What the misclosure is measured against: "beginning" (a closed figure), "found end" (an
+    #: open line whose last course is found; geo.retrace), or None (open, nothing to close on).
+    closes_on: str | None = None
+    #: Found minus marched position of every found station (geo.retrace.found_gaps).
+    found_gaps: tuple[Any, ...] = ()
 
     @property
     def latitudes_m(self) -> tuple[float, ...]:
@@ -515,6 +520,8 @@ class SurveyClosure:
                     for b in self.budget
                 ],
             },
+            "closes_on": self.closes_on,
+            "found_gaps": [g.as_dict() for g in self.found_gaps],
             "notes": list(self.notes),
         }
 
@@ -600,7 +607,9 @@ def resolve_adjustment(conv: DocumentConversion, adjust: str | None) -> str:
         raise InputError(
             f"unknown adjustment {adjust!r}: use compass, transit or none", field="adjust"
         )
-    closed = bool(conv.document.closed)
+    from geo.retrace import closes_on_found_end
+
+    closed = bool(conv.document.closed) or closes_on_found_end(conv)
     if adjust is None:
         return "compass" if closed else "none"
     if not closed and adjust != "none":
@@ -659,6 +668,7 @@ def close_document(
         raise DocumentError("has no courses: nothing to close", file=conv.file, field="course")
     closed = bool(doc.closed)
     adjust = resolve_adjustment(conv, adjust)
+    closes_on = _closes_on(conv)
     figure = record_figure(conv)
     rotation = _north_rotation(conv, north)
     notes: list[str] = []
@@ -666,6 +676,10 @@ def close_document(
         notes.append(figure.angles_note)
     if figure.angles is not None:
         notes.append("azimuths carried from course 1 with the balanced angles")
+    from geo import omitted, retrace
+
+    notes += omitted.closure_notes([c.recorded for c in conv.courses])
+    notes += retrace.closure_notes(conv)
 
     from geo.angles import normalize_azimuth
 
@@ -673,7 +687,12 @@ def close_document(
     length = np.asarray(figure.length_m, dtype=float)
     try:
         st = tv.march(az, length)
-        adj = tv.adjust(az, length, method=adjust) if closed else None
+        end_n, end_e = _closing_point(conv, rotation, st)
+        adj = (
+            tv.adjust(az, length, method=adjust, end_north_m=end_n, end_east_m=end_e)
+            if closes_on
+            else None
+        )
     except LodelineError as err:
         raise err.located(file=conv.file) from None
 
@@ -743,6 +762,10 @@ def close_document(
         mis_az, precision = clo.misclosure_azimuth_deg, clo.precision
         foot = _acre_foot(conv)
         try:
+            if not closed:
+                raise TraverseError(
+                    f"open line closed on its found end (course {len(conv.courses)}): no area"
+                )
             fa = tv.figure_area(north_m, east_m, foot=foot)
         except tv.SelfCrossingError as err:
             crossing = tuple(err.courses)
@@ -813,7 +836,39 @@ def close_document(
         declination_sigma_deg=dec_sigma,
         budget=budget,
         notes=tuple(notes),
+        closes_on=closes_on,
+        found_gaps=_found_gaps(conv),
     )
+
+
+def _closes_on(conv: DocumentConversion) -> str | None:
+    """ "beginning", "found end" or None (see SurveyClosure.closes_on)."""
+    from geo.retrace import closes_on_found_end
+
+    if conv.document.closed:
+        return "beginning"
+    return "found end" if closes_on_found_end(conv) else None
+
+
+def _closing_point(conv: DocumentConversion, rotation: float, st: Any) -> tuple[float, float]:
+    """Where the courses should end in the closure's frame: (0, 0), or an open line's found
+    end (geo.retrace.found_end_target)."""
+    if conv.document.closed or _closes_on(conv) is None:
+        return 0.0, 0.0
+    from geo.retrace import found_end_target
+
+    return found_end_target(
+        conv,
+        rotation_deg=rotation,
+        end_north_m=float(st.north_m[-1]),
+        end_east_m=float(st.east_m[-1]),
+    )
+
+
+def _found_gaps(conv: DocumentConversion) -> tuple[Any, ...]:
+    from geo.retrace import found_gaps
+
+    return found_gaps(conv)
 
 
 # --------------------------------------------------------------------------------------------
@@ -862,6 +917,8 @@ class SurveyFit:
     stated_declination_deg: float | None
     record_length_factor: float | None
     notes: tuple[str, ...]
+    #: Standard error of the rotation (degrees; geo.fit.SimilarityFit.rotation_sigma_deg).
+    rotation_sigma_deg: float | None = None
 
     def as_dict(self) -> dict[str, Any]:
         """The ``lodeline fit --json`` object (plain JSON values)."""
@@ -886,6 +943,7 @@ class SurveyFit:
             "model": self.model,
             "stated_declination_deg": self.stated_declination_deg,
             "record_length_factor": self.record_length_factor,
+            "rotation_sigma_deg": self.rotation_sigma_deg,
             "notes": list(self.notes),
         }
 
@@ -997,4 +1055,5 @@ def fit_document(conv: DocumentConversion, *, with_scale: bool = True) -> Survey
         stated_declination_deg=conv.stated_declination_deg,
         record_length_factor=fit.scale / cf if with_scale else None,
         notes=tuple(notes),
+        rotation_sigma_deg=fit.rotation_sigma_deg,
     )

@@ -194,13 +194,24 @@ class Closure:
     precision: float | None
 
 
-def closure(azimuth_deg: ArrayLike, length_m: ArrayLike) -> Closure:
-    """Misclosure, its azimuth and the precision 1:N of a closed traverse."""
+def closure(
+    azimuth_deg: ArrayLike,
+    length_m: ArrayLike,
+    *,
+    end_north_m: float = 0.0,
+    end_east_m: float = 0.0,
+) -> Closure:
+    """Misclosure, its azimuth and the precision 1:N of a closed traverse.
+
+    ``end_north_m``/``end_east_m``: where the courses should end, metres from the point of
+    beginning (0, 0 for a closed figure; a found end for an open line). The misclosure is the
+    computed end minus that point.
+    """
     az, length = _courses(azimuth_deg, length_m)
     lat, dep = latitudes_departures(az, length)
     perimeter = math.fsum(length.tolist())
-    d_north = math.fsum(lat.tolist())
-    d_east = math.fsum(dep.tolist())
+    d_north = math.fsum([*lat.tolist(), -float(end_north_m)])
+    d_east = math.fsum([*dep.tolist(), -float(end_east_m)])
     mis = math.hypot(d_north, d_east)
     if mis < CLOSES_EXACTLY_BELOW_M:  # rounding of the arithmetic, not a misclosure
         return Closure(perimeter, 0.0, 0.0, 0.0, None, None)
@@ -226,8 +237,9 @@ class Adjustment:
     Per course (n): ``latitude_corrections_m``, ``departure_corrections_m`` (added to the
     unadjusted values), adjusted ``latitudes_m``, ``departures_m``, ``length_m`` and
     ``azimuth_deg`` (0 for a course adjusted to zero length). Per station (n + 1): adjusted
-    ``north_m``, ``east_m``; the last station coincides with the point of beginning (to
-    rounding, well below 1e-9 m). ``method`` is 'compass', 'transit' or 'none' (no correction).
+    ``north_m``, ``east_m``; the last station coincides with the point of beginning, or the
+    given end (to rounding, well below 1e-9 m). ``method`` is 'compass', 'transit' or 'none'
+    (no correction).
     """
 
     method: str
@@ -251,9 +263,15 @@ def _distribute(total: float, weights: Array) -> Array:
 
 
 def adjust(
-    azimuth_deg: ArrayLike, length_m: ArrayLike, *, method: Method = "compass"
+    azimuth_deg: ArrayLike,
+    length_m: ArrayLike,
+    *,
+    method: Method = "compass",
+    end_north_m: float = 0.0,
+    end_east_m: float = 0.0,
 ) -> Adjustment:
-    """Adjust a closed traverse.
+    """Adjust a closed traverse (or an open one onto a known end: ``end_north_m``,
+    ``end_east_m``, metres from the point of beginning; see :func:`closure`).
 
     compass (Bowditch) rule: each course's latitude and departure corrections are the total
     misclosure components times L_i / perimeter (opposite sign). transit rule: the latitude
@@ -263,7 +281,7 @@ def adjust(
     if method not in ("compass", "transit", "none"):
         raise InputError(f"unknown adjustment {method!r}: use compass, transit or none")
     az, length = _courses(azimuth_deg, length_m)
-    clo = closure(az, length)
+    clo = closure(az, length, end_north_m=end_north_m, end_east_m=end_east_m)
     lat, dep = latitudes_departures(az, length)
     if method == "compass":
         c_lat = _distribute(clo.misclosure_north_m, length)

@@ -47,6 +47,21 @@ CLOSE_KEYS = CLOSE_REQUIRED | {
     "local_attraction_courses",
     "error_budget",
     "notes",
+    "closes_on",
+    "found_gaps",
+}
+# Record-unit values (geo.measures) and the plot list and events (geo.along), beside the
+# metres, under names of their own.
+CLOSE_KEYS |= {
+    "record_unit",
+    "perimeter_record",
+    "misclosure_record",
+    "misclosure_north_record",
+    "misclosure_east_record",
+    "area_acres_roods_perches",
+    "plot_numbering",
+    "plots",
+    "events",
 }
 FIT_REQUIRED = {
     "rotation_deg",
@@ -70,6 +85,9 @@ FIT_KEYS = FIT_REQUIRED | {
     "model",
     "stated_declination_deg",
     "notes",
+    "rotation_sigma_deg",
+    "restoration",
+    "survey_date",
 }
 
 
@@ -97,7 +115,9 @@ def test_every_closed_demo_closes_with_the_documented_keys(capsys, demo):
     assert data["adjustment"] == "compass" and data["north"] == "true"
     n = len(data["latitudes_m"])
     assert len(data["departures_m"]) == n and len(data["stations"]) == n + 1
-    assert set(data["stations"][0]) == {"index", "north_m", "east_m"}
+    assert set(data["stations"][0]) == {
+        "index", "north_m", "east_m", "distance_m", "distance_record"
+    }  # fmt: skip
     assert [s["index"] for s in data["stations"]] == list(range(n + 1))
     last = data["stations"][-1]
     assert abs(last["north_m"]) < 1e-9 and abs(last["east_m"]) < 1e-9
@@ -137,9 +157,22 @@ def test_human_output_ends_with_the_caution(capsys, demo):
     assert "latitude" in out and "departure" in out
 
 
+def _ends_on_found(demo: Path) -> bool:
+    from geo.document import load_document
+
+    return load_document(demo).course[-1].found is not None
+
+
 @pytest.mark.parametrize("demo", OPEN_DEMOS, ids=lambda p: p.stem)
 def test_open_demo_has_null_area_and_refuses_an_adjustment(capsys, demo):
     data = close_json(capsys, demo)
+    if _ends_on_found(demo):
+        # an open line whose last course is found closes on that found end (no area)
+        assert data["closes_on"] == "found end" and data["adjustment"] == "compass"
+        assert data["misclosure_m"] > 0 and data["precision"] > 0 and data["area_m2"] is None
+        status, out, _ = run(capsys, "close", demo, "--adjust", "transit")
+        assert status == 0 and "on the found end" in out
+        return
     assert data["adjustment"] == "none"
     for key in (
         "area_m2",

@@ -17,6 +17,8 @@ WOODLOT = next(d for d in DEMOS if "woodlot" in d.name)
 
 # The keys of the issue that defines `lodeline convert --json`.
 TOP_KEYS = {"record_date", "target_date", "model", "crs", "courses"}
+# beside the metres: the record unit (geo.measures), the plot list and events (geo.along)
+TOP_KEYS |= {"record_unit", "plot_numbering", "plots", "events"}
 COURSE_KEYS = {
     "index",
     "call",
@@ -31,6 +33,10 @@ COURSE_KEYS = {
     "bearing",
     "declination_sigma_deg",
     "warnings",
+    "length_record",
+    "length_record_text",
+    "distance_to_start_m",
+    "distance_to_start_record",
 }
 AZIMUTH_KEYS = {"magnetic_record_deg", "true_deg", "grid_deg", "magnetic_target_deg"}
 BEARING_KEYS = {"magnetic_record", "true", "grid", "magnetic_target"}
@@ -64,6 +70,12 @@ def test_json_has_exactly_the_documented_keys(capsys):
         # mag2 = mag1 + D1 - D2 (DESIGN.md)
         assert (mag1 + d1 - d2 - mag2 + 180) % 360 - 180 == pytest.approx(0, abs=1e-9)
     assert data["courses"][0]["call"].startswith("N 5°30' W 20.97 chains")
+    # 20.97 chains = 20 ch 97 lk (100 links a chain, NIST Handbook 44); course 2 starts
+    # 20.97 chains from the point of beginning
+    assert data["courses"][0]["length_record"] == pytest.approx(20.97)
+    assert data["courses"][0]["length_record_text"] == "20 ch 97 lk"
+    assert data["courses"][1]["distance_to_start_record"] == pytest.approx(20.97)
+    assert data["record_unit"]["unit"] == "chain" and data["plots"] == []
 
 
 def test_table_lists_every_course_and_ends_with_the_caution(capsys):

@@ -239,9 +239,14 @@ def test_schema_keys_are_those_of_format_version_1():
         "grid",
         "record",
         "target",
+        "plots",
         "course",
     ]
-    from geo.document import Course, Found, Place, Record, Target
+    from geo.document import Course, CourseEvent, Found, Place, Plots, Record, Target
+
+    # events along a course and the plot list's numbering (documented beside target)
+    assert set(CourseEvent.model_fields) == {"distance", "note"}
+    assert set(Plots.model_fields) == {"start", "first", "course_ends"}
 
     assert set(Place.model_fields) == {"lat", "lon", "easting", "northing", "height_m"}
     assert set(Record.model_fields) == {
@@ -265,6 +270,7 @@ def test_schema_keys_are_those_of_format_version_1():
         "found",
         "every",
         "note",
+        "at",
     }
     assert set(Found.model_fields) == {"easting", "northing", "lat", "lon"}
 

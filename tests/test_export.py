@@ -194,10 +194,13 @@ def test_intermediate_points_lie_on_their_course_at_the_spacing():
 def test_cruise_demo_plots_every_five_chains_short_of_the_line_end():
     pos = positions(convert_file(CRUISE))
     on_first = [p for p in pos.points if p.course == 1]
-    # 40 chains every 5 chains: plots at 5, 10, ... 35 chains (the 40th is the station);
-    # 1 chain = 66 US survey feet = 66 * 1200/3937 m (NIST).
+    # 40 chains every 5 chains, the first at 2.5 chains ([plots] first): plots at 2.5, 7.5,
+    # ... 37.5 chains, numbered from 301 ([plots] start); 1 chain = 66 US survey feet =
+    # 66 * 1200/3937 m (NIST).
     chain = 66 * 1200 / 3937
-    assert [p.along_m for p in on_first] == pytest.approx([k * 5 * chain for k in range(1, 8)])
+    expected = [(2.5 + k * 5) * chain for k in range(8)]
+    assert [p.along_m for p in on_first] == pytest.approx(expected)
+    assert [p.index for p in on_first] == list(range(301, 309))
 
 
 # -- CSV ------------------------------------------------------------------------------------
@@ -247,8 +250,12 @@ def test_export_never_overwrites_without_force(capsys, tmp_path):
 
 
 def test_export_errors_exit_2(capsys, tmp_path):
+    # the cruise line without its found end: an open line with nothing to close on
+    loose = tmp_path / "loose.toml"
+    text = CRUISE.read_text(encoding="utf-8")
+    loose.write_text("\n".join(ln for ln in text.splitlines() if not ln.startswith("found")))
     status, _, err = run(
-        capsys, "export", CRUISE, "--geojson", tmp_path / "a.geojson", "--adjust", "compass"
+        capsys, "export", loose, "--geojson", tmp_path / "a.geojson", "--adjust", "compass"
     )
     assert status == 2 and "open" in err and not (tmp_path / "a.geojson").exists()
     status, _, err = run(capsys, "export", CRUISE)

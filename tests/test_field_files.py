@@ -56,7 +56,9 @@ def export_all(demo, folder, adjust=None):
 
 
 def geojson_points(collection):
-    """{(kind, index): (lon, lat, easting, northing)} of the GeoJSON's Point features."""
+    """{(kind, index): (lon, lat, easting, northing)} of the GeoJSON's station and plot Point
+    features (the corners with their restoration status, kind "corner", are a GeoJSON layer
+    of their own, not waypoints)."""
     return {
         (f["properties"]["kind"], f["properties"]["index"]): (
             *f["geometry"]["coordinates"],
@@ -64,7 +66,9 @@ def geojson_points(collection):
             f["properties"]["northing"],
         )
         for f in collection["features"]
-        if f["geometry"]["type"] == "Point"
+        # stations and plots (events along the lines and restored corners are GeoJSON points
+        # of their own)
+        if f["geometry"]["type"] == "Point" and f["properties"]["kind"] in ("station", "point")
     }
 
 

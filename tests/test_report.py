@@ -139,7 +139,8 @@ def test_every_demo_gives_html_and_markdown(tmp_path, doc):
     assert _norm(CAUTIONS) in text
     assert _norm(CAUTIONS) in _norm(md.replace("\\", ""))
     assert "<svg" not in md
-    assert len(_svgs(page)) == (2 if conv.courses else 1)
+    # north diagram, traverse sketch and declination history
+    assert len(_svgs(page)) == (3 if conv.courses else 1)
 
 
 @pytest.mark.parametrize("doc", DEMOS, ids=lambda p: p.stem)

@@ -191,6 +191,9 @@ def key_guide_tasks() -> list[tuple[str, list[Binding]]]:
             keys(
                 ("f", "Found position of this course's end (easting=…, northing=…)"),
                 ("f5", "Found corners from a receiver's point file (CSV, GeoJSON, GPX)"),
+                ("ctrl+t", "Corners and stakeout: each corner's status, the lines to run"),
+                ("r", "On that sheet: proportion / rotate-scale restoration"),
+                ("o", "On that sheet: run from the nearest found or the previous corner"),
                 ("f4", "Findings: closure, local attraction, record-to-found fit, sketch"),
                 ("0", "Fit the whole figure in the sketch"),
                 ("plus,minus", "Zoom the sketch in / out"),
@@ -205,12 +208,17 @@ def key_guide_tasks() -> list[tuple[str, list[Binding]]]:
                 ("f6", "GeoJSON of the stations and lines"),
                 ("f7", "CSV of stations and courses"),
                 ("f8", "Report with the cautions"),
+                ("f10", "The new description"),
+                ("f12", "The plot list and events"),
+                ("w", "On a description or plot sheet: write it to a file"),
+                ("ctrl+l", "Lay cruise lines and plots across this boundary"),
             ),
         ),
         (
             "anywhere",
             keys(
                 ("f1", "This guide"),
+                ("escape", "Close a sheet or dialog"),
                 ("ctrl+p", "Command palette: every action by name"),
                 ("ctrl+q", "Quit (asks about unsaved changes)"),
             ),
@@ -234,6 +242,9 @@ class LodelineApp(App[int]):
         Binding("f7", "export('csv')", "CSV"),
         Binding("f8", "export('report')", "Report"),
         Binding("f5", "found_from", "Found from file"),
+        Binding("f10", "sheet('description')", "Description"),
+        Binding("f12", "sheet('plots')", "Plots"),
+        Binding("ctrl+l", "layout", "Layout"),
         Binding("ctrl+q", "quit", "Quit", priority=True),
     ]
 
@@ -414,7 +425,28 @@ class LodelineApp(App[int]):
                 "Set found positions from a receiver's CSV, GeoJSON or GPX file (F5)",
                 self.action_found_from,
             ),
+            (
+                "New description",
+                "Show the figure written as a description; w writes it to a file (F10)",
+                lambda: self.action_sheet("description"),
+            ),
+            (
+                "Plots and events",
+                "Show the plot list and the events along the lines (F12)",
+                lambda: self.action_sheet("plots"),
+            ),
+            (
+                "Cruise layout…",
+                "Lay parallel cruise lines and plots across this boundary (Ctrl+L)",
+                self.action_layout,
+            ),
             ("Key guide", "Every key, and the cautions (F1)", self.action_key_guide),
+            (
+                "Corners and stakeout",
+                "Found, restored and record-only corners, the stakeout list, the survey date "
+                "and the declination history (Ctrl+T)",
+                self.desk.action_retrace_sheet,
+            ),
             (
                 "Show job",
                 "Bring the job settings forward (F2)",
@@ -502,6 +534,41 @@ class LodelineApp(App[int]):
     def action_key_guide(self) -> None:
         """Show the keys by task, and the cautions."""
         self.push_screen(KeyGuide(key_guide_tasks()))
+
+    def action_sheet(self, name: str) -> None:
+        """Show the new description or the plot list and events (tui.screens.sheets)."""
+        from tui.screens.sheets import DescriptionSheet, PlotSheet
+
+        self.push_screen(DescriptionSheet() if name == "description" else PlotSheet())
+
+    def action_layout(self) -> None:
+        """Ask for a cruise layout's options and file, and write the layout document."""
+        from tui import outputs
+        from tui.dialogs.layout_form import LayoutForm
+
+        ws = self.workspace
+        stem = ws.path.with_suffix("") if ws.path else Path("boundary")
+
+        def asked(options: dict[str, str] | None) -> None:
+            if options is None:
+                return
+            prompt = FileNamePrompt("Write cruise lines", f"{stem}-lines.toml", DOCUMENT_SUFFIXES)
+
+            def chosen(path: Path | None) -> None:
+                if path is None:
+                    return
+                try:
+                    written = outputs.write_layout(
+                        ws.doc, path, options, file=ws.path, replace=prompt.replace
+                    )
+                except LodelineError as err:
+                    self.notify(f"⚠ Layout: not written: {err}", severity="error", timeout=8)
+                    return
+                self.notify(f"Written: {', '.join(str(p) for p in written)}", timeout=4)
+
+            self.push_screen(prompt, chosen)
+
+        self.push_screen(LayoutForm(), asked)
 
     def action_undo(self) -> None:
         """Undo the last edit of the document."""

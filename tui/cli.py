@@ -25,8 +25,11 @@ SUBCOMMANDS: list[tuple[str, str]] = [
     ("report", "report"),
     ("close", "close"),
     ("fit", "fit"),
+    ("stakeout", "stakeout"),
     ("export", "export"),
     ("found", "found"),
+    ("describe", "describe"),
+    ("layout", "layout"),
 ]
 
 EPILOG = (

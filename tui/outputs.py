@@ -20,16 +20,28 @@ OUTPUTS: dict[str, OutputSpec] = {
     "geojson": OutputSpec("Export GeoJSON", (".geojson", ".json")),
     "csv": OutputSpec("Export CSV", (".csv",)),
     "report": OutputSpec("Write report", (".html", ".md")),
+    "description": OutputSpec("Write description", (".txt", ".md")),
 }
 
 
 def companions(kind: str, path: Path) -> list[Path]:
     """Every file output ``kind`` writes for the name ``path`` (the CSV writes two)."""
     if kind == "csv":
-        from geo.export import courses_csv_path
+        from geo.export import courses_csv_path, csv_path_beside
 
-        return [path, courses_csv_path(path)]
+        beside = [csv_path_beside(path, t) for t in ("plots", "events")]
+        return [path, courses_csv_path(path), *(p for p in beside if p.exists())]
     return [path]
+
+
+def converted(data: Mapping[str, Any], file: Path | None = None) -> Any:
+    """The conversion of document ``data`` (every call must read). Raises LodelineError."""
+    from geo.document import document_from_dict
+    from geo.north import convert_document
+    from tui.workspace import saveable_document
+
+    name = file.name if file else None
+    return convert_document(document_from_dict(saveable_document(data), file=name), file=name)
 
 
 def write_output(
@@ -63,6 +75,37 @@ def write_output(
     from geo.export import write_exports
 
     conv = convert_document(doc, file=name)
+    if kind == "description":
+        from geo.atomic import write_atomic
+        from geo.deed_text import write_description
+
+        return [write_atomic(path, write_description(conv).text, overwrite=replace)]
     if kind == "geojson":
         return write_exports(conv, geojson=path, force=replace)
     return write_exports(conv, csv_path=path, force=replace)
+
+
+def write_layout(
+    data: Mapping[str, Any],
+    path: Path,
+    options: Mapping[str, str],
+    *,
+    file: Path | None = None,
+    replace: bool = False,
+) -> list[Path]:
+    """Write the cruise layout across document ``data`` (a closed boundary) to ``path`` with
+    the options of :class:`tui.dialogs.layout_form.LayoutForm` (see geo.layout). Raises
+    :class:`geo.errors.LodelineError`."""
+    from geo.atomic import write_atomic
+    from geo.document import dumps_document
+    from geo.layout import lay_out_cruise
+
+    lines = lay_out_cruise(
+        converted(data, file),
+        bearing=options["bearing"],
+        spacing=options["spacing"],
+        plot_spacing=options["plots"],
+        north=options["north"],
+    )
+    fmt = "json" if path.suffix.lower() == ".json" else "toml"
+    return [write_atomic(path, dumps_document(lines, fmt), overwrite=replace)]

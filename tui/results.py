@@ -314,7 +314,7 @@ def closure_stage(results: Results) -> Results:
     except LodelineError as err:
         panels["closure"] = panels["attraction"] = PanelText(error=str(err))
     else:
-        panels["closure"] = _panel(lambda: _closure_panel(closure))
+        panels["closure"] = _panel(lambda: _closure_panel(closure, conv))
         stated = conv.document.record.attraction_tolerance
         panels["attraction"] = _panel(lambda: _attraction_panel(closure, stated))
     panels["fit"] = _panel(lambda: _fit_panel(conv))
@@ -496,21 +496,36 @@ def _closure(conv: Any) -> Any:
     return close_document(conv, north="magnetic" if _unknown_declination(conv) else "true")
 
 
-def _closure_panel(closure: Any) -> PanelText:
-    """Misclosure, precision and area from the closure."""
-    if not closure.closed:
-        return _idle("open traverse (closed = false): no misclosure or area")
-    lines = [f"perimeter {closure.perimeter_m:,.2f} m"]
+def _closure_panel(closure: Any, conv: Any = None) -> PanelText:
+    """Misclosure, precision and area from the closure; with the conversion, the lengths in
+    the record unit too and the area in acres, roods and perches for a perch or chain deed."""
+    from geo.measures import acres_roods_perches, conversion_unit, length_text, uses_roods
+
+    ru = None if conv is None else conversion_unit(conv)
+
+    def rec(metres: float) -> str:
+        return "" if ru is None or ru.metric else f" = {length_text(metres, ru)}"
+
+    if not closure.closes_on:
+        return _idle(
+            "open traverse (closed = false): no misclosure or area; length "
+            f"{closure.perimeter_m:,.2f} m{rec(closure.perimeter_m)}"
+        )
+    lines = [f"perimeter {closure.perimeter_m:,.2f} m{rec(closure.perimeter_m)}"]
+    if closure.closes_on == "found end":
+        lines.append(f"closes on the found end (station {len(closure.courses)})")
     if closure.misclosure_bearing is None:
         lines.append("misclosure 0 m (closes exactly)")
     else:
-        lines.append(f"misclosure {closure.misclosure_m:,.3f} m")
+        lines.append(f"misclosure {closure.misclosure_m:,.3f} m{rec(closure.misclosure_m)}")
         north = "magnetic, record date" if closure.north == "magnetic" else closure.north
         lines.append(f"  toward {closure.misclosure_bearing} ({north})")
         lines.append(f"precision 1:{closure.precision:,.0f}")
     area = closure.area
     if area is not None:
         lines.append(f"area {area.acres:,.3f} acres")
+        if ru is not None and uses_roods(ru):
+            lines.append(f"  {acres_roods_perches(area.ground_m2, ru.foot).text}")
         lines.append(f"  {area.hectares:,.4f} ha")
         lines.append(f"  {area.ground_m2:,.1f} m² ground")
         lines.append(f"  {area.grid_m2:,.1f} m² grid")
@@ -520,6 +535,10 @@ def _closure_panel(closure: Any) -> PanelText:
         lines.append(f"! courses {a} and {b} cross: no area")
     if closure.angles is not None:
         lines.append(f"angular misclosure {closure.angles.misclosure_deg * 3600:+.0f}″")
+    lines += [
+        f"found {g.index}: gap {g.gap_m:.2f} m ({g.gap_record:.2f} {g.unit}) {g.bearing or ''}"
+        for g in closure.found_gaps
+    ]
     lines += [f"note: {n}" for n in closure.notes]
     return PanelText(tuple(lines))
 
@@ -582,6 +601,11 @@ def _fit_panel(conv: Any) -> PanelText:
         lines.append(f"model D {_deg(fit.model_declination_deg)} ({fit.model})")
     if fit.record_length_factor is not None:
         lines.append(f"record length factor {fit.record_length_factor:.5f}")
+    from tui.retrace_view import survey_date_line
+
+    when = survey_date_line(conv, fit)
+    if when:
+        lines.append(when)
     lines += [f"  station {r.index}: {r.east_m:+.2f} E {r.north_m:+.2f} N m" for r in fit.residuals]
     lines += [f"note: {n}" for n in fit.notes]
     return PanelText(tuple(lines))

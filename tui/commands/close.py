@@ -49,9 +49,19 @@ def _deg(value: float | None, digits: int = 4) -> str:
     return "-" if value is None else f"{value:+.{digits}f}"
 
 
-def render(result: Any, title: str | None = None) -> str:
-    """The human-readable closure of a :class:`geo.survey.SurveyClosure`."""
+def render(result: Any, title: str | None = None, conv: Any = None) -> str:
+    """The human-readable closure of a :class:`geo.survey.SurveyClosure`; with the conversion
+    ``conv``, lengths are given in the record unit beside metres, the area in acres, roods and
+    perches for a perch or chain document, and the plot list and events follow."""
+    from geo.measures import area_text, conversion_unit, length_text
+
     from .common import text_table as table
+
+    ru = None if conv is None else conversion_unit(conv)
+    both = ru is not None and not ru.metric
+
+    def rec(metres: float) -> list[str]:
+        return [length_text(metres, ru)] if both else []
 
     lines: list[str] = []
     if title:
@@ -59,9 +69,13 @@ def render(result: Any, title: str | None = None) -> str:
     lines.append(
         f"north: {result.north} (recorded azimuths turned {result.rotation_deg:+.4f} deg); "
         f"adjustment: {result.adjustment}; lengths are recorded ground lengths, metres"
+        + (f" and {ru.name}" if both else "")
     )
     lines.append("")
+    unit_head = [f"length ({ru.label})", f"latitude ({ru.label})", f"departure ({ru.label})"]
     rows = [["#", "bearing", "length", "latitude", "departure", "corr lat", "corr dep"]]
+    if both:
+        rows[0] += unit_head
     for c in result.courses:
         rows.append(
             [
@@ -72,16 +86,27 @@ def render(result: Any, title: str | None = None) -> str:
                 _m(c.departure_m),
                 _m(c.latitude_correction_m),
                 _m(c.departure_correction_m),
+                *rec(c.length_m),
+                *rec(c.latitude_m),
+                *rec(c.departure_m),
             ]
         )
-    lines += table(rows, right={0, 2, 3, 4, 5, 6})
-    lines.append(f"perimeter {_m(result.perimeter_m)} m")
-    if result.closed:
+    lines += table(rows, right={0, 2, 3, 4, 5, 6, 7, 8, 9})
+    perimeter = f" = {length_text(result.perimeter_m, ru)}" if both else ""
+    lines.append(f"perimeter {_m(result.perimeter_m)} m{perimeter}")
+    if result.closes_on:
+        onto = (
+            ""
+            if result.closes_on == "beginning"
+            else f" on the found end (station {len(result.courses)})"
+        )
         if result.misclosure_bearing is None:
-            lines.append("misclosure 0 m: the figure closes exactly")
+            lines.append(f"misclosure{onto} 0 m: the figure closes exactly")
         else:
+            mis = f" = {length_text(result.misclosure_m, ru)}" if both else ""
             lines.append(
-                f"misclosure {_m(result.misclosure_m)} m toward {result.misclosure_bearing} "
+                f"misclosure{onto} {_m(result.misclosure_m)} m{mis} toward "
+                f"{result.misclosure_bearing} "
                 f"(azimuth {result.misclosure_azimuth_deg:.4f}); precision 1:"
                 f"{result.precision:,.0f}"
             )
@@ -90,9 +115,13 @@ def render(result: Any, title: str | None = None) -> str:
     how = f"{result.adjustment} adjustment" if adjusted else "as recorded, not adjusted"
     lines.append(f"stations ({how}), metres from the point of beginning")
     head = ["adjusted bearing", "adjusted length"] if adjusted else ["bearing", "length"]
-    rows = [["station", "north", "east", *head]]
+    rows = [["station", "north", "east", *head, "along m"]]
+    if both:
+        rows[0].append(f"along ({ru.label})")
+    along = 0.0
     for s in result.stations:
         course = result.courses[s.index - 1] if s.index else None
+        along += course.length_m if course else 0.0
         rows.append(
             [
                 str(s.index),
@@ -100,9 +129,11 @@ def render(result: Any, title: str | None = None) -> str:
                 _m(s.east_m),
                 course.adjusted_bearing if course else "",
                 _m(course.adjusted_length_m) if course else "",
+                _m(along),
+                *rec(along),
             ]
         )
-    lines += table(rows, right={0, 1, 2, 4})
+    lines += table(rows, right={0, 1, 2, 4, 5, 6})
     area = result.area
     if area is not None:
         lines.append(
@@ -110,6 +141,9 @@ def render(result: Any, title: str | None = None) -> str:
             f"{area.acres:,.4f} acres ({area.foot} foot acre); grid area {area.grid_m2:,.2f} m2 "
             f"(combined factor {area.combined_factor:.8f})"
         )
+        if ru is not None:
+            lines.append(f"area: {area_text(area.ground_m2, ru, area.acres)}")
+    lines += found_gap_lines(result.found_gaps)
     ang = result.angles
     if ang is not None:
         lines.append(
@@ -148,7 +182,49 @@ def render(result: Any, title: str | None = None) -> str:
             )
             + f"; last station +-{last.total_m:.2f} m (1 sigma)"
         )
+    if conv is not None:
+        lines += along_lines(conv)
     return finish(lines, result.notes)
+
+
+def found_gap_lines(gaps: Any) -> list[str]:
+    """The table of gaps at found stations (geo.retrace.FoundGap), or nothing."""
+    from .common import text_table as table
+
+    if not gaps:
+        return []
+    unit = gaps[0].unit
+    rows = [["station", "gap m", f"gap {unit}", "east m", "north m", "gap toward (grid)"]]
+    for g in gaps:
+        rows.append(
+            [
+                str(g.index),
+                f"{g.gap_m:.3f}",
+                f"{g.gap_record:.3f}",
+                f"{g.east_m:+.3f}",
+                f"{g.north_m:+.3f}",
+                g.bearing or "-",
+            ]
+        )
+    head = "found stations: found minus marched position (grid, record courses as converted)"
+    return ["", head, *table(rows, right={0, 1, 2, 3, 4})]
+
+
+def along_lines(conv: Any) -> list[str]:
+    """The plot list and the events of ``conv`` as text tables (nothing when it has neither)."""
+    from geo.along import EVENT_HEADERS, PLOT_HEADERS, event_rows, plot_list, plot_rows
+
+    from .common import text_table
+
+    al = plot_list(conv)
+    lines: list[str] = []
+    if al.plots:
+        lines += ["", f"plot list ({len(al.plots)} plots; chainage record unit / metres)"]
+        lines += text_table([list(PLOT_HEADERS), *map(list, plot_rows(al))], right={0, 1, 2, 3})
+    if al.events:
+        lines += ["", "along the lines"]
+        lines += text_table([list(EVENT_HEADERS), *map(list, event_rows(al))], right={0, 3, 4})
+    return lines
 
 
 def finish(lines: list[str], notes: tuple[str, ...]) -> str:
@@ -166,12 +242,16 @@ def emit(
     render_result: Any,
     *,
     allow_unknown_declination: bool = False,
+    extra_json: Any = None,
+    with_conversion: bool = False,
 ) -> int:
     """Load and convert ``args.document``, compute a result from the conversion and print it
     (``--json``: its ``as_dict()``; else ``render_result(result, title)``).
 
     ``allow_unknown_declination``: see :func:`geo.north.convert_document` (the fit and the
-    closure in magnetic north need no declination at the record date)."""
+    closure in magnetic north need no declination at the record date). ``extra_json(conv,
+    result)`` gives keys merged into the JSON object (:func:`geo.measures.merge_record_values`);
+    ``with_conversion`` passes the conversion to ``render_result`` as a third argument."""
     from geo.document import load_document
     from geo.north import convert_document
 
@@ -183,10 +263,25 @@ def emit(
     )
     result = compute(conv)
     if args.json:
-        print_json(result.as_dict())
+        obj = result.as_dict()
+        if extra_json is not None:
+            from geo.measures import merge_record_values
+
+            obj = merge_record_values(obj, extra_json(conv, result))
+        print_json(obj)
+    elif with_conversion:
+        sys.stdout.write(render_result(result, doc.title, conv))
     else:
         sys.stdout.write(render_result(result, doc.title))
     return 0
+
+
+def record_json(conv: Any, result: Any) -> dict[str, Any]:
+    """What ``close --json`` adds: record-unit values, the plot list and the events."""
+    from geo.along import plot_list
+    from geo.measures import closure_record_values
+
+    return {**closure_record_values(conv, result), **plot_list(conv).as_dict()}
 
 
 def run(args: argparse.Namespace) -> int:
@@ -198,4 +293,6 @@ def run(args: argparse.Namespace) -> int:
         lambda conv: close_document(conv, adjust=args.adjust, north=args.north),
         render,
         allow_unknown_declination=args.north == "magnetic",
+        extra_json=record_json,
+        with_conversion=True,
     )

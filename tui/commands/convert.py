@@ -78,11 +78,15 @@ def render(conv: Any) -> str:
     if not conv.courses:
         lines.append("(no courses)")
     else:
+        from geo.measures import conversion_unit, length_text
+
+        ru = conversion_unit(conv)
         rows = [
             [
                 "#",
                 "call as written",
                 "distance",
+                f"in {ru.label}",
                 "metres",
                 "magnetic (record)",
                 "true",
@@ -101,6 +105,7 @@ def render(conv: Any) -> str:
                     str(c.index),
                     c.call,
                     f"{_length(c.length_value)} {unit}",
+                    length_text(c.length_m, ru, 4 if ru.unit != "chain" else 2),
                     f"{c.length_m:.3f}",
                     c.bearing.magnetic_record or "-",
                     c.bearing.true,
@@ -114,13 +119,16 @@ def render(conv: Any) -> str:
                     else f"{c.declination_target_sigma_deg:.3f}",
                 ]
             )
-        lines += text_table(rows, right={0, 2, 3, 8, 9, 10})
+        lines += text_table(rows, right={0, 2, 3, 4, 9, 10, 11})
         lines.append("")
         lines.append(
             "D east positive (true = magnetic + D); gamma: true north to grid north, clockwise "
             "(grid = true - gamma); degrees. Combined factor at the point of beginning "
             f"{conv.courses[0].combined_factor:.8f}."
         )
+        from .close import along_lines
+
+        lines += along_lines(conv)
     notes = list(conv.warnings)
     for c in conv.courses:
         notes += [f"course {c.index}: {w}" for w in c.warnings]
@@ -146,7 +154,11 @@ def run(args: argparse.Namespace) -> int:
         record_model=args.record_model,
     )
     if args.json:
-        print_json(conv.as_dict())
+        from geo.along import plot_list
+        from geo.measures import conversion_record_values, merge_record_values
+
+        extra = {**conversion_record_values(conv), **plot_list(conv).as_dict()}
+        print_json(merge_record_values(conv.as_dict(), extra))
     else:
         sys.stdout.write(render(conv))
     return 0

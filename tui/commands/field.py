@@ -65,13 +65,19 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     )
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.add_argument(
-        "--csv", metavar="IN", help="read points from a CSV file (lat,lon,date[,height_m])"
+        "--csv",
+        metavar="IN",
+        help="read points from a CSV file (lat,lon,date[,height_m]); with --from/--to: write "
+        "the history table to this file",
     )
     p.add_argument("--out", metavar="OUT", help="write the CSV result here (default stdout)")
     p.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
     p.add_argument(
         "--skip-bad", action="store_true", help="write the good CSV rows, list bad ones on stderr"
     )
+    from .field_history import add_history_options
+
+    add_history_options(p)
     p.set_defaults(func=run)
 
 
@@ -337,6 +343,10 @@ def run(args) -> int:
     """Run ``lodeline field``; returns the exit status (errors raise LodelineError)."""
     from geo.errors import InputError
 
+    if args.from_year is not None or args.to_year is not None or args.step is not None:
+        from .field_history import run_history
+
+        return run_history(args, _number)
     if args.csv is not None:
         if args.json:
             raise InputError("--json applies to one point; the batch writes CSV", field="--json")

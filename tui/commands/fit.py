@@ -28,6 +28,16 @@ def register(subparsers: Any) -> None:
     p.add_argument(
         "--no-scale", action="store_true", help="fit rotation and translation only (scale 1)"
     )
+    from .stakeout import add_restore_option
+
+    add_restore_option(p)
+    p.add_argument(
+        "--date-sigma",
+        type=float,
+        metavar="DEG",
+        help="1-sigma of the empirical declination for the survey-date estimate, degrees "
+        "(default: the fit's standard error of the rotation)",
+    )
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.set_defaults(func=run)
 
@@ -80,18 +90,87 @@ def render(result: Any, title: str | None = None) -> str:
         rows.append([str(r.index), f"{r.east_m:+.3f}", f"{r.north_m:+.3f}"])
     lines += table(rows, right={0, 1, 2})
     lines.append(f"RMS {result.rms_m:.3f} m")
+    if result.rotation_sigma_deg is not None:
+        lines.append(f"standard error of the rotation {result.rotation_sigma_deg:.4f} deg")
     return finish(lines, result.notes)
+
+
+class FitReport:
+    """The fit with the restored corners and the survey-date estimate (``--json`` object:
+    the fit's keys plus ``restoration`` and ``survey_date``). ``restoration`` is the text
+    saying why there is none when the stations are not on the grid."""
+
+    def __init__(self, fit: Any, restoration: Any, survey_date: Any) -> None:
+        self.fit = fit
+        self.restoration = restoration
+        self.survey_date = survey_date
+
+    def as_dict(self) -> dict[str, Any]:
+        """The ``lodeline fit --json`` object."""
+        out = self.fit.as_dict()
+        out["restoration"] = (
+            self.restoration.as_dict() if not isinstance(self.restoration, str) else None
+        )
+        out["survey_date"] = None if self.survey_date is None else self.survey_date.as_dict()
+        return out
+
+
+def render_report(result: FitReport, title: str | None = None) -> str:
+    """The fit, the survey-date estimate and the corners as text."""
+    from .stakeout import corner_lines
+
+    text = render(result.fit, title)
+    body, caution = text.rstrip("\n").rsplit("\n", 1)
+    extra = [""]
+    sd = result.survey_date
+    if sd is not None:
+        sigma = "" if sd.fit_sigma_deg is None else f" ± {sd.fit_sigma_deg:.3f}"
+        extra.append(
+            f"survey date: {sd.sentence} (empirical declination {sd.empirical_deg:+.3f}{sigma} "
+            "deg at the point of beginning)"
+        )
+        extra += [f"note: {n}" for n in sd.notes]
+        extra.append("")
+    if isinstance(result.restoration, str):  # why the corners cannot be restored
+        extra.append(f"corners: {result.restoration}")
+    else:
+        extra += corner_lines(result.restoration)
+        extra += [f"note: {n}" for n in result.restoration.notes]
+    return body + "\n" + "\n".join(extra) + "\n" + caution + "\n"
+
+
+def compute(conv: Any, *, with_scale: bool, restore: str, date_sigma: float | None) -> FitReport:
+    """Fit, restore (geo.retrace) and estimate the survey date (geo.survey_date)."""
+    from geo.retrace import UNPLACED, placed, restore_corners
+    from geo.survey import fit_document
+    from geo.survey_date import estimate_survey_date
+
+    fit = fit_document(conv, with_scale=with_scale)
+    restoration = (
+        restore_corners(conv, method=restore, fit_rotation_deg=fit.rotation_deg)
+        if placed(conv)
+        else UNPLACED
+    )
+    survey_date = (
+        estimate_survey_date(conv, fit, sigma_deg=date_sigma)
+        if fit.empirical_declination_deg is not None
+        else None
+    )
+    return FitReport(fit, restoration, survey_date)
 
 
 def run(args: argparse.Namespace) -> int:
     """Load, convert and fit the document; print the fit or its JSON object."""
-    from geo.survey import fit_document
-
     from .close import emit
 
     return emit(
         args,
-        lambda conv: fit_document(conv, with_scale=not args.no_scale),
-        render,
+        lambda conv: compute(
+            conv,
+            with_scale=not args.no_scale,
+            restore=args.restore,
+            date_sigma=args.date_sigma,
+        ),
+        render_report,
         allow_unknown_declination=True,
     )

@@ -87,6 +87,7 @@ class Desk(Screen):
         Binding("f2", "pane('job')", "Job", priority=True),
         Binding("f3", "pane('calls')", "Calls", priority=True),
         Binding("f4", "pane('findings')", "Findings", priority=True),
+        Binding("ctrl+t", "retrace_sheet", "Stakeout"),
     ]
 
     DEFAULT_CSS = """
@@ -612,6 +613,16 @@ class Desk(Screen):
         self.set_focus(widget, scroll_visible=False)
         if name == "findings":
             widget.scroll_home(animate=False)
+
+    def action_retrace_sheet(self) -> None:
+        """Open the retracement sheet (tui.dialogs.retrace_sheet) for the shown results."""
+        from tui.dialogs.retrace_sheet import RetraceSheet
+
+        conv = self.results.conversion if self.results is not None else None
+        reason = "" if conv is not None else "the document does not convert yet"
+        if conv is not None and self.results is not None and self.results.first_bad is not None:
+            conv, reason = None, "a call does not read: the corners wait for every course"
+        self.app.push_screen(RetraceSheet(conv, reason))
 
     def current_course(self) -> int:
         return self.query_one(CallTable).current_index
