@@ -258,6 +258,7 @@ def test_schema_keys_are_those_of_format_version_1():
         "foot",
         "vara_inches",
         "angles",
+        "attraction_tolerance",
     }
     assert set(Target.model_fields) == {"date", "model"}
     assert set(Course.model_fields) == {
