@@ -43,7 +43,9 @@ Public API
     ``format_bearings(azimuths_deg, *, precision=SECOND, ascii=False) -> list[str]`` (many);
     ``format_azimuth(azimuth_deg, *, precision=SECOND, ascii=False, reference='north') -> str``;
     ``format_declination(declination_deg, *, precision=MINUTE, ascii=False) -> str``;
-    ``parse_declination(value) -> float``; ``DEGREE``, ``MINUTE``, ``SECOND``,
+    ``recorded_bearing(azimuth_deg, precision_deg, style) -> str`` (a recorded bearing
+    in its recorded form: ``due N``, ``N``, ``NE``); ``parse_declination(value) -> float``;
+    ``DEGREE``, ``MINUTE``, ``SECOND``,
     ``TENTH_SECOND``. Parsing is a single left-to-right pass (linear in the text length).
 """
 
@@ -178,6 +180,26 @@ def short(text: str, limit: int = 40) -> str:
     return piece if len(piece) <= limit else piece[: limit - 1] + "…"
 
 
+def mark_unread(text: str, start: int, end: int, width: int = 100) -> str:
+    """``text`` with ``text[start:end]`` between « and » (the part that was not read), cut
+    around it to about ``width`` characters when the text is long."""
+    start = max(0, min(start, len(text)))
+    end = max(start, min(end, len(text)))
+    before = " ".join(text[:start].split())
+    part = " ".join(text[start:end].split())
+    after = " ".join(text[end:].split())
+    if len(part) > width // 2:
+        part = part[: width // 2 - 1] + "…"
+    room = max(0, width - len(part)) // 2
+    if len(before) > room:
+        before = "…" + before[len(before) - room :]
+    if len(after) > room:
+        after = after[:room] + "…"
+    gap_before = " " if before and text[:start][-1:].isspace() else ""
+    gap_after = " " if after and text[end : end + 1].isspace() else ""
+    return f"{before}{gap_before}«{part}»{gap_after}{after}"
+
+
 def fail(text: str, position: int, message: str) -> ParseError:
     """Build a :class:`ParseError` for ``text`` failing at 0-based ``position``."""
     position = max(0, min(position, len(text)))
@@ -203,6 +225,7 @@ def tokenize(text: str) -> list[Token]:
     toks: list[Token] = []
     n = len(text)
     ascii_text = text.isascii()  # then a word is a run of A-Z, a-z (str.isalpha on ASCII)
+    number_words = False  # a word that may start a number written in words
     i = 0
     while i < n:
         c = text[i]
@@ -263,11 +286,164 @@ def tokenize(text: str) -> list[Token]:
                 toks.append(Token(WORD, i + 1, end, word[1]))
             else:
                 toks.append(Token(WORD, i, end, word))
+                if word in _NUMBER_FLAG_WORDS:
+                    number_words = True
             i = end
         else:
             toks.append(Token(OTHER, i, i + 1, c))
             i += 1
+    if number_words:
+        return _fold_number_words(text, toks)
     return toks
+
+
+# Number words of deeds ("twenty perches", "forty-five degrees", "one hundred and twelve
+# poles", "twenty-two and a half", "three quarters of a mile"); common practice of deeds.
+_ONES_WORDS = {
+    w: n
+    for n, w in enumerate(
+        [
+            "zero",
+            "one",
+            "two",
+            "three",
+            "four",
+            "five",
+            "six",
+            "seven",
+            "eight",
+            "nine",
+            "ten",
+            "eleven",
+            "twelve",
+            "thirteen",
+            "fourteen",
+            "fifteen",
+            "sixteen",
+            "seventeen",
+            "eighteen",
+            "nineteen",
+        ]
+    )
+}
+_TENS_WORDS = {
+    w: 10 * n
+    for n, w in enumerate(
+        ["twenty", "thirty", "forty", "fifty", "sixty", "seventy", "eighty", "ninety"], 2
+    )
+}
+_FRACTION_WORDS = {
+    "half": 2,
+    "halves": 2,
+    "third": 3,
+    "thirds": 3,
+    "quarter": 4,
+    "quarters": 4,
+    "fourth": 4,
+    "fourths": 4,
+    "eighth": 8,
+    "eighths": 8,
+}
+_NUMBER_WORD_STARTS = frozenset(_ONES_WORDS) | frozenset(_TENS_WORDS) | {"a", "an"}
+# Words whose presence makes the tokenizer look for numbers in words ("a" alone does not).
+_NUMBER_FLAG_WORDS = frozenset(_ONES_WORDS) | frozenset(_TENS_WORDS) | frozenset(_FRACTION_WORDS)
+
+
+def _word_at(toks: list[Token], i: int) -> str | None:
+    return toks[i].word if i < len(toks) and toks[i].kind == WORD else None
+
+
+def _group_words(toks: list[Token], i: int) -> tuple[int, int] | None:
+    """A number below 1000 in words from token ``i``: (value, next index), or ``None``."""
+    w = _word_at(toks, i)
+    value = 0
+    if w in _ONES_WORDS:
+        value, i = _ONES_WORDS[w], i + 1
+        if _word_at(toks, i) == "hundred":
+            value, i = value * 100, i + 1
+            k = i + 1 if _word_at(toks, i) == "and" else i
+            rest = _tens_words(toks, k)
+            if rest is not None:
+                value, i = value + rest[0], rest[1]
+        return value, i
+    return _tens_words(toks, i)
+
+
+def _tens_words(toks: list[Token], i: int) -> tuple[int, int] | None:
+    """1..99 in words (``twenty``, ``forty-five``, ``forty five``, ``seven``)."""
+    w = _word_at(toks, i)
+    if w in _ONES_WORDS:
+        return _ONES_WORDS[w], i + 1
+    if w not in _TENS_WORDS:
+        return None
+    value, i = _TENS_WORDS[w], i + 1
+    k = i + 1 if i < len(toks) and toks[i].kind == DASH else i
+    if _word_at(toks, k) in _ONES_WORDS and 0 < _ONES_WORDS[_word_at(toks, k) or ""] < 10:
+        value, i = value + _ONES_WORDS[_word_at(toks, k) or ""], k + 1
+    return value, i
+
+
+def _fraction_words(toks: list[Token], i: int) -> tuple[Fraction, int] | None:
+    """``a half``, ``one half``, ``three quarters``, ``three-quarters``: (value, next)."""
+    w = _word_at(toks, i)
+    if w in ("a", "an"):
+        numerator, k = 1, i + 1
+    elif w in _ONES_WORDS and 0 < _ONES_WORDS[w or ""] < 10:
+        numerator, k = _ONES_WORDS[w or ""], i + 1
+    else:
+        return None
+    if k < len(toks) and toks[k].kind == DASH:
+        k += 1
+    den = _FRACTION_WORDS.get(_word_at(toks, k) or "")
+    if den is None or numerator >= den:
+        return None
+    return Fraction(numerator, den), k + 1
+
+
+def _fold_number_words(text: str, toks: list[Token]) -> list[Token]:
+    """Replace runs of number words by a number token (and a fraction token for a
+    fraction), spanning the words, so that the readers see ``45`` or ``22 ½``."""
+    out: list[Token] = []
+    i, n = 0, len(toks)
+    while i < n:
+        t = toks[i]
+        if t.kind != WORD or t.word not in _NUMBER_WORD_STARTS and t.word != "and":
+            out.append(t)
+            i += 1
+            continue
+        whole: tuple[int, int] | None = None
+        frac = None if t.word == "and" else _fraction_words(toks, i)
+        if frac is None and t.word != "and":
+            whole = _group_words(toks, i)
+            if whole is not None and _word_at(toks, whole[1]) == "thousand":
+                k = whole[1] + 1
+                k = k + 1 if _word_at(toks, k) == "and" else k
+                below = _group_words(toks, k)
+                whole = (whole[0] * 1000 + (below[0] if below else 0), below[1] if below else k)
+        k = whole[1] if whole is not None else i
+        if frac is None and _word_at(toks, k) == "and":
+            frac = _fraction_words(toks, k + 1)
+            if frac is not None and whole is None and not (out and out[-1].kind == NUM):
+                frac = None  # "and a half" after no number: words of a note
+        if whole is None and frac is None:
+            out.append(t)
+            i += 1
+            continue
+        if whole is not None:
+            end = toks[whole[1] - 1].end
+            out.append(Token(NUM, t.start, end, str(whole[0]), Fraction(whole[0])))
+        if frac is not None:
+            first = toks[k].start if whole is not None or t.word == "and" else t.start
+            last = frac[1]
+            if whole is None and t.word != "and":
+                out.append(Token(NUM, t.start, t.start, "0", Fraction(0)))
+                if _word_at(toks, last) == "of":  # "three quarters of a mile"
+                    last += 2 if _word_at(toks, last + 1) in ("a", "an", "the") else 1
+            out.append(Token(FRAC, first, toks[last - 1].end, "", frac[0]))
+            i = last
+        else:
+            i = whole[1]  # type: ignore[index]
+    return out
 
 
 # ---------------------------------------------------------------------------------------
@@ -565,7 +741,7 @@ def starts_bearing(r: Reader, i: int) -> bool:
     """True when token ``i`` begins a bearing written with words (N, South, due, Az...)."""
     w = r.word(i)
     return w is not None and (
-        w in _NS or w in _EW or w in _AZ_WORDS or w == "due" or w in _INTERCARDINAL
+        w in _NS or w in _EW or w in _AZ_WORDS or w == "due" or w in _INTERCARDINAL or w in _POINTS
     )
 
 
@@ -586,16 +762,23 @@ def read_bearing(
         if d is None or (d not in _NS and d not in _EW):
             raise r.fail(i + 1, "'due' must be followed by North, South, East or West")
         return _cardinal(r, i, i + 1), i + 2
+    if w in _POINTS:
+        az = _POINTS[w]
+        return Bearing(az, "cardinal", 1.0, r.span(i, i + 1), _POINT_QUADRANT[az]), i + 1
     if w in _INTERCARDINAL:
         raise r.fail(
             i,
             f"'{r.show(i, i + 1)}' gives no angle: write a quadrant bearing such as N 45 E",
         )
     if w in _NS:
+        end = _split_point_end(r, i)
+        if end is not None:
+            az = _POINTS[(w[0] + (r.word(end - 1) or "")[0])]
+            return Bearing(az, "cardinal", 1.0, r.span(i, end), _POINT_QUADRANT[az]), end
         return _quadrant(r, i, stop_before_units)
     if w in _EW:
         got = r.quantity(i + 1) if r.is_number(i + 1) else None
-        if got is not None and r.word(got[1]) in stop_before_units:
+        if got is not None and (r.word(got[1]) in stop_before_units or _feet_after(r, got[1])):
             return _cardinal(r, i, i), i + 1  # "West 40 poles": a cardinal call and a distance
         if r.is_number(i + 1) or r.is_negative(i + 1):
             raise r.fail(
@@ -617,6 +800,44 @@ def read_bearing(
     if t.kind == NUM:
         return _azimuth(r, i, i, south_azimuth, stop_before_units)
     raise r.fail(i, f"'{r.show(i, i + 1)}' does not start a bearing (N/S, a cardinal or Az)")
+
+
+# The four intercardinal points, N 45° E and so on (common practice: "Northeast" is N 45 E).
+_POINTS = {
+    "ne": 45.0,
+    "northeast": 45.0,
+    "se": 135.0,
+    "southeast": 135.0,
+    "sw": 225.0,
+    "southwest": 225.0,
+    "nw": 315.0,
+    "northwest": 315.0,
+}
+_POINT_QUADRANT = {45.0: "NE", 135.0: "SE", 225.0: "SW", 315.0: "NW"}
+
+
+def _split_point_end(r: Reader, i: int) -> int | None:
+    """End token of an intercardinal point written in two parts at ``i`` (``North-east``,
+    ``N.E.``, ``N. E.``), else ``None``. ``N E`` or ``N. E`` without both points is not
+    one (it may be a quadrant bearing whose angle was left out)."""
+    if r.kind(i + 1) == DASH and r.word(i + 2) in _EW:
+        return i + 3
+    points = r.text[r.toks[i].end - 1] == "." and r.word(i + 1) in _EW
+    if points and r.text[r.toks[i + 1].end - 1] == ".":
+        return i + 2
+    return None
+
+
+def _feet_after(r: Reader, k: int) -> bool:
+    """True when token ``k`` (after a number that follows a cardinal word) is a foot mark
+    that no E or W follows: ``East 149' 2"`` is a cardinal call and feet and inches, while
+    ``N 45' E`` stays a (wrongly written) quadrant bearing."""
+    if r.kind(k) != MIN:
+        return False
+    nxt = k + 1
+    if r.is_number(nxt) and r.kind(nxt + 1) == SEC:
+        nxt += 2
+    return r.word(nxt) not in _EW and r.word(nxt) not in _NS
 
 
 def _in_range(azimuth_deg: float) -> float:
@@ -652,7 +873,7 @@ def _quadrant(r: Reader, i: int, stop_before_units) -> tuple[Bearing, int]:
     if not r.is_number(j):
         return _cardinal(r, i, i), j
     got = r.quantity(j)
-    if got is not None and r.word(got[1]) in stop_before_units:
+    if got is not None and (r.word(got[1]) in stop_before_units or _feet_after(r, got[1])):
         return _cardinal(r, i, i), j  # "North 20 perches": a cardinal call and a distance
     angle, k = read_angle(r, j, quadrant=True)
     ew_word = r.word(k)
@@ -868,6 +1089,21 @@ def _render(counts: int, plan: _Plan, ascii: bool) -> str:
     s, sf = divmod(rest, scale)
     ss = f"{s:02d}.{sf:0{k}d}" if k else f"{s:02d}"
     return f"{d}-{m:02d}-{ss}" if ascii else f"{d}°{m:02d}′{ss}″"
+
+
+_CARDINAL_LETTERS = {0.0: "N", 90.0: "E", 180.0: "S", 270.0: "W"}
+
+
+def recorded_bearing(azimuth_deg: float, precision_deg: float, style: str) -> str:
+    """A recorded bearing in its recorded form (the record column): a cardinal call
+    (``North``, ``due East``) as ``due N``, ``due E``..., an intercardinal point as ``NE``
+    (never ``N 0° E``, ``N 45° E``); any other bearing by :func:`format_bearing` at its
+    written precision. ``style`` is :attr:`Bearing.style`."""
+    if style == "cardinal":
+        if azimuth_deg in _CARDINAL_LETTERS:
+            return f"due {_CARDINAL_LETTERS[azimuth_deg]}"
+        return _POINT_QUADRANT[azimuth_deg]
+    return format_bearing(azimuth_deg, precision=precision_deg)
 
 
 def finite_number(value: float, what: str) -> float:

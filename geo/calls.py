@@ -38,7 +38,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from fractions import Fraction
-from typing import Literal
+from typing import Literal, NamedTuple
 
 from geo.bearings import (
     COMMA,
@@ -46,12 +46,15 @@ from geo.bearings import (
     DEG,
     MIN,
     NUM,
+    OTHER,
     SEC,
     WORD,
     Bearing,
     Reader,
+    fail,
     finite_number,
     looks_like_bearing,
+    mark_unread,
     read_bearing,
     short,
     starts_bearing,
@@ -139,6 +142,8 @@ def read_distance(
     if got is None:
         raise r.fail(i, "expected a distance (a number and a unit, such as 20 perches)")
     q, j = got
+    if (r.kind(j) == DASH or (r.kind(j) == OTHER and r.toks[j].word == ":")) and r.is_number(j + 1):
+        raise _ambiguous_pair(r, i, j)
     unit = _unit_at(r, j)
     first_unit: str
     total = q.value
@@ -176,6 +181,8 @@ def read_distance(
         # Smaller parts: "3 ch 25 lk", "120' 6\"", "5 ft 6 in", "3 chains and 25 links".
         while prev is not None:
             k = end_tok
+            if r.kind(k) == COMMA and r.is_number(k + 1):
+                k += 1  # "10 chains, 50 links"
             if r.word(k) == "and" and r.is_number(k + 1):
                 k += 1
             nxt = r.quantity(k) if r.is_number(k) else None
@@ -207,6 +214,21 @@ def read_distance(
     metres = (total.numerator * per.numerator) / (total.denominator * per.denominator)
     value = total.numerator / total.denominator
     return Distance(metres, value, first_unit, text), end_tok
+
+
+def _ambiguous_pair(r: Reader, i: int, j: int) -> ParseError:
+    """Refuse ``10-50 chains`` / ``10:50 chains`` (chains and links? a range?)."""
+    a, b = r.text[r.toks[i].start : r.toks[i].end], r.text[r.toks[j + 1].start : r.toks[j + 1].end]
+    got = r.quantity(j + 1)
+    unit = _unit_at(r, got[1]) if got is not None else None
+    end = r.toks[j + 1].end
+    pair = r.text[r.toks[i].start : end]
+    if unit == "chain":
+        hint = f"write {a} chains {b} links (or {a}.{b.zfill(2)} chains)"
+    else:
+        hint = "write each part with its unit (10 chains 50 links, 12 ft 6 in)"
+    shown = mark_unread(r.text, r.toks[i].start, end)
+    return fail(r.text, r.toks[i].start, f"'{pair}' is ambiguous: {hint}: {shown}")
 
 
 # Words that may follow a bare number in a call (the note begins there).
@@ -270,6 +292,280 @@ def _leading_number_is_azimuth(r: Reader, i: int) -> bool:
     return t.kind == NUM
 
 
+# Words that begin a monument phrase ("to a white oak", "with the road", "crossing a run"):
+# after the bearing and distance of a call only such a phrase, or nothing, may follow.
+MONUMENT_WORDS = frozenset(
+    [
+        "to",
+        "unto",
+        "with",
+        "along",
+        "by",
+        "at",
+        "on",
+        "crossing",
+        "across",
+        "passing",
+        "past",
+        "through",
+        "over",
+        "into",
+        "near",
+        "binding",
+        "bounding",
+        "following",
+        "leaving",
+        "intersecting",
+        "corner",
+        "cornering",
+        "more",
+        "or",
+        "where",
+        "thence",
+    ]
+)
+# Words that may open a phrase before the bearing or between the bearing and the distance
+# ("along the road N 45 E 20 poles", "North along the section line 40 chains").
+_PHRASE_WORDS = frozenset(["along", "with", "by", "binding", "following", "on", "up", "down"])
+# A phrase before the bearing is looked for in its first tokens only (calls are short).
+_LEAD_PHRASE_TOKENS = 40
+_END_MARKS = frozenset(".)]")
+
+
+class _Options(NamedTuple):
+    default_unit: str | None
+    foot: Foot | None
+    vara_inches: Fraction | int | float | str | None
+    south_azimuth: bool
+
+
+def _unread(r: Reader, start: int, end: int, message: str) -> ParseError:
+    """A refusal of the unread characters ``[start, end)``, shown marked in the call."""
+    shown = mark_unread(r.text, start, end)
+    return _part_error("call", fail(r.text, start, f"{message}: {shown}"), r.text)
+
+
+def _run_end(r: Reader, i: int) -> int:
+    """Character end of the tokens from ``i`` up to the next monument word (or the end)."""
+    k = i + 1
+    while k < len(r.toks) and r.word(k) not in MONUMENT_WORDS and r.kind(k) != COMMA:
+        k += 1
+    return r.toks[k - 1].end
+
+
+def _number_after_distance(r: Reader, i: int, distance: Distance) -> ParseError:
+    """The refusal of a number written after the distance (``10 chains 50``)."""
+    got = r.quantity(i)
+    end = got[0].end if got is not None else r.toks[i].end
+    number = r.text[r.toks[i].start : end]
+    if got is not None and _unit_at(r, got[1]) is not None:
+        return _unread(
+            r,
+            r.toks[i].start,
+            r.toks[got[1]].end,
+            f"several distances in one call: '{short(distance.text)}' and more",
+        )
+    if distance.unit == "chain" and got is not None and got[0].whole and got[0].value < 100:
+        whole = short(distance.text)
+        return _unread(
+            r,
+            r.toks[i].start,
+            end,
+            f"'{whole} {number}' is ambiguous: write {whole.split()[0]} chains {number} links "
+            f"(or {whole.split()[0]}.{int(got[0].value):02d} chains)",
+        )
+    return _unread(
+        r,
+        r.toks[i].start,
+        end,
+        f"the number {number} after the distance '{short(distance.text)}' is not read: "
+        "write its unit or leave it out",
+    )
+
+
+def _rest_note(r: Reader, i: int, bearing: Bearing | None, distance: Distance | None) -> str:
+    """The note after the parts of a call read up to token ``i``: a monument phrase or
+    nothing. Anything else (a number, a unit, a bearing, a second course) is refused with
+    the unread part marked."""
+    i = _skip_commas(r, i)
+    t = r.tok(i)
+    if t is None:
+        return ""
+    if bearing is not None and looks_like_bearing(r, i):
+        return_error = f"several bearings in one call: '{short(bearing.text)}' and more"
+        raise _unread(r, t.start, _run_end(r, i), return_error)
+    if distance is not None and r.is_number(i):
+        raise _number_after_distance(r, i, distance)
+    if (t.kind == WORD and t.word in MONUMENT_WORDS) or _remark_at(r, i):
+        _no_second_course(r, i)
+        return r.text[t.start :].strip().rstrip(",;").strip()
+    rest = r.text[t.start :].strip()
+    if all(c in _END_MARKS for c in rest.replace(" ", "")):
+        return ""
+    what = "bearing" if distance is None else "distance"
+    raise _unread(
+        r,
+        t.start,
+        _run_end(r, i),
+        f"not read after the {what}: a monument phrase starts with to, with, along, by, at, "
+        "crossing... (write 'to a white oak')",
+    )
+
+
+def _remark_at(r: Reader, i: int) -> bool:
+    """True for a remark in brackets that opens with a plain word: ``(typed in the field)``,
+    not ``(50)``, ``(links)`` or ``(N 10 E)``."""
+    t = r.tok(i)
+    if t is None or t.kind != OTHER or t.word not in "([":
+        return False
+    w = r.word(i + 1)
+    return w is not None and w not in _UNIT_WORDS and not starts_bearing(r, i + 1)
+
+
+def _no_second_course(r: Reader, i: int) -> None:
+    """Refuse a note that holds a second course ("to a stake; thence N 20 E 5 chains")."""
+    if "thence" not in r.text[r.toks[i].start :].casefold():
+        return  # the usual note: no word to look for
+    for k in range(i, len(r.toks)):
+        if r.word(k) == "thence" and _skip_commas(r, k + 1) < len(r.toks):
+            raise _unread(
+                r,
+                r.toks[k].start,
+                len(r.text),
+                "a second course in one call: put each 'thence' course in a course of its own",
+            )
+
+
+def _mid_phrase(r: Reader, i: int, o: _Options) -> tuple[str, Distance, int] | None:
+    """A phrase between the bearing and the distance ("North along the section line 40
+    chains"): the phrase has no number and the distance is written with its unit.
+    Returns (phrase, distance, next token) or ``None``."""
+    if r.word(i) not in _PHRASE_WORDS:
+        return None
+    k = i + 1
+    while k < len(r.toks) and r.kind(k) != NUM and r.word(k) != "thence":
+        k += 1
+    got = r.quantity(k) if r.is_number(k) else None
+    if got is None or _unit_at(r, got[1]) is None:
+        return None
+    try:
+        distance, j = read_distance(r, k, default_unit=None, foot=o.foot, vara_inches=o.vara_inches)
+    except ParseError:
+        return None
+    phrase = r.text[r.toks[i].start : r.toks[k - 1].end].strip().rstrip(",;").strip()
+    return phrase, distance, j
+
+
+def _read_parts(r: Reader, i: int, o: _Options) -> tuple[Bearing | None, Distance | None, int, str]:
+    """The bearing and distance of a call from token ``i``, in either order; returns them,
+    the next token and the phrase written between them (``''`` if none)."""
+    bearing: Bearing | None = None
+    distance: Distance | None = None
+    text = r.text
+
+    def bearing_at(k: int) -> int:
+        nonlocal bearing
+        try:
+            bearing, k2 = read_bearing(
+                r, k, south_azimuth=o.south_azimuth, stop_before_units=_UNIT_WORDS
+            )
+        except ParseError as exc:
+            raise _part_error("bearing", exc, text) from None
+        return _skip_commas(r, k2)
+
+    def distance_at(k: int) -> int:
+        nonlocal distance
+        try:
+            distance, k2 = read_distance(
+                r, k, default_unit=o.default_unit, foot=o.foot, vara_inches=o.vara_inches
+            )
+        except ParseError as exc:
+            raise _part_error("distance", exc, text) from None
+        return _skip_commas(r, k2)
+
+    def number_at(k: int) -> bool:
+        return r.is_number(k) or (r.kind(k) == DASH and r.is_number(k + 1))
+
+    numeric = number_at(i)
+    if starts_bearing(r, i) or (numeric and r.kind(i) == DASH):
+        if r.kind(i) == DASH:
+            message = "negative number: bearings and distances are written without a sign"
+            raise _part_error("call", r.fail(i, message), text)
+        i = bearing_at(i)
+        if number_at(i):
+            i = distance_at(i)
+        else:
+            mid = _mid_phrase(r, i, o)
+            if mid is not None:
+                return bearing, mid[1], mid[2], mid[0]
+    elif numeric:
+        if _leading_number_is_azimuth(r, i):
+            i = bearing_at(i)
+            if number_at(i):
+                i = distance_at(i)
+        else:
+            i = distance_at(i)
+            if starts_bearing(r, i) or (r.is_number(i) and _leading_number_is_azimuth(r, i)):
+                i = bearing_at(i)
+    else:
+        message = (
+            f"'{r.show(i, i + 1)}' starts neither a bearing (N 45 E, North, Az 225) "
+            "nor a distance (20 perches)"
+        )
+        raise _part_error("call", r.fail(i, message), text)
+    return bearing, distance, i, ""
+
+
+def _lead_phrase(r: Reader, i: int, o: _Options) -> tuple[str, Call]:
+    """A call opening with a monument phrase before its bearing ("along the road N 45 E 20
+    poles to a stone"). The phrase ends where a bearing and distance read to the end of the
+    call; exactly one such place must exist. Returns (phrase, call of the rest)."""
+    found: list[tuple[str, tuple]] = []
+    first_end = 0  # tokens before this belong to the first reading's bearing and distance
+    rest_error: ParseError | None = None
+    for k in range(i + 1, min(len(r.toks), i + _LEAD_PHRASE_TOKENS)):
+        if k < first_end or not starts_bearing(r, k):
+            continue
+        try:
+            bearing, distance, j, mid = _read_parts(r, k, o)
+        except ParseError:
+            continue
+        if bearing is None or distance is None:
+            continue
+        try:
+            note = _rest_note(r, j, bearing, distance)
+        except ParseError as exc:
+            rest_error = rest_error or exc  # a course read, and something after it did not
+            continue
+        if bearing is not None and distance is not None:
+            phrase = r.text[r.toks[i].start : r.toks[k - 1].end].strip().rstrip(",;").strip()
+            found.append((phrase, (bearing, distance, mid, note)))
+            first_end = first_end or j
+    lead = r.show(i, i + 1)
+    if not found and rest_error is not None:
+        raise rest_error
+    if not found:
+        raise _unread(
+            r,
+            r.toks[i].start,
+            len(r.text),
+            f"a call opening with '{lead}' needs a bearing and a distance after its phrase",
+        )
+    if len(found) > 1:
+        raise _unread(
+            r,
+            r.toks[i].start,
+            len(r.text),
+            f"the phrase opening with '{lead}' reads more than one way: put the bearing first",
+        )
+    phrase, (bearing, distance, mid, note) = found[0]
+    return phrase, Call(bearing, distance, _join_notes(mid, note), "bearing_and_distance")
+
+
+def _join_notes(*notes: str) -> str:
+    return ", ".join(n for n in notes if n)
+
+
 def parse_call(
     text: str,
     *,
@@ -282,83 +578,26 @@ def parse_call(
 
     Parameters are those of :func:`parse_distance` and :func:`geo.bearings.parse_bearing`.
     Returns a :class:`Call`; raises :class:`ParseError` naming the part that could not be
-    read and the character.
+    read and the character. After the bearing and distance only a monument phrase (see
+    :data:`MONUMENT_WORDS`) may follow: a number, unit, bearing or second ``thence``
+    course there is refused, the unread part shown between « and ».
     """
     if not isinstance(text, str):
         raise ParseError(f"a call must be text, not {type(text).__name__}", text=str(text))
     if not text.strip():
         raise ParseError("call: empty call, nothing to read", text=text, position=0)
     r = Reader(text)
+    o = _Options(default_unit, foot, vara_inches, south_azimuth)
     i = 0
     while r.word(i) in _LEAD_WORDS or r.kind(i) == COMMA:
         i += 1
     if i >= len(r.toks):
         raise r.fail(i, "call: no bearing or distance after 'thence'")
-    bearing: Bearing | None = None
-    distance: Distance | None = None
-    stop = _UNIT_WORDS
-
-    def bearing_at(k: int) -> int:
-        nonlocal bearing
-        try:
-            bearing, k2 = read_bearing(r, k, south_azimuth=south_azimuth, stop_before_units=stop)
-        except ParseError as exc:
-            raise _part_error("bearing", exc, text) from None
-        return k2
-
-    def distance_at(k: int) -> int:
-        nonlocal distance
-        try:
-            distance, k2 = read_distance(
-                r, k, default_unit=default_unit, foot=foot, vara_inches=vara_inches
-            )
-        except ParseError as exc:
-            raise _part_error("distance", exc, text) from None
-        return k2
-
-    numeric = r.is_number(i) or (r.kind(i) == DASH and r.is_number(i + 1))
-    if starts_bearing(r, i) or (numeric and r.kind(i) == DASH):
-        if r.kind(i) == DASH:
-            raise _part_error(
-                "call",
-                r.fail(i, "negative number: bearings and distances are written without a sign"),
-                text,
-            )
-        i = _skip_commas(r, bearing_at(i))
-        if r.is_number(i) or (r.kind(i) == DASH and r.is_number(i + 1)):
-            i = _skip_commas(r, distance_at(i))
-    elif numeric:
-        if _leading_number_is_azimuth(r, i):
-            i = _skip_commas(r, bearing_at(i))
-            if r.is_number(i) or (r.kind(i) == DASH and r.is_number(i + 1)):
-                i = _skip_commas(r, distance_at(i))
-        else:
-            i = _skip_commas(r, distance_at(i))
-            if starts_bearing(r, i) or (r.is_number(i) and _leading_number_is_azimuth(r, i)):
-                i = _skip_commas(r, bearing_at(i))
-    else:
-        raise _part_error(
-            "call",
-            r.fail(
-                i,
-                f"'{r.show(i, i + 1)}' starts neither a bearing (N 45 E, North, Az 225) "
-                "nor a distance (20 perches)",
-            ),
-            text,
-        )
-    if i < len(r.toks):
-        if bearing is not None and looks_like_bearing(r, i):
-            message = f"several bearings in one call: '{short(bearing.text)}' and more"
-            raise _part_error("call", r.fail(i, message), text)
-        if distance is not None and r.is_number(i) and _unit_at(r, i + 1) is not None:
-            raise _part_error(
-                "call",
-                r.fail(i, f"several distances in one call: '{short(distance.text)}' and more"),
-                text,
-            )
-    note = ""
-    if i < len(r.toks):
-        note = text[r.toks[i].start :].strip().rstrip(",;").strip()
+    if r.word(i) in _PHRASE_WORDS:
+        phrase, call = _lead_phrase(r, i, o)
+        return Call(call.bearing, call.distance, _join_notes(phrase, call.note), call.kind, text)
+    bearing, distance, i, mid = _read_parts(r, i, o)
+    note = _join_notes(mid, _rest_note(r, i, bearing, distance))
     if bearing is not None and distance is not None:
         kind: CallKind = "bearing_and_distance"
     elif bearing is not None:

@@ -1,13 +1,13 @@
-"""The traverse document: schema (format_version 1), loading, saving and checking.
+"""The traverse document: schema (format_version 2; 1 still read), loading, saving, checking.
 
 A traverse document is a TOML file (or a JSON file with the same schema) holding the calls of a
 deed or a compass cruise line *as written*, the point of beginning, the grid and how the
 bearings were read. Derived numbers are never stored in it. This module is the only place that
 reads or writes such files.
 
-Schema, format_version 1 (every table and key below; any other key is an error)::
+Schema, format_version 2 (every table and key below; any other key is an error)::
 
-    format_version = 1            # required
+    format_version = 2            # required: 2, or 1 for a document without the keys of 2
     title = "..."                 # optional
     closed = true                 # the calls are meant to return to the point of beginning
                                   # (default false: an open traverse)
@@ -18,6 +18,9 @@ Schema, format_version 1 (every table and key below; any other key is an error):
     # easting = ...               #   or grid coordinates in [grid] crs units (needs grid.crs)
     # northing = ...
     height_m = 0.0                # ellipsoidal height, metres (default 0)
+    description = "Beginning at a hickory on the west side of the branch"
+                                  # optional (format 2): the point of beginning as the deed
+                                  # describes it
 
     [grid]                        # optional table
     crs = "EPSG:2271"             # projected CRS; default: the UTM zone of the place
@@ -31,12 +34,16 @@ Schema, format_version 1 (every table and key below; any other key is an error):
     model = "auto"                # field model for the record date, or auto
     distance_unit = "perch"       # unit of calls that give none (optional)
     foot = "us"                   # us | international (optional; default by the date)
-    vara_inches = 33.333333       # length of the vara in inches; required when varas occur
+    vara_inches = "texas"         # length of the vara in inches (a number, "33 1/3", or
+                                  # "texas" = 33 1/3, "california" = 33); required when
+                                  # varas occur
     angles = "right"              # right | left; required when a course gives an angle
     attraction_tolerance = 0.25   # degrees within which fore and back bearings agree (local
                                   # attraction); default: the coarsest precision to which
                                   # those bearings are written (a compass read to 1/4 degree
                                   # cannot show agreement closer than that)
+    area = "61 acres, more or less"   # optional (format 2): the area the deed states, as
+                                      # written (compared with the computed area)
 
     [target]                      # optional: the date to convert to (added in version 1)
     date = "2026-05-01"           # default: today (the command line may override it)
@@ -87,6 +94,11 @@ Keys beyond the issue that introduced the format, and why:
   ``course_ends``): what field notes record along a line ("at 12 chains crossed a run") and
   how a cruise numbers and places its plots (:mod:`geo.along`). Documents without them read
   as before.
+Format versions: version 2 added ``place.description`` and ``record.area`` (what a legal
+description states besides its calls, see :mod:`geo.description`); everything else is as in
+version 1, so a version-1 document reads unchanged and a document that uses neither key may
+keep ``format_version = 1``. A version-1 document with a key of version 2 is refused (the key
+and the version to write are named).
 
 Every error is a :class:`geo.errors.DocumentError` with the file, the 1-based course number and
 the key (``record.date``, ``found.easting`` ...), printed as one line.
@@ -143,13 +155,18 @@ __all__ = [
     "document_problems",
     "document_to_dict",
     "dumps_document",
+    "dumps_mapping",
     "load_document",
     "loads_document",
     "parse_courses",
     "save_document",
 ]
 
-FORMAT_VERSION = 1
+FORMAT_VERSION = 2
+#: Every format_version this version reads.
+READABLE_VERSIONS = (1, 2)
+#: Keys added by format_version 2 (dotted).
+VERSION_2_KEYS = ("place.description", "record.area")
 
 #: File suffixes and their formats.
 _FORMATS = {".toml": "toml", ".json": "json"}
@@ -234,6 +251,7 @@ class Place(_Table):
     easting: Number = None
     northing: Number = None
     height_m: Annotated[float, BeforeValidator(_strict_number)] = 0.0
+    description: Text = None
 
     @model_validator(mode="after")
     def _one_position(self) -> Place:
@@ -279,9 +297,10 @@ class Record(_Table):
     model: Annotated[str, BeforeValidator(_text)] = "auto"
     distance_unit: Text = None
     foot: Literal["us", "international"] | None = None
-    vara_inches: Number = None
+    vara_inches: NumberOrText = None
     angles: Literal["right", "left"] | None = None
     attraction_tolerance: Number = None
+    area: Text = None
 
     @property
     def stated_declination(self) -> bool:
@@ -375,7 +394,7 @@ class Course(_Table):
 class Document(_Table):
     """A traverse document, format_version 1 (see the module docstring for every key)."""
 
-    format_version: Literal[1]
+    format_version: Literal[1, 2]
     title: Text = None
     closed: Annotated[bool, BeforeValidator(_strict_bool)] = False
     place: Place
@@ -384,6 +403,17 @@ class Document(_Table):
     target: Target | None = None
     plots: Plots | None = None
     course: tuple[Course, ...] = ()
+
+    @model_validator(mode="after")
+    def _keys_of_the_version(self) -> Document:
+        if self.format_version == 1:
+            for key, value in (
+                ("place.description", self.place.description),
+                ("record.area", self.record.area),
+            ):
+                if value is not None:
+                    raise _fail(key, "is a key of format_version 2: write format_version = 2")
+        return self
 
     @model_validator(mode="after")
     def _grid_for_coordinates(self) -> Document:
@@ -431,7 +461,7 @@ def _message(err: Mapping[str, Any], path: list[str]) -> str:
     if kind == "missing":
         return "missing (required)"
     if kind == "literal_error" and path == ["format_version"]:
-        return f"{_show(value)} is not a format this version reads (format_version = 1)"
+        return f"{_show(value)} is not a format this version reads (format_version = 1 or 2)"
     if kind == "literal_error":
         expected = err.get("ctx", {}).get("expected", "")
         return f"{_show(value)} is not valid: use {expected}"
@@ -544,7 +574,11 @@ def _toml_pairs(table: Mapping[str, Any]) -> str:
 def dumps_document(doc: Document, fmt: Literal["toml", "json"] = "toml") -> str:
     """Serialise a document as TOML (tables in schema order, one ``[[course]]`` per course,
     ``found`` as an inline table) or as indented JSON with the same keys."""
-    data = document_to_dict(doc)
+    return dumps_mapping(document_to_dict(doc), fmt)
+
+
+def dumps_mapping(data: Mapping[str, Any], fmt: Literal["toml", "json"] = "toml") -> str:
+    """Serialise the mapping of a document (checked or not) as :func:`dumps_document` does."""
     if fmt == "json":
         return json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
     top = {k: v for k, v in data.items() if not isinstance(v, Mapping | list | tuple)}
@@ -695,6 +729,11 @@ class RecordedCourse:
         The course's ``note`` key, or ``None``.
     call_note:
         The words of the call after the distance ("to a white oak"), or ``None``.
+    bearing_style:
+        How the bearing was written (``'quadrant'``, ``'azimuth'``, ``'cardinal'``, see
+        :class:`geo.bearings.Bearing`), or ``None`` for a course given by an angle.
+    back_precision_deg:
+        The precision the back bearing was written to (degrees), or ``None``.
     """
 
     index: int
@@ -710,6 +749,8 @@ class RecordedCourse:
     every_m: float | None
     note: str | None
     call_note: str | None
+    bearing_style: str | None = None
+    back_precision_deg: float | None = None
     #: What the closure supplied when the call wrote "?" (geo.omitted), else None.
     solved: str | None = None
 
@@ -1047,10 +1088,11 @@ def _parse_course_cached(
             field="call" if course.call is not None else "distance",
             **where,
         )
-    back = None
+    back = back_precision = None
     if course.back is not None:
         try:
-            back = parse_bearing(course.back).azimuth_deg
+            back_bearing = parse_bearing(course.back)
+            back, back_precision = back_bearing.azimuth_deg, back_bearing.precision_deg
         except LodelineError as err:
             raise _locate(err, None, None, "back") from None
     every_m = None
@@ -1075,6 +1117,8 @@ def _parse_course_cached(
         every_m,
         course.note,  # note
         call_note,
+        None if bearing is None else bearing.style,  # bearing_style
+        back_precision,  # back_precision_deg
     )
 
 

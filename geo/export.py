@@ -164,6 +164,16 @@ class Positions:
     grid_misclosure_m: float | None
 
 
+def _station_note(conv: Any, p: Any) -> str | None:
+    """The note of a GeoJSON point: the point of beginning's description (station 0), the
+    words of the call after its distance (other stations), none for intermediate points."""
+    if p.kind != "station":
+        return None
+    if p.index == 0:
+        return conv.document.place.description
+    return conv.courses[p.index - 1].recorded.call_note
+
+
 def positions(conv: DocumentConversion, *, adjust: str | None = None) -> Positions:
     """Station and intermediate-point positions of a converted document.
 
@@ -369,9 +379,7 @@ def geojson_collection(
                     "along_m": p.along_m,
                     "easting": p.easting,
                     "northing": p.northing,
-                    "note": None
-                    if p.kind != "station" or p.index == 0
-                    else conv.courses[p.index - 1].recorded.call_note,
+                    "note": _station_note(conv, p),
                 },
             }
         )

@@ -43,6 +43,7 @@ from __future__ import annotations
 import contextlib
 import datetime as _dt
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -273,6 +274,18 @@ def _first_model(model: Any) -> str:
         return model
     names = list(dict.fromkeys(np.asarray(model, dtype=object).ravel().tolist()))
     return ", ".join(str(n) for n in names)
+
+
+def _cardinals_as_recorded(courses: Sequence[Any], texts: list[str] | None) -> None:
+    """Write the recorded column's cardinal calls in their recorded form (``due N``, ``NE``),
+    in place; the derived columns keep the quadrant form."""
+    if texts is None:
+        return
+    from geo.bearings import recorded_bearing
+
+    for i, rc in enumerate(courses):
+        if rc.bearing_style == "cardinal":
+            texts[i] = recorded_bearing(rc.azimuth_deg, rc.precision_deg, "cardinal")
 
 
 def _finite_or_none(v: float) -> float | None:
@@ -611,6 +624,7 @@ def convert_document(
     true_t = format_bearings(true, precision=own if reference == "true" else derived)
     grid_t = format_bearings(grid_az, precision=own if reference == "grid" else derived)
     mag2_t = format_bearings(mag2, precision=derived)
+    _cardinals_as_recorded(courses, {"magnetic": mag1_t, "true": true_t, "grid": grid_t}[reference])
     out: list[CourseConversion] = []
     if unknown_d1:
         true_l = grid_l = mag2_l = [None] * n

@@ -832,6 +832,11 @@ def collect_report(
         Facts(
             (
                 ("point of beginning", f"latitude {p0.lat:.7f}°, longitude {p0.lon:.7f}° (WGS84)"),
+                *(
+                    (("described as", conv.document.place.description),)
+                    if conv.document.place.description
+                    else ()
+                ),
                 (
                     "placed by",
                     "measured grid coordinates" if conv.place_by_grid else "latitude and longitude",
@@ -1072,8 +1077,24 @@ def collect_report(
     )
 
 
+def _stated_area_text(conv: Any, area: Any) -> str:
+    """The deed's stated area (record.area) beside the computed ground area."""
+    from geo.description import compare_area
+
+    foot = area.foot if area is not None else conv.document.record.foot
+    check = compare_area(
+        conv.document.record.area, area.ground_m2 if area is not None else None, foot=foot
+    )
+    if check.problem is not None:
+        return f"{check.stated} (not compared: {check.problem})"
+    return (
+        f"{check.stated} = {check.stated_m2:,.1f} m²; the computed ground area differs by "
+        f"{check.difference_m2:+,.1f} m² ({check.difference_pct:+.2f} %)"
+    )
+
+
 def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
-    from geo.bearings import format_bearing
+    from geo.bearings import format_bearing, recorded_bearing
     from geo.measures import area_text, conversion_unit, length_text
 
     ru = conversion_unit(conv)
@@ -1139,6 +1160,8 @@ def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
             )
         elif clo.crossing is not None:
             facts.append(("area", f"none: courses {clo.crossing[0]} and {clo.crossing[1]} cross"))
+        if conv.document.record.area is not None:
+            facts.append(("stated area", _stated_area_text(conv, a)))
     out.append(Facts(tuple(facts)))
     if clo.angles is not None:
         ang = clo.angles
@@ -1276,10 +1299,14 @@ def _closure_blocks(conv: Any, clo: Any) -> list[Block]:
             rows.append(
                 (
                     str(c.index),
-                    format_bearing(c.recorded.azimuth_deg, precision=c.recorded.precision_deg),
+                    recorded_bearing(
+                        c.recorded.azimuth_deg,
+                        c.recorded.precision_deg,
+                        c.recorded.bearing_style or "",
+                    ),
                     "–"
                     if back is None
-                    else format_bearing(back, precision=c.recorded.precision_deg),
+                    else format_bearing(back, precision=c.recorded.back_precision_deg),
                     "–" if disc is None else _signed_angle(disc),
                     fixed or "–",
                 )

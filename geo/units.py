@@ -113,12 +113,12 @@ _SPELLINGS: dict[str, tuple[str, ...]] = {
     "in": ("in", "ins", "inch", "inches"),
     "ft": ("ft", "foot", "feet", "fts"),
     "yd": ("yd", "yds", "yard", "yards"),
-    "link": ("link", "links", "lk", "lks", "li"),
+    "link": ("link", "links", "lk", "lks", "li", "l"),
     "vara": ("vara", "varas", "vr", "vrs"),
     "rod": ("rod", "rods", "rd", "rds"),
     "pole": ("pole", "poles"),
-    "perch": ("perch", "perches", "prch", "per"),
-    "chain": ("chain", "chains", "ch", "chs", "chn", "chns"),
+    "perch": ("perch", "perches", "prch", "per", "p", "ps", "pch", "pchs"),
+    "chain": ("chain", "chains", "ch", "chs", "chn", "chns", "c"),
     "mile": ("mile", "miles", "mi"),
     "m": ("m", "metre", "metres", "meter", "meters"),
     "km": ("km", "kilometre", "kilometres", "kilometer", "kilometers"),
@@ -170,9 +170,10 @@ def resolve_vara_inches(vara_inches: Fraction | int | float | str | None) -> Fra
     """Return the inches per vara as an exact fraction.
 
     Accepts a positive number (a float is read by its decimal text, so ``33.3333`` is
-    33.3333 exactly), a fraction, or a named value: ``'texas'`` (33 1/3 in) or
-    ``'california'`` (33 in). ``None`` raises :class:`InputError`: the vara has several
-    regional values and lodeline never picks one.
+    33.3333 exactly), a fraction (``Fraction(100, 3)``, or text: ``"100/3"``,
+    ``"33 1/3"``, ``"33⅓"``, ``"33.5"``), or a named value: ``'texas'`` (33 1/3 in) or
+    ``'california'`` (33 in), in any case. ``None`` raises :class:`InputError`: the vara
+    has several regional values and lodeline never picks one.
     """
     if vara_inches is None:
         raise InputError(
@@ -184,7 +185,7 @@ def resolve_vara_inches(vara_inches: Fraction | int | float | str | None) -> Fra
         if key in NAMED_VARAS:
             return NAMED_VARAS[key]
         try:
-            value = Fraction(key)
+            value = _fraction_text(key)
         except (ValueError, ZeroDivisionError):
             raise InputError(
                 f"vara_inches {vara_inches!r} is neither a number nor one of "
@@ -203,6 +204,24 @@ def resolve_vara_inches(vara_inches: Fraction | int | float | str | None) -> Fra
     if not 0 < value <= 100:
         raise InputError(f"vara_inches {vara_inches!r} must be a length in inches, 0 < v <= 100")
     return value
+
+
+_VULGAR_THIRDS = {"⅓": "1/3", "⅔": "2/3", "½": "1/2", "¼": "1/4", "¾": "3/4"}
+
+
+def _fraction_text(text: str) -> Fraction:
+    """The exact value of ``33``, ``33.5``, ``100/3``, ``33 1/3`` or ``33⅓`` (ValueError else)."""
+    for mark, plain in _VULGAR_THIRDS.items():
+        text = text.replace(mark, f" {plain}")
+    parts = text.split()
+    if len(parts) == 2 and "/" in parts[1] and "/" not in parts[0] and "." not in parts[0]:
+        whole, frac = Fraction(parts[0]), Fraction(parts[1])
+        if not 0 < frac < 1:
+            raise ValueError(text)
+        return whole + frac
+    if len(parts) != 1:
+        raise ValueError(text)
+    return Fraction(parts[0])
 
 
 def metres_per(

@@ -143,7 +143,7 @@ BAD = [
     ("N 45 E W", "E or W given twice", 7),
     ("E 45 N", "starts with N or S", 0),
     ("N E", "gives no angle", 2),
-    ("NE", "gives no angle", 0),
+    ("NNE", "gives no angle", 0),  # NE reads as N 45 E
     ("N -45 E", "negative angle", 2),
     ("-45", "negative angle", 0),
     ("Az -5", "negative angle", 3),

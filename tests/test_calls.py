@@ -181,7 +181,7 @@ BAD_CALLS = [
     ("N 45 E 120' 13\"", "distance", '13" is one ft or more', 12),
     ("N 45 E 0 ch", "distance", "must be more than zero", 7),
     ("N 45 E 20 ch", None, None, None),  # control: reads
-    ("NE 20 ch", "bearing", "gives no angle", 0),
+    ("NNE 20 ch", "bearing", "gives no angle", 0),  # NE reads as N 45 E (test_call_reading)
     ("N 45.5 30 E 20 ch", "bearing", "fractional part", 7),
     ("Az 400 20 ch", "bearing", "more than 360", 3),
     ("Az -5 20 ch", "bearing", "negative angle", 3),

@@ -64,7 +64,7 @@ def variant(**changes):
 # (case name, document dict, expected course, expected field, a word of the message)
 MALFORMED = [
     ("no format version", variant(format_version=None), None, "format_version", "missing"),
-    ("future format", variant(format_version=2), None, "format_version", "format"),
+    ("future format", variant(format_version=3), None, "format_version", "format"),
     ("unknown top key", variant(colour="red"), None, "colour", "unknown key"),
     ("unknown record key", variant(**{"record.variation": 2}), None, "record.variation", "unknown"),
     ("unknown course key", variant(**{"course.3.length": 2}), 3, "length", "unknown key"),
@@ -100,7 +100,7 @@ MALFORMED = [
     ("impossible date", variant(**{"record.date": "1854-02-30"}), None, "record.date", "calendar"),
     (
         "declination does not parse",
-        variant(**{"record.declination": "three degrees west"}),
+        variant(**{"record.declination": "a few degrees west"}),
         None,
         "record.declination",
         "",
@@ -248,7 +248,14 @@ def test_schema_keys_are_those_of_format_version_1():
     assert set(CourseEvent.model_fields) == {"distance", "note"}
     assert set(Plots.model_fields) == {"start", "first", "course_ends"}
 
-    assert set(Place.model_fields) == {"lat", "lon", "easting", "northing", "height_m"}
+    assert set(Place.model_fields) == {
+        "lat",
+        "lon",
+        "easting",
+        "northing",
+        "height_m",
+        "description",  # format_version 2
+    }
     assert set(Record.model_fields) == {
         "reference",
         "date",
@@ -259,6 +266,7 @@ def test_schema_keys_are_those_of_format_version_1():
         "vara_inches",
         "angles",
         "attraction_tolerance",
+        "area",  # format_version 2
     }
     assert set(Target.model_fields) == {"date", "model"}
     assert set(Course.model_fields) == {

@@ -206,7 +206,8 @@ def test_bad_within_is_refused(tmp_path, capsys):
     doc = copy_doc(BRINDLE, tmp_path)
     pts = tmp_path / "p.csv"
     pts.write_text("name,lat,lon\n1,40.4335,-77.6014\n")
-    status, _, err = run(capsys, "found", doc, "--from", pts, "--within", "five")
+    # ("five" reads as 5 m: number words are distances; "far" is none)
+    status, _, err = run(capsys, "found", doc, "--from", pts, "--within", "far")
     assert status == 2 and "--within" in err
 
 

@@ -559,7 +559,7 @@ def test_a_file_that_is_not_a_traverse_document_still_refuses_to_open(tmp_path: 
     from geo.errors import DocumentError
 
     for name, text in (
-        ("other.toml", "format_version = 2\n"),
+        ("other.toml", "format_version = 3\n"),
         ("broken.toml", "title = [unclosed\n"),
         ("list.json", "[1, 2]"),
         ("courses.toml", 'format_version = 1\ncourse = "N 10 E 4 perches"\n'),

@@ -74,9 +74,9 @@ def load_workspace(path: Path | None) -> Workspace:
 
 
 def _as_written(path: Path) -> dict[str, Any] | None:
-    """The data of a TOML or JSON file that has the shape of a traverse document of
-    format_version 1 (tables where the document has tables, a list of course tables), with
-    dates as text, or ``None``."""
+    """The data of a TOML or JSON file that has the shape of a traverse document of a
+    format_version this version reads (tables where the document has tables, a list of
+    course tables), with dates as text, or ``None``."""
     from geo.document import load_mapping, plain_values
 
     try:
@@ -95,7 +95,7 @@ def restore_problem(doc: Any) -> str | None:
     from tui.results import compute_results, compute_safely
 
     if not _has_document_shape(doc):
-        return "it does not hold a traverse document of format_version 1"
+        return "it does not hold a traverse document of a format_version this version reads"
     _results, ok = compute_safely(lambda: compute_results(doc), doc)
     if not ok:
         from tui.results import error_log_path
@@ -105,8 +105,11 @@ def restore_problem(doc: Any) -> str | None:
 
 
 def _has_document_shape(data: Any) -> bool:
-    """Tables where the document has tables, a list of course tables, format_version 1."""
-    if not isinstance(data, dict) or data.get("format_version") != 1:
+    """Tables where the document has tables, a list of course tables, a format_version this
+    version reads."""
+    from geo.document import READABLE_VERSIONS
+
+    if not isinstance(data, dict) or data.get("format_version") not in READABLE_VERSIONS:
         return False
     if any(
         not isinstance(data.get(key, {}), dict) for key in ("place", "grid", "record", "target")

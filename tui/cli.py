@@ -21,6 +21,7 @@ SUBCOMMANDS: list[tuple[str, str]] = [
     ("field", "field"),
     ("models", "models"),
     ("open", "open"),
+    ("read", "read"),
     ("convert", "convert"),
     ("report", "report"),
     ("close", "close"),

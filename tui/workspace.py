@@ -18,12 +18,13 @@ import hashlib
 import json
 import os
 import time
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 from geo.atomic import write_atomic
+from geo.document import VERSION_2_KEYS
 
 #: The keys of a course the application edits, in the order the editor offers them.
 COURSE_FIELDS = ("call", "back", "found", "every", "note")
@@ -37,6 +38,7 @@ SETTING_LABELS: dict[str, str] = {
     "place.easting": "Easting (m)",
     "place.northing": "Northing (m)",
     "place.height_m": "Height (m, ellipsoid)",
+    "place.description": "Beginning described",
     "grid.crs": "Grid CRS",
     "record.reference": "Record reference",
     "record.date": "Record date",
@@ -47,6 +49,7 @@ SETTING_LABELS: dict[str, str] = {
     "record.vara_inches": "Vara (inches)",
     "record.angles": "Angles turned",
     "record.attraction_tolerance": "Attraction tolerance (°)",
+    "record.area": "Stated area",
     "target.date": "Target date",
     "target.model": "Target field model",
 }
@@ -83,6 +86,8 @@ def with_setting(doc: Mapping[str, Any], key: str, value: Any) -> Document:
     """
     head, _, rest = key.partition(".")
     out = dict(doc)
+    if key in VERSION_2_KEYS and value is not None and out.get("format_version") == 1:
+        out["format_version"] = 2  # the key is one of format_version 2
     if not rest:
         if value is None:
             out.pop(head, None)
@@ -126,6 +131,42 @@ def is_blank_course(course: Mapping[str, Any]) -> bool:
     """True for a course with nothing typed in it (a fresh row): it is not saved."""
     keys = {k for k, v in course.items() if v not in (None, "")}
     return not keys or (keys <= {"call"} and not str(course.get("call", "")).strip())
+
+
+def read_pasted(text: str, doc: Mapping[str, Any]) -> tuple[list[str], dict[str, Any], str]:
+    """Read a description pasted into the call editor with the document's unit, foot and
+    vara: ``(calls, settings, summary)`` where ``settings`` are the dotted keys it states
+    (point of beginning, area, variation, date) and ``summary`` one line for the editor.
+    Raises the reader's :class:`geo.errors.ParseError` (course named, unread words marked)."""
+    from geo.description import read_description, read_form, stated_facts
+    from geo.errors import LodelineError
+    from geo.units import choose_foot
+
+    record = doc.get("record") or {}
+    date = record.get("date") or stated_facts(text).get("date")
+    try:
+        foot = choose_foot(record.get("foot"), date).foot
+    except LodelineError:
+        foot = None
+    desc = read_description(
+        text,
+        default_unit=record.get("distance_unit"),
+        foot=foot,
+        vara_inches=record.get("vara_inches"),
+    )
+    settings = {
+        "place.description": desc.beginning,
+        "record.area": desc.area,
+        "record.declination": desc.declination,
+        "record.date": desc.date,
+        "record.vara_inches": desc.vara_inches,
+    }
+    settings = {k: v for k, v in settings.items() if v is not None}
+    if desc.closed:
+        settings["closed"] = True
+    read = "; ".join(f"{c.index}: {read_form(c.call)}" for c in desc.courses)
+    summary = f"✓ {len(desc.courses)} courses read from the pasted description — {read}"
+    return [c.call_text for c in desc.courses], settings, summary
 
 
 def saveable_document(doc: Mapping[str, Any]) -> Document:
@@ -259,6 +300,26 @@ class Workspace:
             label=f"edit {name} of course {index + 1}",
             target=("course", index, name),
             session=session,
+        )
+
+    def put_description(
+        self, index: int, calls: Sequence[str], settings: Mapping[str, Any]
+    ) -> None:
+        """Replace course ``index`` (0-based) by the courses of a pasted description, one call
+        each, and set the ``settings`` (dotted keys: the point of beginning's description, a
+        stated area...) the document does not have yet: one undo step."""
+        courses = self.courses
+        index = max(0, min(index, len(courses)))
+        courses[index : index + 1] = [{"call": call} for call in calls]
+        doc: Document = {**self.doc, "course": courses}
+        for key, value in settings.items():
+            if key == "closed" or get_setting(doc, key) in (None, "", "auto"):
+                doc = with_setting(doc, key, value)
+        self._apply(
+            doc,
+            label=f"paste a description ({len(calls)} courses)",
+            target=("description", index),
+            session=None,
         )
 
     def insert_course(self, index: int, course: Mapping[str, Any] | None = None) -> None:

@@ -49,6 +49,17 @@ def _deg(value: float | None, digits: int = 4) -> str:
     return "-" if value is None else f"{value:+.{digits}f}"
 
 
+def stated_area_line(check: Any) -> str:
+    """One line comparing the deed's stated area with the computed ground area."""
+    if check.problem is not None:
+        return f"stated area {check.stated}: not compared ({check.problem})"
+    return (
+        f"stated area {check.stated} = {check.stated_m2:,.2f} m2; computed ground area "
+        f"{check.computed_m2:,.2f} m2 differs by {check.difference_m2:+,.2f} m2 "
+        f"({check.difference_pct:+.2f} % of the stated area)"
+    )
+
+
 def render(result: Any, title: str | None = None, conv: Any = None) -> str:
     """The human-readable closure of a :class:`geo.survey.SurveyClosure`; with the conversion
     ``conv``, lengths are given in the record unit beside metres, the area in acres, roods and
@@ -143,6 +154,9 @@ def render(result: Any, title: str | None = None, conv: Any = None) -> str:
         )
         if ru is not None:
             lines.append(f"area: {area_text(area.ground_m2, ru, area.acres)}")
+    check = _area_check(conv.document, result) if conv is not None else None
+    if check is not None:
+        lines.append(stated_area_line(check))
     lines += found_gap_lines(result.found_gaps)
     ang = result.angles
     if ang is not None:
@@ -276,12 +290,27 @@ def emit(
     return 0
 
 
+def _area_check(doc: Any, result: Any) -> Any:
+    """The stated area (record.area) beside the computed ground area, or ``None``."""
+    if doc.record.area is None:
+        return None
+    from geo.description import compare_area
+
+    area = result.area
+    foot = area.foot if area is not None else doc.record.foot
+    return compare_area(doc.record.area, area.ground_m2 if area else None, foot=foot)
+
+
 def record_json(conv: Any, result: Any) -> dict[str, Any]:
     """What ``close --json`` adds: record-unit values, the plot list and the events."""
     from geo.along import plot_list
     from geo.measures import closure_record_values
 
-    return {**closure_record_values(conv, result), **plot_list(conv).as_dict()}
+    out = {**closure_record_values(conv, result), **plot_list(conv).as_dict()}
+    check = _area_check(conv.document, result)
+    if check is not None:
+        out["stated_area"] = check.as_dict()
+    return out
 
 
 def run(args: argparse.Namespace) -> int:

@@ -34,11 +34,17 @@ from textual.widgets import Footer, Input, Static
 from textual.worker import get_current_worker
 
 from tui.results import Results, closure_stage, compute_safely, conversion_stage, plain_rows
-from tui.widgets.call_table import FIELD_TITLES, CallEditor, CallTable
+from tui.widgets.call_table import FIELD_TITLES, CallEditor, CallInput, CallTable
 from tui.widgets.findings import FindingsPanel, SteadyText, set_text
 from tui.widgets.job_form import JobForm
 from tui.widgets.sketch import TraverseSketch
-from tui.workspace import COURSE_FIELDS, course_call_text, distance_unit_of, is_blank_course
+from tui.workspace import (
+    COURSE_FIELDS,
+    course_call_text,
+    distance_unit_of,
+    is_blank_course,
+    read_pasted,
+)
 
 if TYPE_CHECKING:
     from tui.app import LodelineApp
@@ -528,6 +534,24 @@ class Desk(Screen):
             event.index, event.field, stored, session=event.session
         )
         self.schedule_recompute()
+
+    def on_call_input_description_pasted(self, event: CallInput.DescriptionPasted) -> None:
+        """A description pasted into the call editor: its courses replace the course being
+        edited (one undo step), or the editor says what did not read and nothing changes."""
+        event.stop()
+        from geo.errors import LodelineError
+
+        editor = self.query_one(CallEditor)
+        try:
+            calls, settings, summary = read_pasted(event.text, self.lode.workspace.doc)
+        except LodelineError as err:
+            editor.show_message(f"✗ the pasted description does not read: {err.message}")
+            return
+        self.lode.workspace.put_description(editor.index, calls, settings)
+        self._editor_session += 1
+        editor.session = self._editor_session  # typing after the paste is a new undo step
+        self.reload()
+        editor.show_message(summary)
 
     def on_call_editor_finished(self, _event: CallEditor.Finished) -> None:
         self._end_typing()

@@ -11,6 +11,7 @@ kept as typed, and the parser's message for it is shown below it.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
@@ -58,7 +59,7 @@ FIELD_TITLES = {
 
 #: An example of its own kind in each editor field, shown while the field is empty.
 FIELD_EXAMPLES = {
-    "call": "e.g. N 45 30 E 20 perches to a white oak",
+    "call": "e.g. N 45 30 E 20 perches to a white oak (or paste a deed)",
     "back": "e.g. S 45 30 W (the bearing read back from the far end)",
     "found": "e.g. easting=432100.5, northing=4521300.2  or  lat=42.87, lon=-76.19",
     "every": "e.g. 5 chains (a point every so far along the course)",
@@ -365,6 +366,39 @@ class CallTable(ScrollView, can_focus=True):
             self._send(self.StructureRequested("move", self.current_index, delta))
 
 
+class CallInput(Input):
+    """The call editor's text field: a paste that holds a whole description (several lines,
+    or a ``thence``) is handed to the desk to be cut into courses instead of being cut to
+    its first line."""
+
+    class DescriptionPasted(Message):
+        """A description was pasted into the call field."""
+
+        def __init__(self, text: str) -> None:
+            super().__init__()
+            self.text = text
+
+    def _on_paste(self, event: events.Paste) -> None:
+        text = event.text or ""
+        parent = self.parent.parent if self.parent is not None else None
+        if (
+            isinstance(parent, CallEditor)
+            and parent.field == "call"
+            and looks_like_description(text)
+        ):
+            event.prevent_default()  # Input's own paste (first line only) does not run
+            event.stop()
+            self.post_message(self.DescriptionPasted(text))
+        # any other paste: Input's own handler runs after this one
+
+
+def looks_like_description(text: str) -> bool:
+    """True for pasted text that is more than one call: several lines, or a ``thence``
+    after its first words."""
+    lines = [line for line in text.splitlines() if line.strip()]
+    return len(lines) > 1 or re.search(r"\S.*\bthence\b", text, re.I | re.S) is not None
+
+
 class CallEditor(Vertical):
     """Edits one field of one course as free text; shows the parser's message."""
 
@@ -406,7 +440,7 @@ class CallEditor(Vertical):
     def compose(self) -> ComposeResult:
         with Horizontal():
             yield Label("Course 1 · call", id="editor-label")
-            yield Input(
+            yield CallInput(
                 placeholder=FIELD_EXAMPLES["call"], id="editor-input", select_on_focus=False
             )
         yield SteadyText("", id="editor-message")
