@@ -483,7 +483,7 @@ async def test_one_call_that_does_not_read_leaves_the_later_bearings(square):
     async with app.run_test(size=(120, 40)) as pilot:
         await settle(pilot)
         before = [r.true for r in app.desk.results.rows]
-        await pilot.press("down", "enter", "ctrl+u", *"S 80 E ten chains", "enter")
+        await pilot.press("down", "enter", "ctrl+u", *"S 95 E 10 chains", "enter")
         await settle(pilot)
         rows = app.desk.results.rows
         assert rows[1].mark == "✗"
