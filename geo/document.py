@@ -40,6 +40,10 @@ Schema, format_version 2 (every table and key below; any other key is an error):
                                   # "texas" = 33 1/3, "california" = 33); required when
                                   # varas occur
     angles = "right"              # right | left; required when a course gives an angle
+    attraction_tolerance = 0.25   # degrees within which fore and back bearings agree (local
+                                  # attraction); default: the coarsest precision to which
+                                  # those bearings are written (a compass read to 1/4 degree
+                                  # cannot show agreement closer than that)
     area = "61 acres, more or less"   # optional (format 2): the area the deed states, as
                                       # written (compared with the computed area)
 
@@ -298,6 +302,7 @@ class Record(_Table):
     foot: Literal["us", "international"] | None = None
     vara_inches: NumberOrText = None
     angles: Literal["right", "left"] | None = None
+    attraction_tolerance: Number = None
     area: Text = None
 
     @property
@@ -853,6 +858,15 @@ def _check_record(doc: Document, file: str | None) -> list[DocumentError]:
                 parse_date(value)
             except LodelineError as err:
                 problems.append(_locate(err, file, None, f"{table}.date"))
+    tolerance = record.attraction_tolerance
+    if tolerance is not None and not 0.0 <= tolerance <= 10.0:
+        problems.append(
+            DocumentError(
+                f"attraction tolerance {tolerance} is outside 0..10 degrees",
+                file=file,
+                field="record.attraction_tolerance",
+            )
+        )
     if record.reference == "magnetic" and record.date is None:
         problems.append(
             DocumentError(

@@ -588,6 +588,14 @@ def _parse_stage(
         target_date = _dt.date.today()
     tday, tyear = _date(target_date, file=file, field=target_field)
     record_model_name = record_model or record.model
+    no_date = record.reference == "magnetic" and record_year is None
+    if no_date and _stated_declination(doc, file) is None:
+        raise DocumentError(
+            "a magnetic record needs its date (record.date) or a stated declination "
+            "(record.declination) to be turned to true north",
+            file=file,
+            field="record.date",
+        )
     notes = _assumption_notes(doc, courses)
     crs, unit_m, e0, n0, lat0, lon0 = _place(doc, file)
     angles, angles_note = angular_closure(courses, doc, file)

@@ -729,7 +729,7 @@ def _field_table(columns: Sequence[_FieldColumn]) -> Table:
         if what == "I":
             return f"{_scalar(v.inclination_deg):+.2f}°"
         if what == "warn":
-            return "; ".join(v.warnings_of(0)) or "none"
+            return "; ".join(v.warnings_of(0)) or "no warning: the field suits a compass"
         attr, unit = {
             "H": ("horizontal_nT", "nT"),
             "X": ("north_nT", "nT"),
@@ -750,7 +750,7 @@ def _field_table(columns: Sequence[_FieldColumn]) -> Table:
         ("east component Y (field meter)", "Y"),
         ("vertical component Z (field meter; down +)", "Z"),
         ("total intensity F (field meter)", "F"),
-        ("compass reliability", "warn"),
+        ("compass warnings", "warn"),
     ]
     body = []
     for label, key in rows:

@@ -599,6 +599,8 @@ def _attraction(
     fore = np.array([r.azimuth_deg for r in rec], dtype=float)
     back = np.array([np.nan if r.back_azimuth_deg is None else r.back_azimuth_deg for r in rec])
     if tolerance_deg is None:
+        tolerance_deg = conv.document.record.attraction_tolerance
+    if tolerance_deg is None:
         precisions = []
         for r, course in zip(rec, conv.document.course, strict=True):
             if r.back_azimuth_deg is not None:
@@ -954,8 +956,8 @@ def close_document(
         1σ uncertainty of a bearing reading, degrees (default: half the coarsest precision
         the calls were written to).
     attraction_tolerance_deg:
-        Fore/back agreement tolerance, degrees (default: the coarsest precision of those
-        bearings).
+        Fore/back agreement tolerance, degrees (default: the document's
+        ``record.attraction_tolerance``, else the coarsest precision of those bearings).
 
     Raises
     ------

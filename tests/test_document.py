@@ -267,6 +267,7 @@ def test_schema_keys_are_those_of_format_version_1():
         "foot",
         "vara_inches",
         "angles",
+        "attraction_tolerance",
         "area",  # format_version 2
     }
     assert set(Target.model_fields) == {"date", "model"}

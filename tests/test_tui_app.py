@@ -174,8 +174,8 @@ async def test_call_that_does_not_read_is_kept_and_marked(doc_path: Path):
 @sync
 async def test_course_the_schema_refuses_waits_like_a_call_that_does_not_read(doc_path: Path):
     # Course 2 keeps a note, so clearing its call leaves a course the schema refuses (an
-    # empty call) rather than a blank row: it is marked, course 1 still converts, and the
-    # closure waits for it, as for a call that does not read.
+    # empty call) rather than a blank row: it is marked, the other courses still convert,
+    # and the closure waits for it, as for a call that does not read.
     doc_path.write_text(
         DOC.replace('call = "S 80 E 10 chains"', 'call = "S 80 E 10 chains"\nnote = "fence"'),
         encoding="utf-8",
@@ -189,7 +189,9 @@ async def test_course_the_schema_refuses_waits_like_a_call_that_does_not_read(do
         rows = app.desk.results.rows
         assert rows[1].mark == "✗" and "empty" in rows[1].message
         assert rows[0].true.startswith("N 10")
-        assert rows[2].true == ""  # after the refused course: waits
+        # after the refused course: still converted (placed as if it were absent)
+        assert rows[2].true.startswith("S 10")
+        assert "as if course 2 were absent" in rows[2].message
         assert "does not read" in " ".join(app.desk.results.panels["closure"].lines)
         assert app.desk.results.panels["field"].error is None
         assert app.desk.results.problem_count == 1

@@ -58,3 +58,22 @@ def test_key_guide(snap_compare, farm):
     assert snap_compare(
         LodelineApp(load_workspace(farm)), terminal_size=(100, 40), run_before=run_before
     )
+
+
+def test_desk_side_by_side_200x50_with_the_job_form(snap_compare, farm):
+    async def run_before(pilot) -> None:
+        await _ready(pilot)
+        await pilot.press("f2")  # the job form beside the calls, label: value
+        await pilot.pause(0.2)
+
+    assert snap_compare(
+        LodelineApp(load_workspace(farm)), terminal_size=(200, 50), run_before=run_before
+    )
+
+
+def test_start_screen_80x24(snap_compare, farm):
+    from tui.workspace import Workspace
+
+    assert snap_compare(
+        LodelineApp(Workspace(), start=True), terminal_size=(80, 24), run_before=_ready
+    )

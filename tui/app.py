@@ -9,6 +9,7 @@ dialogs ask the questions (:mod:`tui.dialogs`). Numbers come from :mod:`geo` thr
 
 from __future__ import annotations
 
+import contextlib
 import datetime as _dt
 import gc
 import re
@@ -25,7 +26,7 @@ from tui.dialogs.choice import ChoiceDialog
 from tui.dialogs.file_prompt import FileNamePrompt
 from tui.screens.desk import Desk
 from tui.screens.key_guide import KeyGuide
-from tui.widgets.call_table import CallEditor, CallTable
+from tui.widgets.call_table import CallTable
 from tui.widgets.sketch import TraverseSketch
 from tui.workspace import (
     Workspace,
@@ -76,22 +77,59 @@ def _as_written(path: Path) -> dict[str, Any] | None:
     """The data of a TOML or JSON file that has the shape of a traverse document of a
     format_version this version reads (tables where the document has tables, a list of
     course tables), with dates as text, or ``None``."""
-    from geo.document import READABLE_VERSIONS, load_mapping, plain_values
+    from geo.document import load_mapping, plain_values
 
     try:
         data = load_mapping(path)
     except DocumentError:
         return None
-    if not isinstance(data, dict) or data.get("format_version") not in READABLE_VERSIONS:
+    if not _has_document_shape(data):
         return None
+    return plain_values(data)
+
+
+def restore_problem(doc: Any) -> str | None:
+    """Why the document of a recovery file cannot be restored into the desk, or ``None``:
+    it must have a document's shape, and computing its findings must not fail unforeseen
+    (a problem of the document itself is shown as usual, not refused here)."""
+    from tui.results import compute_results, compute_safely
+
+    if not _has_document_shape(doc):
+        return "it does not hold a traverse document of a format_version this version reads"
+    _results, ok = compute_safely(lambda: compute_results(doc), doc)
+    if not ok:
+        from tui.results import error_log_path
+
+        return f"computing it fails unforeseen (details in {error_log_path()})"
+    return None
+
+
+def _has_document_shape(data: Any) -> bool:
+    """Tables where the document has tables, a list of course tables, a format_version this
+    version reads."""
+    from geo.document import READABLE_VERSIONS
+
+    if not isinstance(data, dict) or data.get("format_version") not in READABLE_VERSIONS:
+        return False
     if any(
         not isinstance(data.get(key, {}), dict) for key in ("place", "grid", "record", "target")
     ):
-        return None
+        return False
     courses = data.get("course", [])
-    if not isinstance(courses, list) or not all(isinstance(c, dict) for c in courses):
-        return None
-    return plain_values(data)
+    return isinstance(courses, list) and all(isinstance(c, dict) for c in courses)
+
+
+def set_aside(file: Path) -> Path:
+    """Rename recovery ``file`` so it is no longer offered; return the new name
+    (``NAME.unrestorable-YYYYMMDD-HHMMSS.json`` beside it)."""
+    stamp = _dt.datetime.now().strftime("%Y%m%d-%H%M%S")
+    target = file.with_name(f"{file.stem}.unrestorable-{stamp}{file.suffix}")
+    n = 1
+    while target.exists():
+        n += 1
+        target = file.with_name(f"{file.stem}.unrestorable-{stamp}-{n}{file.suffix}")
+    file.rename(target)
+    return target
 
 
 _FOUND_KEYS = {
@@ -126,10 +164,69 @@ def parse_found(text: str) -> dict[str, float] | str | None:
         return text
 
 
-def _sheet_bindings() -> list[Binding]:
-    from tui.screens.sheets import DescriptionSheet
+def key_guide_tasks() -> list[tuple[str, list[Binding]]]:
+    """The keys of the desk grouped by what the user is doing (the F1 guide)."""
 
-    return DescriptionSheet.BINDINGS
+    def keys(*rows: tuple[str, str]) -> list[Binding]:
+        return [Binding(key, "", what) for key, what in rows]
+
+    return [
+        (
+            "enter a deed",
+            keys(
+                ("f2", "Job form: place, record date and reference, unit (Tab: next)"),
+                ("f3", "The calls: the table, one course a line"),
+                ("enter", "Edit the call under the cursor; Enter again: done"),
+                ("escape", "Leave the editor, back to the table"),
+                ("a", "Add a course after this one (and type its call)"),
+                ("i", "Insert a course above this one"),
+                ("delete,x", "Delete this course"),
+                ("left_square_bracket,right_square_bracket", "Move this course up / down"),
+                ("b", "Back bearing read at the far end"),
+                ("n", "Note of this course"),
+                ("e", "Points every so far along this course"),
+                ("ctrl+z", "Undo"),
+                ("ctrl+y", "Redo"),
+            ),
+        ),
+        (
+            "mark found corners",
+            keys(
+                ("f", "Found position of this course's end (easting=…, northing=…)"),
+                ("f5", "Found corners from a receiver's point file (CSV, GeoJSON, GPX)"),
+                ("ctrl+t", "Corners and stakeout: each corner's status, the lines to run"),
+                ("r", "On that sheet: proportion / rotate-scale restoration"),
+                ("o", "On that sheet: run from the nearest found or the previous corner"),
+                ("f4", "Findings: closure, local attraction, record-to-found fit, sketch"),
+                ("0", "Fit the whole figure in the sketch"),
+                ("plus,minus", "Zoom the sketch in / out"),
+                ("left,right,up,down", "Pan the sketch"),
+            ),
+        ),
+        (
+            "export for the field",
+            keys(
+                ("ctrl+s", "Save the document (the previous file kept as .bak)"),
+                ("f9", "Save under a new name"),
+                ("f6", "GeoJSON of the stations and lines"),
+                ("f7", "CSV of stations and courses"),
+                ("f8", "Report with the cautions"),
+                ("f10", "The new description"),
+                ("f12", "The plot list and events"),
+                ("w", "On a description or plot sheet: write it to a file"),
+                ("ctrl+l", "Lay cruise lines and plots across this boundary"),
+            ),
+        ),
+        (
+            "anywhere",
+            keys(
+                ("f1", "This guide"),
+                ("escape", "Close a sheet or dialog"),
+                ("ctrl+p", "Command palette: every action by name"),
+                ("ctrl+q", "Quit (asks about unsaved changes)"),
+            ),
+        ),
+    ]
 
 
 class LodelineApp(App[int]):
@@ -154,14 +251,20 @@ class LodelineApp(App[int]):
         Binding("ctrl+q", "quit", "Quit", priority=True),
     ]
 
-    def __init__(self, workspace: Workspace | None = None) -> None:
+    def __init__(self, workspace: Workspace | None = None, *, start: bool = False) -> None:
         super().__init__()
         self.workspace = workspace or Workspace()
         self.parse_found = parse_found
+        #: Show the start screen (new document, open a file, open a demo) first.
+        self.start = start
 
     # -- start -------------------------------------------------------------------------
     def on_mount(self) -> None:
         self.push_screen(Desk())
+        if self.start:
+            from tui.screens.start import StartScreen
+
+            self.push_screen(StartScreen())
         self.call_after_refresh(self._offer_recovery)
         # Everything alive once the screen is up (Textual, the document, the models) lasts
         # the session: keep it out of the collector's full passes, which otherwise walk it
@@ -177,6 +280,36 @@ class LodelineApp(App[int]):
                 return screen
         raise LookupError("the desk is not open")
 
+    # -- the start screen's ways in -----------------------------------------------------
+    def start_document(self, doc: dict[str, Any], *, path: Path | None) -> None:
+        """Put ``doc`` (a new document, not yet saved) on the desk, cursor in its first call."""
+        ws = Workspace(path=path)
+        ws.replace(doc, label="new document")
+        self._show_workspace(ws)
+
+    def start_demo(self, demo: Path) -> None:
+        """A copy of shipped demo ``demo`` on the desk (saving asks for a name here)."""
+        shown = load_workspace(demo)
+        self.start_document(shown.doc, path=None)
+        self.notify(f"Demo {demo.stem}: a copy, saved only where you choose.", timeout=4)
+
+    def open_path(self, path: Path) -> bool:
+        """Open document ``path`` on the desk; ``False`` (and a message) if it cannot be."""
+        try:
+            ws = load_workspace(path)
+        except LodelineError as err:
+            self.notify(f"⚠ {err}", severity="error", timeout=8)
+            return False
+        self._show_workspace(ws)
+        self.call_after_refresh(self._offer_recovery)
+        return True
+
+    def _show_workspace(self, ws: Workspace) -> None:
+        self.workspace = ws
+        desk = self.desk
+        desk.reload()
+        desk.focus_start()
+
     def _offer_recovery(self) -> None:
         ws = self.workspace
         found = read_recovery(ws.path)
@@ -184,6 +317,10 @@ class LodelineApp(App[int]):
             return
         when = _dt.datetime.fromtimestamp(found.saved_at).strftime("%Y-%m-%d %H:%M")
         name = str(ws.path) if ws.path else "a new document"
+        problem = restore_problem(found.doc)
+        if problem is not None:
+            self._offer_set_aside(found.file, name, when, problem)
+            return
 
         def answered(answer: str | None) -> None:
             if answer == "restore":
@@ -204,6 +341,34 @@ class LodelineApp(App[int]):
             answered,
         )
 
+    def _offer_set_aside(self, file: Path, name: str, when: str, problem: str) -> None:
+        """A recovery file that cannot be restored: keep it aside (renamed) or discard it,
+        never replay it into the desk."""
+
+        def answered(answer: str | None) -> None:
+            if answer == "aside":
+                try:
+                    aside = set_aside(file)
+                except OSError as err:
+                    self.notify(f"⚠ cannot rename {file}: {err}", severity="error", timeout=8)
+                    return
+                self.notify(f"Kept aside as {aside}", timeout=6)
+            elif answer == "discard":
+                with contextlib.suppress(FileNotFoundError):
+                    file.unlink()
+                self.notify("Kept changes discarded.")
+
+        self.push_screen(
+            ChoiceDialog(
+                "Unsaved changes that cannot be restored",
+                f"Changes to {name} that were not saved (kept {when}) were found, but they "
+                f"cannot be opened here: {problem}. Keep the file aside (renamed, to read or "
+                "mend by hand) and start afresh?",
+                [("aside", "Keep it aside"), ("discard", "Discard it")],
+            ),
+            answered,
+        )
+
     # -- recovery ----------------------------------------------------------------------
     def keep_recovery(self) -> None:
         """Keep unsaved changes in the recovery file (or remove it when all is saved)."""
@@ -215,6 +380,21 @@ class LodelineApp(App[int]):
                 discard_recovery(ws.path)
         except (OSError, LodelineError, TypeError, ValueError) as err:
             self.notify(f"⚠ cannot keep the recovery file: {err}", severity="warning")
+
+    def after_crash(self) -> int:
+        """After the application stopped on an unforeseen error: keep the unsaved changes in
+        the recovery file, say where, and return the exit status (1)."""
+        import sys
+
+        ws = self.workspace
+        kept = ""
+        if ws.dirty:
+            try:
+                kept = f"; the unsaved changes are kept in {write_recovery(ws)}"
+            except (OSError, LodelineError, TypeError, ValueError) as err:
+                kept = f"; the unsaved changes could not be kept ({err})"
+        print(f"lodeline: the desk stopped on an unforeseen error{kept}", file=sys.stderr)
+        return 1
 
     # -- commands ----------------------------------------------------------------------
     def get_system_commands(self, screen: Screen) -> Iterable[SystemCommand]:
@@ -355,38 +535,8 @@ class LodelineApp(App[int]):
 
     # -- actions -----------------------------------------------------------------------
     def action_key_guide(self) -> None:
-        """Show every key and the cautions."""
-        groups = [
-            ("anywhere", self.BINDINGS),
-            ("anywhere", Desk.BINDINGS),
-            ("anywhere", [Binding("ctrl+p", "command_palette", "Command palette: every action")]),
-            ("call table", CallTable.BINDINGS),
-            (
-                "call editor",
-                [
-                    *CallEditor.BINDINGS,
-                    Binding("enter", "done", "Finish editing, back to the table"),
-                ],
-            ),
-            ("sketch", TraverseSketch.BINDINGS),
-            ("description, plots", _sheet_bindings()),
-            (
-                "sketch",
-                [
-                    Binding("plus", "zoom_in", "Zoom in"),
-                    Binding("minus", "zoom_out", "Zoom out"),
-                    Binding("left,right,up,down", "pan", "Pan"),
-                ],
-            ),
-            (
-                "job form",
-                [
-                    Binding("tab", "next", "Next field"),
-                    Binding("shift+tab", "previous", "Previous field"),
-                ],
-            ),
-        ]
-        self.push_screen(KeyGuide(groups))
+        """Show the keys by task, and the cautions."""
+        self.push_screen(KeyGuide(key_guide_tasks()))
 
     def action_sheet(self, name: str) -> None:
         """Show the new description or the plot list and events (tui.screens.sheets)."""
@@ -483,8 +633,7 @@ class LodelineApp(App[int]):
 
     def action_save_as(self) -> None:
         """Ask for a file name and save there (never replacing a file without asking)."""
-        ws = self.workspace
-        suggestion = str(ws.path) if ws.path else "traverse.toml"
+        suggestion = self.suggested_name()
 
         def chosen(path: Path | None) -> None:
             if path is not None:
@@ -492,13 +641,25 @@ class LodelineApp(App[int]):
 
         self.push_screen(FileNamePrompt("Save as", suggestion, DOCUMENT_SUFFIXES), chosen)
 
+    def suggested_name(self) -> str:
+        """The file name offered by Save as: the document's own, else one made from its
+        title ("Glen Tract, 1854" -> glen_tract_1854.toml), else traverse.toml."""
+        ws = self.workspace
+        if ws.path is not None:
+            return str(ws.path)
+        title = str(ws.doc.get("title") or "")
+        stem = re.sub(r"[^0-9a-z]+", "_", title.lower()).strip("_")[:60]
+        if not stem or stem == "untitled_traverse":
+            stem = "traverse"
+        return f"{stem}.toml"
+
     def action_export(self, kind: str) -> None:
         """Ask for a file name and write the GeoJSON, CSV or report there."""
         from tui import outputs
 
         spec = outputs.OUTPUTS[kind]
         ws = self.workspace
-        stem = ws.path.with_suffix("") if ws.path else Path("traverse")
+        stem = Path(self.suggested_name()).with_suffix("")
         prompt = FileNamePrompt(
             spec.title,
             f"{stem}{spec.suffixes[0]}",
@@ -543,7 +704,8 @@ class LodelineApp(App[int]):
                             self.exit(0)
 
                     self.push_screen(
-                        FileNamePrompt("Save as", "traverse.toml", DOCUMENT_SUFFIXES), chosen
+                        FileNamePrompt("Save as", self.suggested_name(), DOCUMENT_SUFFIXES),
+                        chosen,
                     )
                 elif self.save_to(ws.path):
                     self.exit(0)

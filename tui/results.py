@@ -61,6 +61,10 @@ class Results:
     final: bool = False
 
 
+#: How the desk asks for the conversion: a magnetic record whose declination at the record
+#: date is not known keeps its recorded bearings (see geo.north.convert_document).
+_CONVERT: dict[str, Any] = {"allow_unknown_declination": True}
+
 #: The findings panels, in the order the desk shows them.
 PANEL_KEYS = ("field", "grid", "closure", "attraction", "fit")
 
@@ -157,6 +161,9 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
     def fail_all(message: str) -> Results:
         for key in PANEL_KEYS:
             results.panels[key] = PanelText(error=message)
+        place_grid = _panel(lambda: _place_grid_panel(data))
+        if place_grid.lines:  # the grid of the place does not wait for the record
+            results.panels["grid"] = place_grid
         results.sketch_message = message
         results.final = True
         return results
@@ -190,56 +197,82 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
             refused.append(k)
             continue
         break
-    # The courses before the first that is refused or does not read are converted (their
-    # stations do not depend on later courses); the closure waits for the others.
-    first_bad = min(refused) if refused else None
-    doc = (
-        checked
-        if first_bad is None
-        else checked.model_copy(update={"course": checked.course[:first_bad]})
-    )
-    results.document = doc
-    results.crs_hint = _crs_hint(doc)
+    # Every course that reads is converted, those after a course that does not read too
+    # (placed as if it were absent); the closure and the sketch wait for every course.
     from geo.north import convert_document
 
     try:
         # the common case: everything reads, and the conversion parses every course itself
-        conv = None if refused else convert_document(doc, file=file, allow_unknown_declination=True)
+        conv = None if refused else convert_document(checked, file=file, **_CONVERT)
         first_error: LodelineError | None = None
     except LodelineError as err:
         conv, first_error = None, err
+    unread: set[int] = set()  # document courses that do not read
     if conv is None:
         problems = document_problems(checked, file=file)
         for err in problems:
             if err.course is not None:
                 k = remaining[err.course - 1]
                 mark(k, err)
-                first_bad = k if first_bad is None else min(first_bad, k)
+                unread.add(k)
             elif err.field:
                 results.invalid_settings.add(err.field)
         results.problem_count += len(problems)
         record_problems = [e for e in problems if e.course is None]
         if record_problems:
             return fail_all(str(record_problems[0]))
+        bad = set(refused) | unread
         try:
-            if first_bad is None:
+            if not bad:
                 assert first_error is not None
                 raise first_error
-            usable = checked.model_copy(update={"course": checked.course[:first_bad]})
-            conv = convert_document(usable, file=file, allow_unknown_declination=True)
+            usable = checked.model_copy(
+                update={
+                    "course": [c for p, c in enumerate(checked.course) if remaining[p] not in bad]
+                }
+            )
+            conv = convert_document(usable, file=file, **_CONVERT)
         except LodelineError as err:
             located = isinstance(err, DocumentError) and err.course is not None
-            if located and 1 <= err.course <= len(remaining):
+            if located and not bad and 1 <= err.course <= len(remaining):
                 mark(remaining[err.course - 1], err)
             if err.field and err.course is None:
                 results.invalid_settings.add(err.field)
             results.problem_count = max(results.problem_count, 1)
             return fail_all(str(err))
+    good = [k for k in remaining if k not in unread]  # conv.courses[j] is course good[j]
+    first_bad = min(set(refused) | unread) if (refused or unread) else None
     results.first_bad = first_bad
     results.conversion = conv
-    for k, c in enumerate(conv.courses):
+    results.document = conv.document
+    results.crs_hint = _crs_hint(conv.document)
+    bad_before = False  # a course that does not read lies between here and the last bearing
+    last_bad = 0
+    by_course = dict(zip(good, conv.courses, strict=True))
+    for k in range(len(clean["course"])):
+        c = by_course.get(k)
+        if c is None:
+            if k in refused or k in unread:
+                bad_before, last_bad = True, k
+            continue
         row = kept[k]
+        if c.recorded.bearing_text is not None:
+            bad_before = False
+        elif bad_before:  # an angle turned from a course that does not read: it waits
+            rows[row] = replace(
+                rows[row],
+                message=f"waits: its angle is turned from course {kept[last_bad] + 1}'s line,"
+                " which does not read yet",
+            )
+            continue
         caution = bool(c.warnings)
+        message = ("! " + "; ".join(c.warnings)) if caution else ""
+        if first_bad is not None and k > first_bad:
+            placed = (
+                f"placed as if course {kept[first_bad] + 1} were absent until it reads "
+                "(D and γ taken there)"
+            )
+            message = f"{message}; {placed}" if message else placed
         rows[row] = CallRow(
             MARK_CAUTION if caution else "",
             rows[row].call,
@@ -249,7 +282,7 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
             c.bearing.grid or "—",
             c.bearing.magnetic_target or "—",
             rows[row].back,
-            ("! " + "; ".join(c.warnings)) if caution else "",
+            message,
         )
     results.panels["field"] = _panel(lambda: _field_panel_cached(conv))
     results.panels["grid"] = _panel(lambda: _grid_panel(conv))
@@ -261,7 +294,10 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
     else:
         for key in ("closure", "attraction", "fit"):
             results.panels[key] = _idle("computing…")
-    results.sketch, results.sketch_message = _sketch(conv)
+    before = len(good) if first_bad is None else sum(1 for k in good if k < first_bad)
+    results.sketch, results.sketch_message = _sketch(conv, before)
+    if first_bad is not None and results.sketch is not None:
+        results.sketch_message = f"drawn up to course {kept[first_bad]}"
     return results
 
 
@@ -279,7 +315,8 @@ def closure_stage(results: Results) -> Results:
         panels["closure"] = panels["attraction"] = PanelText(error=str(err))
     else:
         panels["closure"] = _panel(lambda: _closure_panel(closure, conv))
-        panels["attraction"] = _panel(lambda: _attraction_panel(closure))
+        stated = conv.document.record.attraction_tolerance
+        panels["attraction"] = _panel(lambda: _attraction_panel(closure, stated))
     panels["fit"] = _panel(lambda: _fit_panel(conv))
     return replace(results, panels=panels, final=True)
 
@@ -392,18 +429,57 @@ def _field_panel(conv: Any) -> PanelText:
 def _grid_panel(conv: Any) -> PanelText:
     """Grid convergence and factors at the point of beginning (from the conversion)."""
     if not conv.courses:
-        return _idle(f"{conv.crs}: no courses yet")
+        pob = conv.stations[0]
+        return _grid_lines(conv.crs, pob.lat, pob.lon, conv.height_m)
     c = conv.courses[0]
+    return _grid_text(conv.crs, c.convergence_deg, c.scale_factor, c.elevation_factor)
+
+
+def _grid_text(crs: str, gamma: float, k: float, elevation: float) -> PanelText:
     return PanelText(
         (
-            f"{conv.crs}",
-            f"γ {_deg(c.convergence_deg, 1.0 / 3600.0)}",
+            f"{crs}",
+            f"γ {_deg(gamma, 1.0 / 3600.0)}",
             "  (grid = true − γ)",
-            f"k {c.scale_factor:.7f}",
-            f"elevation {c.elevation_factor:.7f}",
-            f"combined {c.combined_factor:.7f}",
+            f"k {k:.7f}",
+            f"elevation {elevation:.7f}",
+            f"combined {k * elevation:.7f}",
         )
     )
+
+
+def _grid_lines(crs: str, lat: float, lon: float, height_m: float) -> PanelText:
+    """Grid convergence and factors at one place (geo.grid.grid_factors)."""
+    from geo.grid import grid_factors
+
+    f = grid_factors(crs, lat=lat, lon=lon, height_m=height_m)
+    return _grid_text(
+        crs, float(f.convergence_deg), float(f.scale_factor), float(f.elevation_factor)
+    )
+
+
+def _place_grid_panel(data: Mapping[str, Any]) -> PanelText:
+    """The grid at the place of a document whose record stops the conversion: empty when the
+    place itself is not yet given as numbers (the document check names what is missing)."""
+    from geo.grid import to_geographic, utm_crs_for
+
+    place = data.get("place") if isinstance(data.get("place"), Mapping) else {}
+    grid = data.get("grid") if isinstance(data.get("grid"), Mapping) else {}
+    crs = grid.get("crs") if isinstance(grid.get("crs"), str) and grid.get("crs") else None
+    height = place.get("height_m", 0.0)
+    numbers = [place.get(k) for k in ("lat", "lon", "easting", "northing")] + [height]
+    if not all(
+        v is None or (isinstance(v, int | float) and not isinstance(v, bool)) for v in numbers
+    ):
+        return PanelText()
+    lat, lon, easting, northing = numbers[:4]
+    if lat is not None and lon is not None:
+        crs = crs or utm_crs_for(lat=float(lat), lon=float(lon))
+    elif easting is not None and northing is not None and crs:
+        lat, lon = to_geographic(crs, easting=float(easting), northing=float(northing))
+    else:
+        return PanelText()
+    return _grid_lines(crs, float(lat), float(lon), float(height))
 
 
 def _unknown_declination(conv: Any) -> bool:
@@ -467,14 +543,28 @@ def _closure_panel(closure: Any, conv: Any = None) -> PanelText:
     return PanelText(tuple(lines))
 
 
-def _attraction_panel(closure: Any) -> PanelText:
-    """Fore and back bearings compared at each station, from the closure."""
+def _attraction_panel(closure: Any, stated_tolerance: float | None = None) -> PanelText:
+    """Fore and back bearings compared at each station, from the closure, in plain words.
+    ``stated_tolerance``: the document's record.attraction_tolerance (degrees), if given."""
     from geo.bearings import format_declination
 
     la = closure.attraction
     if la is None:
         return _idle("no back bearings in the document")
-    lines = [la.reference_text()]
+    minutes = la.tolerance_deg * 60.0
+    why = (
+        "as set in the job form"
+        if stated_tolerance is not None
+        else "the precision the bearings are written to; the job form can set it"
+    )
+    lines = [f"tolerance {minutes:.4g}′ ({why})"]
+    k = la.start_course
+    if la.start_is_free:
+        lines.append(f"course {k} is taken as undisturbed: its fore and back bearings agree")
+    else:
+        lines.append(
+            f"no course's fore and back bearings agree: corrections are relative to course {k}"
+        )
     for st in la.stations:
         if st.disturbed and st.correction_deg is not None:
             lines.append(
@@ -482,10 +572,13 @@ def _attraction_panel(closure: Any) -> PanelText:
                 f" add {format_declination(st.correction_deg, precision=1.0 / 60.0)}"
             )
     if not la.disturbed_stations:
-        lines.append(f"no station off by > {la.tolerance_deg * 60:.0f}′")
+        lines.append(f"no station off by more than {minutes:.4g}′")
     unreached = [str(st.station) for st in la.stations if st.correction_deg is None]
     if unreached:
-        lines.append(f"not reached: station {', '.join(unreached)}")
+        lines.append(
+            f"no correction for station {', '.join(unreached)}: no back bearing links it "
+            "to the undisturbed course"
+        )
     return PanelText(tuple(lines))
 
 
@@ -521,19 +614,26 @@ def _fit_panel(conv: Any) -> PanelText:
 # -- sketch ----------------------------------------------------------------------------------
 
 
-def _sketch(conv: Any) -> tuple[SketchFigure | None, str]:
+def _when(day: Any, year: float | None) -> str:
+    """The year of a date for the sketch's key ("" when there is no date)."""
+    if day is not None:
+        return str(day.year)
+    return "" if year is None else f"{year:.1f}"
+
+
+def _sketch(conv: Any, upto: int | None = None) -> tuple[SketchFigure | None, str]:
     """Stations in grid metres from the point of beginning, grid north up, and the norths;
     with no declination known at the record date, the recorded figure in ground metres,
-    magnetic north of the record date up (true and grid north cannot be placed)."""
-    if not conv.courses:
-        return None, "no courses yet"
+    magnetic north of the record date up (true and grid north cannot be placed). ``upto``:
+    draw only the first so many courses (those before a course that does not read)."""
+    courses = conv.courses if upto is None else conv.courses[:upto]
+    if not courses:
+        return None, "no courses yet: the sketch follows the first call"
     if _unknown_declination(conv):
         from geo.traverse import march
 
-        st = march(
-            [c.recorded.azimuth_deg for c in conv.courses], [c.length_m for c in conv.courses]
-        )
-        when = conv.record_date.year if conv.record_date else f"{conv.record_year:.1f}"
+        st = march([c.recorded.azimuth_deg for c in courses], [c.length_m for c in courses])
+        when = _when(conv.record_date, conv.record_year)
         up = NorthMark("M", f"magnetic {when} (record; D unknown)", 0.0)
         figure = SketchFigure(
             np.asarray(st.east_m),
@@ -545,8 +645,9 @@ def _sketch(conv: Any) -> tuple[SketchFigure | None, str]:
         return figure, ""
     unit = conv.grid_unit_m
     e0, n0 = conv.stations[0].easting, conv.stations[0].northing
-    east = np.array([s.easting - e0 for s in conv.stations]) * unit
-    north = np.array([s.northing - n0 for s in conv.stations]) * unit
+    stations = conv.stations[: len(courses) + 1]
+    east = np.array([s.easting - e0 for s in stations]) * unit
+    north = np.array([s.northing - n0 for s in stations]) * unit
     first = conv.courses[0]
     gamma = first.convergence_deg
     norths = [
@@ -555,9 +656,70 @@ def _sketch(conv: Any) -> tuple[SketchFigure | None, str]:
     ]
     if first.declination_record_deg is not None:
         d1 = first.declination_record_deg
-        when = conv.record_date.year if conv.record_date else f"{conv.record_year:.1f}"
+        when = _when(conv.record_date, conv.record_year) or "of the record (stated)"
         norths.append(NorthMark("M", f"magnetic {when}, D {_deg(d1)}", d1 - gamma))
     d2 = first.declination_target_deg
-    when2 = conv.target_date.year if conv.target_date else f"{conv.target_year:.1f}"
+    when2 = _when(conv.target_date, conv.target_year)
     norths.append(NorthMark("m", f"magnetic {when2}, D {_deg(d2)}", d2 - gamma))
     return SketchFigure(east, north, bool(conv.document.closed), tuple(norths)), ""
+
+
+# -- unforeseen failures ---------------------------------------------------------------------
+
+
+def error_log_path() -> Path:
+    """The file unforeseen failures of the desk are written to: ``errors.log`` beside the
+    recovery folder (``$LODELINE_STATE/errors.log``, else the user's state folder)."""
+    from tui.workspace import recovery_dir
+
+    return recovery_dir().parent / "errors.log"
+
+
+def log_failure(err: BaseException, what: str) -> Path | None:
+    """Append ``err``'s traceback to :func:`error_log_path` under a heading naming ``what``
+    was being done; return the file (``None`` when it cannot be written)."""
+    import datetime as _dt
+    import traceback
+
+    path = error_log_path()
+    stamp = _dt.datetime.now().isoformat(timespec="seconds")
+    text = "".join(traceback.format_exception(type(err), err, err.__traceback__))
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        with path.open("a", encoding="utf-8") as log:
+            log.write(f"--- {stamp} while {what}\n{text}\n")
+    except OSError:
+        return None
+    return path
+
+
+def failure_text(err: BaseException, log: Path | None) -> str:
+    """One line for the user about an unforeseen failure and where its details are."""
+    where = f"details in {log}" if log is not None else "the log file could not be written"
+    return (
+        f"unforeseen failure ({type(err).__name__}: {err}); {where}. "
+        "Nothing typed is lost: editing goes on."
+    )
+
+
+def failed_results(data: Mapping[str, Any], err: BaseException) -> Results:
+    """What the desk shows when computing the findings failed for a reason nobody foresaw:
+    the calls as typed, and the failure (logged) in every panel."""
+    message = failure_text(err, log_failure(err, "computing the findings"))
+    try:
+        rows = plain_rows(data)
+    except Exception:  # the document itself is not shaped as expected
+        rows = []
+    results = Results(rows=rows, panels={k: PanelText(error=message) for k in PANEL_KEYS})
+    results.sketch_message = "no sketch: the findings could not be computed"
+    results.problem_count = 1
+    results.final = True
+    return results
+
+
+def compute_safely(stage: Callable[[], Results], data: Mapping[str, Any]) -> tuple[Results, bool]:
+    """``stage()``, or :func:`failed_results` when it raises; and whether it succeeded."""
+    try:
+        return stage(), True
+    except Exception as err:  # shown and logged, never raised into the desk
+        return failed_results(data, err), False

@@ -48,6 +48,7 @@ SETTING_LABELS: dict[str, str] = {
     "record.foot": "Foot",
     "record.vara_inches": "Vara (inches)",
     "record.angles": "Angles turned",
+    "record.attraction_tolerance": "Attraction tolerance (°)",
     "record.area": "Stated area",
     "target.date": "Target date",
     "target.model": "Target field model",

@@ -1,6 +1,7 @@
 """``lodeline open [DOC]``: the terminal application on a traverse document.
 
-``lodeline`` with no arguments opens it on a new document. Textual is imported only when
+``lodeline`` with no arguments opens it on its start screen (a new document, a file of the
+current folder, or a shipped demo). Textual is imported only when
 the command runs, so the other subcommands start without it.
 """
 
@@ -30,5 +31,8 @@ def run(args: argparse.Namespace) -> int:
     from tui.app import LodelineApp, load_workspace
 
     workspace = load_workspace(Path(args.document) if args.document else None)
-    status = LodelineApp(workspace).run()
+    app = LodelineApp(workspace, start=not args.document)
+    status = app.run()
+    if app.return_code:  # the application stopped on an error it did not foresee
+        return app.after_crash()
     return int(status or 0)

@@ -2,8 +2,9 @@
 
 The arrangement follows the terminal (see :func:`arrangement`):
 
-- ``wide`` (200 columns or more): job | calls | findings, side by side;
-- ``side`` (150-199): calls | findings, the job taking the findings' place on F2;
+- ``wide`` (240 columns or more): job | calls | findings, side by side;
+- ``side`` (150-239): calls | findings, the job taking the findings' place on F2 (at 200
+  columns the calls keep room for a long call beside every bearing);
 - ``stacked`` (100-149 columns and 30 rows or more): calls above, the findings below in three
   columns (field and grid | closure, attraction, fit | sketch); F2 puts the job beside the
   calls instead of the findings, F4 brings the findings back;
@@ -24,18 +25,26 @@ from textual import work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.message import Message
 from textual.reactive import reactive
 from textual.screen import Screen
 from textual.timer import Timer
+from textual.widget import Widget
 from textual.widgets import Footer, Input, Static
 from textual.worker import get_current_worker
 
-from tui.results import Results, closure_stage, conversion_stage, plain_rows
-from tui.widgets.call_table import CallEditor, CallInput, CallTable
+from tui.results import Results, closure_stage, compute_safely, conversion_stage, plain_rows
+from tui.widgets.call_table import FIELD_TITLES, CallEditor, CallInput, CallTable
 from tui.widgets.findings import FindingsPanel, SteadyText, set_text
 from tui.widgets.job_form import JobForm
 from tui.widgets.sketch import TraverseSketch
-from tui.workspace import COURSE_FIELDS, course_call_text, distance_unit_of, read_pasted
+from tui.workspace import (
+    COURSE_FIELDS,
+    course_call_text,
+    distance_unit_of,
+    is_blank_course,
+    read_pasted,
+)
 
 if TYPE_CHECKING:
     from tui.app import LodelineApp
@@ -51,6 +60,10 @@ SKETCH_PAUSE_S = 0.2
 #: Documents with more courses than this are computed in a thread.
 THREAD_ABOVE = 1000
 
+#: Width of the job form when it takes the findings' place beside the calls: room for
+#: each label beside its field (see tui.widgets.job_form.TWO_COLUMNS_FROM).
+JOB_BESIDE_WIDTH = 60
+
 PANELS = (
     ("field", "Field at the beginning"),
     ("grid", "Grid"),
@@ -62,7 +75,7 @@ PANELS = (
 
 def arrangement(width: int, height: int) -> str:
     """The arrangement of the desk for a terminal of ``width`` x ``height`` cells."""
-    if width >= 200:
+    if width >= 240:
         return "wide"
     if width >= 150:
         return "side"
@@ -74,10 +87,12 @@ def arrangement(width: int, height: int) -> str:
 class Desk(Screen):
     """The main screen: job form, call table with its editor, findings and sketch."""
 
+    # Priority: the focus moves before the next key is read (typing straight after F2 goes
+    # into the job form).
     BINDINGS = [
-        Binding("f2", "pane('job')", "Job"),
-        Binding("f3", "pane('calls')", "Calls"),
-        Binding("f4", "pane('findings')", "Findings"),
+        Binding("f2", "pane('job')", "Job", priority=True),
+        Binding("f3", "pane('calls')", "Calls", priority=True),
+        Binding("f4", "pane('findings')", "Findings", priority=True),
         Binding("ctrl+t", "retrace_sheet", "Stakeout"),
     ]
 
@@ -86,7 +101,15 @@ class Desk(Screen):
     Desk #panes { height: 1fr; }
     Desk #job { width: 34; border: round $foreground 30%; }
     Desk #main { width: 1fr; }
-    Desk #calls { width: 1fr; height: 1fr; }
+    Desk #calls { width: 1fr; height: 1fr; border: round $foreground 30%; }
+    Desk #findings { border: round $foreground 30%; }
+    Desk #job:focus-within, Desk #calls:focus-within, Desk #findings:focus-within {
+        border: heavy $accent;
+    }
+    Desk #bottom { dock: bottom; height: 1; }
+    Desk #keyboard { width: auto; max-width: 50%; height: 1; padding: 0 1;
+                     background: $accent; color: $text; text-style: bold; }
+    Desk #bottom Footer { width: 1fr; dock: none; }
     Desk #calls CallTable { height: 1fr; }
     Desk #findings { width: 52; height: 1fr; }
     Desk #findings > Vertical { height: auto; }
@@ -132,10 +155,12 @@ class Desk(Screen):
         with Horizontal(id="panes"):
             yield JobForm(id="job")
             with Horizontal(id="main"):
-                with Vertical(id="calls"):
+                with Vertical(id="calls") as calls:
+                    calls.border_title = "Calls"
                     yield CallTable(id="table")
                     yield CallEditor(id="editor")
-                with VerticalScroll(id="findings"):
+                with VerticalScroll(id="findings") as findings:
+                    findings.border_title = "Findings"
                     with Vertical(id="findings-a"):
                         for key, title in PANELS[:2]:
                             yield FindingsPanel(title, id=f"panel-{key}")
@@ -147,12 +172,52 @@ class Desk(Screen):
                         sketch.border_title = "Sketch (to scale, grid north up)"
                         yield sketch
                         yield Static("", id="sketch-key")
-        yield Footer()
+        with Horizontal(id="bottom"):
+            yield Static("", id="keyboard")
+            yield Footer()
 
     def on_mount(self) -> None:
+        table = self.query_one(CallTable)
+        table.handler = self._table_request
+        self.query_one(CallEditor).handler = self.on_call_editor_finished
         self.reload()
-        self.query_one(CallTable).focus()
         self._arrange()
+        self.focus_start()
+
+    def focus_start(self) -> None:
+        """The cursor in the first call of a new or empty document, else on the table."""
+        table = self.query_one(CallTable)
+        if all(is_blank_course(c) for c in self.lode.workspace.courses):
+            table.move_cursor(row=0)
+            self.open_editor(0, "call")
+        else:
+            self.set_focus(table)
+
+    def _table_request(self, message: Message) -> None:
+        """What the table asks for, done at once (see :attr:`CallTable.handler`)."""
+        if isinstance(message, CallTable.EditRequested):
+            self.on_call_table_edit_requested(message)
+        elif isinstance(message, CallTable.StructureRequested):
+            self.on_call_table_structure_requested(message)
+
+    def on_descendant_focus(self, event) -> None:
+        self.show_keyboard(event.widget)
+
+    def show_keyboard(self, widget: Widget | None) -> None:
+        """Say in the footer which pane has the keyboard and what the keys do there."""
+        if isinstance(widget, CallTable):
+            text = "⌨ call table: letters are commands (Enter edits)"
+        elif widget is not None and widget.id == "editor-input":
+            editor = self.query_one(CallEditor)
+            what = FIELD_TITLES.get(editor.field, editor.field)
+            text = f"⌨ typing the {what} of course {editor.index + 1} (Enter: done)"
+        elif widget is not None and self.query_one(JobForm) in widget.ancestors_with_self:
+            text = "⌨ job form: typing a setting (Tab: next)"
+        elif widget is not None:
+            text = "⌨ findings and sketch (0 fits the sketch)"
+        else:
+            text = ""
+        set_text(self.query_one("#keyboard", Static), text)
 
     def on_resize(self, _event) -> None:
         self._arrange()
@@ -194,7 +259,8 @@ class Desk(Screen):
             column.styles.overflow_y = "auto" if stacked else "hidden"
         sketch = self.query_one(TraverseSketch)
         sketch.styles.height = "1fr" if stacked else 22
-        self.query_one("#job").styles.width = "1fr" if mode == "single" else 34
+        job_width = {"single": "1fr", "wide": 34}.get(mode, JOB_BESIDE_WIDTH)
+        self.query_one("#job").styles.width = job_width
 
     # -- data flow -----------------------------------------------------------------------
     def reload(self) -> None:
@@ -207,13 +273,19 @@ class Desk(Screen):
         self.recompute()
         editor = self.query_one(CallEditor)
         courses = self.lode.workspace.courses
-        if courses and editor.index < len(courses):
+        if courses:
+            # the editor's course may be gone (an undone insert): it moves to the last one,
+            # as a new editing session (what is typed next is its own undo step)
+            index, session = editor.index, editor.session
+            if index >= len(courses):
+                index = len(courses) - 1
+                self._editor_session += 1
+                session = self._editor_session
+                table.move_cursor(row=index)
             editor.load(
-                editor.index,
-                editor.field,
-                self._field_text(courses[editor.index], editor.field),
-                editor.session,
+                index, editor.field, self._field_text(courses[index], editor.field), session
             )
+            self.show_keyboard(self.app.focused)
 
     def schedule_recompute(self) -> None:
         """Recompute once typing pauses (see :data:`DEBOUNCE_S`)."""
@@ -254,7 +326,10 @@ class Desk(Screen):
             # both stages, then one redraw: quicker than showing the conversion first
             started = time.perf_counter()
             with self._collector_waits():
-                results = closure_stage(conversion_stage(ws.doc, path=ws.path))
+                doc, path = ws.doc, ws.path
+                results, _ok = compute_safely(
+                    lambda: closure_stage(conversion_stage(doc, path=path)), doc
+                )
                 self._apply(results, ws.revision)
             if typed:  # what typing costs (a first computation also loads models and grids)
                 self._last_compute_s = time.perf_counter() - started
@@ -270,7 +345,7 @@ class Desk(Screen):
             self.recompute()  # edited meanwhile: compute what is there now
             return
         with self._collector_waits():
-            first = conversion_stage(doc, path=path)
+            first, _ok = compute_safely(lambda: conversion_stage(doc, path=path), doc)
             self._apply(first, revision)
         if not first.final:
             # then the closure, here too once the bearings are painted: a worker thread would
@@ -280,7 +355,8 @@ class Desk(Screen):
     def _close_here(self, first: Results, revision: int) -> None:
         if revision == self.lode.workspace.revision:  # else the edit's recompute follows
             with self._collector_waits():
-                self._apply(closure_stage(first), revision)
+                doc = self.lode.workspace.doc
+                self._apply(compute_safely(lambda: closure_stage(first), doc)[0], revision)
 
     @contextlib.contextmanager
     def _collector_waits(self) -> Iterator[None]:
@@ -310,13 +386,13 @@ class Desk(Screen):
     @work(thread=True, exclusive=True, group="compute", description="compute the findings")
     def _compute(self, doc: dict, path, revision: int) -> None:
         worker = get_current_worker()
-        first = conversion_stage(doc, path=path)
+        first, _ok = compute_safely(lambda: conversion_stage(doc, path=path), doc)
         if worker.is_cancelled:
             return
         self.app.call_from_thread(self._apply, first, revision)
         if first.final:
             return
-        final = closure_stage(first)
+        final, _ok = compute_safely(lambda: closure_stage(first), doc)
         if not worker.is_cancelled:
             self.app.call_from_thread(self._apply, final, revision)
 
@@ -370,7 +446,13 @@ class Desk(Screen):
         sketch.show_figure(results.sketch, results.sketch_message)
         if results.sketch is not None:
             sketch.border_title = f"Sketch (to scale, {results.sketch.up} up)"
-        key = TraverseSketch.key_text(results.sketch) if results.sketch else ""
+        # no figure: no empty plot frame, only the reason
+        sketch.display = results.sketch is not None
+        key = (
+            TraverseSketch.key_text(results.sketch)
+            if results.sketch
+            else f"Sketch: {results.sketch_message or 'no figure yet'}"
+        )
         set_text(self.query_one("#sketch-key", Static), key)
         if results.final:
             self.applied = (revision, True)
@@ -379,8 +461,13 @@ class Desk(Screen):
 
     def update_docbar(self) -> None:
         ws = self.lode.workspace
-        name = str(ws.path) if ws.path else "new document (not yet saved)"
-        state = "● modified" if ws.dirty else "saved"
+        name = str(ws.path) if ws.path else "new document"
+        if ws.dirty:
+            state = "● modified"
+        elif ws.path is not None and ws.path.exists():
+            state = "saved"
+        else:
+            state = "nothing typed yet, not saved"
         problems = ""
         if self.results is not None and self.results.problem_count:
             n = self.results.problem_count
@@ -434,8 +521,11 @@ class Desk(Screen):
         editor.load(index, field, self._field_text(courses[index], field), self._editor_session)
         self._show_row_message()
         editor.focus_input()
+        self.show_keyboard(self.app.focused)
 
     def on_call_editor_edited(self, event: CallEditor.Edited) -> None:
+        if not 0 <= event.index < len(self.lode.workspace.courses):
+            return  # typed for a course an undo removed meanwhile (the editor has moved)
         value = event.value
         stored: object = value
         if event.field == "found":
@@ -466,8 +556,7 @@ class Desk(Screen):
     def on_call_editor_finished(self, _event: CallEditor.Finished) -> None:
         self._end_typing()
         self.flush_sketch()  # the call is done: the sketch need not wait
-        table = self.query_one(CallTable)
-        table.focus()
+        self.set_focus(self.query_one(CallTable))
 
     def on_call_table_row_highlighted(self, event: CallTable.RowHighlighted) -> None:
         editor = self.query_one(CallEditor)
@@ -504,6 +593,11 @@ class Desk(Screen):
             rows = plain_rows(ws.doc)
         table.show_rows(rows)  # the table changes at once; the numbers follow
         table.move_cursor(row=target, animate=False)
+        if event.action != "insert":  # the editor shows the course now under the cursor
+            self._editor_session += 1
+            self.query_one(CallEditor).load(
+                target, "call", self._field_text(ws.courses[target], "call"), self._editor_session
+            )
         self.recompute()
         self.update_docbar()
         if event.action == "insert":
@@ -537,13 +631,12 @@ class Desk(Screen):
             self.side = name
         target = {"job": "#job Input", "calls": "#table", "findings": "#findings"}[name]
 
-        def bring() -> None:
-            widget = self.query(target).first()
-            widget.focus(scroll_visible=False)
-            if name == "findings":
-                widget.scroll_home(animate=False)
-
-        self.call_after_refresh(bring)
+        if name == "job" and self.query_one(JobForm) in getattr(self.app.focused, "ancestors", ()):
+            return  # already in the form: keep the field
+        widget = self.query(target).first()
+        self.set_focus(widget, scroll_visible=False)
+        if name == "findings":
+            widget.scroll_home(animate=False)
 
     def action_retrace_sheet(self) -> None:
         """Open the retracement sheet (tui.dialogs.retrace_sheet) for the shown results."""

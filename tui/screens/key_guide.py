@@ -1,4 +1,4 @@
-"""The key guide: every key of the application, and the cautions."""
+"""The key guide: the keys of the application by task, and the cautions."""
 
 from __future__ import annotations
 
@@ -38,6 +38,12 @@ def _pretty(key: str) -> str:
         "delete": "Delete",
         "enter": "Enter",
         "escape": "Escape",
+        "plus": "+",
+        "minus": "-",
+        "left": "←",
+        "right": "→",
+        "up": "↑",
+        "down": "↓",
     }
     if key in names:
         return names[key]
@@ -50,7 +56,8 @@ def _pretty(key: str) -> str:
 
 
 class KeyGuide(ModalScreen[None]):
-    """Every key, where it works, and what it does; then the cautions."""
+    """The keys by task (enter a deed, mark found corners, export for the field), what each
+    does; then the cautions."""
 
     BINDINGS = [Binding("escape,f1,q", "close", "Close the key guide")]
 
@@ -69,13 +76,15 @@ class KeyGuide(ModalScreen[None]):
 
     def compose(self) -> ComposeResult:
         table = Table(show_edge=False, expand=True, pad_edge=False)
-        table.add_column("Where", no_wrap=True)
+        table.add_column("To", no_wrap=True)
         table.add_column("Keys", no_wrap=True, style="bold")
         table.add_column("Does")
+        previous = None
         for where, keys, what in self._rows:
-            table.add_row(where, keys, what)
+            table.add_row(where if where != previous else "", keys, what)
+            previous = where
         with VerticalScroll() as box:
-            box.border_title = "Key guide — Escape closes"
+            box.border_title = "Keys by task — Escape closes"
             yield Static(table, id="keys")
             yield Static(Text("Cautions\n", style="bold") + Text(CAUTIONS), id="cautions")
 

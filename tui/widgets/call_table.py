@@ -12,7 +12,7 @@ kept as typed, and the parser's message for it is shown below it.
 from __future__ import annotations
 
 import re
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
 from rich.segment import Segment
@@ -35,15 +35,17 @@ COLUMNS: tuple[tuple[str, str], ...] = (
     ("mark", " "),
     ("call", "Call as written"),
     ("length", "Length"),
-    ("mag_record", "Magnetic (record)"),
+    ("mag_record", "Mag. record"),
     ("true", "True"),
     ("grid", "Grid"),
-    ("mag_target", "Magnetic (target)"),
+    ("mag_target", "Mag. target"),
     ("back", "Back"),
 )
 
-#: Characters of the call shown in the table (the editor shows all of it).
-CALL_WIDTH = 30
+#: The call column takes the width the other columns leave, but never less than this many
+#: characters (the table then scrolls sideways to the bearings; the editor shows the call
+#: whole). A longer call is cut with "…".
+CALL_MIN_WIDTH = 20
 
 #: Names of the course fields the editor can edit, as the user sees them.
 FIELD_TITLES = {
@@ -52,6 +54,16 @@ FIELD_TITLES = {
     "found": "found position",
     "every": "every (points along)",
     "note": "note",
+}
+
+
+#: An example of its own kind in each editor field, shown while the field is empty.
+FIELD_EXAMPLES = {
+    "call": "e.g. N 45 30 E 20 perches to a white oak (or paste a deed)",
+    "back": "e.g. S 45 30 W (the bearing read back from the far end)",
+    "found": "e.g. easting=432100.5, northing=4521300.2  or  lat=42.87, lon=-76.19",
+    "every": "e.g. 5 chains (a point every so far along the course)",
+    "note": "e.g. corner stone found in the fence line",
 }
 
 
@@ -70,11 +82,10 @@ class CallRow:
     message: str = ""
 
     def cells(self, number: int) -> tuple[str, ...]:
-        call = self.call if len(self.call) <= CALL_WIDTH else self.call[: CALL_WIDTH - 1] + "…"
         return (
             str(number),
             self.mark,
-            call,
+            self.call,
             self.length,
             self.mag_record,
             self.true,
@@ -92,17 +103,19 @@ class CallTable(ScrollView, can_focus=True):
     no more to show than the rows on the screen. The heading stays at the top.
     """
 
+    # Priority: the application acts on these before it reads the next key, so a key typed
+    # straight after Enter or ``a`` goes into the editor they open, never to the table.
     BINDINGS = [
-        Binding("enter", "edit('call')", "Edit call"),
-        Binding("a", "add_after", "Add course"),
-        Binding("i", "insert_before", "Insert above"),
-        Binding("delete,x", "delete_course", "Delete course"),
+        Binding("enter", "edit('call')", "Edit call", priority=True),
+        Binding("a", "add_after", "Add course", priority=True),
+        Binding("i", "insert_before", "Insert above", priority=True),
+        Binding("delete,x", "delete_course", "Delete course", priority=True),
         Binding("alt+up,left_square_bracket", "move(-1)", "Move up", show=False),
         Binding("alt+down,right_square_bracket", "move(1)", "Move down", show=False),
-        Binding("b", "edit('back')", "Back bearing", show=False),
-        Binding("f", "edit('found')", "Found position", show=False),
-        Binding("e", "edit('every')", "Every", show=False),
-        Binding("n", "edit('note')", "Note", show=False),
+        Binding("b", "edit('back')", "Back bearing", show=False, priority=True),
+        Binding("f", "edit('found')", "Found position", show=False, priority=True),
+        Binding("e", "edit('every')", "Every", show=False, priority=True),
+        Binding("n", "edit('note')", "Note", show=False, priority=True),
         Binding("up", "cursor(-1)", "Previous course", show=False),
         Binding("down", "cursor(1)", "Next course", show=False),
         Binding("pageup", "page(-1)", "Page up", show=False),
@@ -165,6 +178,8 @@ class CallTable(ScrollView, can_focus=True):
         self._widths = [len(h) for _k, h in COLUMNS]
         self._cache: dict[tuple, Strip] = {}
         self._sized: tuple[Size, Size, Size, Size] | None = None
+        #: Called with each EditRequested or StructureRequested instead of posting it.
+        self.handler: Callable[[Message], None] | None = None
 
     def _size_updated(
         self, size: Size, virtual_size: Size, container_size: Size, layout: bool = True
@@ -228,7 +243,22 @@ class CallTable(ScrollView, can_focus=True):
 
     # -- drawing -------------------------------------------------------------------------
     def _total_width(self) -> int:
-        return sum(w + 2 for w in self._widths)
+        return sum(w + 2 for w in self._shown_widths())
+
+    def _shown_widths(self) -> list[int]:
+        """Column widths as drawn: the call's own width where the table is wide enough, else
+        the width the other columns leave (at least :data:`CALL_MIN_WIDTH`)."""
+        widths = list(self._widths)
+        others = sum(w + 2 for c, w in enumerate(widths) if c != 2)
+        room = self.size.width - others - 2
+        widths[2] = max(min(widths[2], room), min(widths[2], CALL_MIN_WIDTH), len(COLUMNS[2][1]))
+        return widths
+
+    def on_resize(self) -> None:
+        self._cache.clear()
+        size = Size(self._total_width(), len(self._rows) + 1)
+        if size != self.virtual_size:
+            self.virtual_size = size
 
     def notify_style_update(self) -> None:
         super().notify_style_update()
@@ -236,7 +266,9 @@ class CallTable(ScrollView, can_focus=True):
 
     def _line_text(self, cells: tuple[str, ...]) -> str:
         parts = []
-        for c, (text, width) in enumerate(zip(cells, self._widths, strict=True)):
+        for c, (text, width) in enumerate(zip(cells, self._shown_widths(), strict=True)):
+            if len(text) > width:
+                text = text[: width - 1] + "…"
             parts.append(" " + (text.rjust(width) if c == 0 else text.ljust(width)) + " ")
         return "".join(parts)
 
@@ -306,23 +338,32 @@ class CallTable(ScrollView, can_focus=True):
             self.move_cursor(row=int(self.scroll_offset.y) + event.y - 1)
 
     # -- actions -------------------------------------------------------------------------
+    def _send(self, message: Message) -> None:
+        """Hand ``message`` to :attr:`handler` at once when one is set (so the focus has moved
+        to the editor before the next key is read: keys typed straight after Enter or ``a``
+        go into the editor), else post it."""
+        if self.handler is not None:
+            self.handler(message)
+        else:
+            self.post_message(message)
+
     def action_edit(self, field: str) -> None:
         if self._rows:
-            self.post_message(self.EditRequested(self.current_index, field))
+            self._send(self.EditRequested(self.current_index, field))
 
     def action_add_after(self) -> None:
-        self.post_message(self.StructureRequested("insert", self.current_index + 1))
+        self._send(self.StructureRequested("insert", self.current_index + 1))
 
     def action_insert_before(self) -> None:
-        self.post_message(self.StructureRequested("insert", self.current_index))
+        self._send(self.StructureRequested("insert", self.current_index))
 
     def action_delete_course(self) -> None:
         if self._rows:
-            self.post_message(self.StructureRequested("delete", self.current_index))
+            self._send(self.StructureRequested("delete", self.current_index))
 
     def action_move(self, delta: int) -> None:
         if self._rows:
-            self.post_message(self.StructureRequested("move", self.current_index, delta))
+            self._send(self.StructureRequested("move", self.current_index, delta))
 
 
 class CallInput(Input):
@@ -361,7 +402,11 @@ def looks_like_description(text: str) -> bool:
 class CallEditor(Vertical):
     """Edits one field of one course as free text; shows the parser's message."""
 
-    BINDINGS = [Binding("escape", "done", "Back to table", show=False)]
+    # Priority, so that a key typed straight after Enter goes to the table, not the call.
+    BINDINGS = [
+        Binding("escape", "done", "Back to table", show=False, priority=True),
+        Binding("enter", "done", "Done: back to the table", show=False, priority=True),
+    ]
 
     DEFAULT_CSS = """
     CallEditor { height: auto; }
@@ -389,13 +434,14 @@ class CallEditor(Vertical):
         self.index = 0
         self.field = "call"
         self.session = 0
+        #: Called with Finished instead of posting it (the desk moves the focus at once).
+        self.handler: Callable[[Message], None] | None = None
 
     def compose(self) -> ComposeResult:
         with Horizontal():
             yield Label("Course 1 · call", id="editor-label")
             yield CallInput(
-                placeholder="e.g. N 45 30 E 20 perches to a white oak (or paste a deed)",
-                id="editor-input",
+                placeholder=FIELD_EXAMPLES["call"], id="editor-input", select_on_focus=False
             )
         yield SteadyText("", id="editor-message")
 
@@ -406,6 +452,7 @@ class CallEditor(Vertical):
             f"Course {index + 1} · {FIELD_TITLES.get(field, field)}"
         )
         box = self.query_one("#editor-input", Input)
+        box.placeholder = FIELD_EXAMPLES.get(field, "")
         with box.prevent(Input.Changed):
             box.value = value
         box.cursor_position = len(value)
@@ -416,7 +463,8 @@ class CallEditor(Vertical):
         self.query_one("#editor-message", SteadyText).show_text(text, hold=hold)
 
     def focus_input(self) -> None:
-        self.query_one("#editor-input", Input).focus()
+        """Move the keyboard into the field now (the next key read goes there)."""
+        self.screen.set_focus(self.query_one("#editor-input", Input))
 
     def on_input_changed(self, event: Input.Changed) -> None:
         event.stop()
@@ -424,7 +472,10 @@ class CallEditor(Vertical):
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
         event.stop()
-        self.post_message(self.Finished())
+        self.action_done()
 
     def action_done(self) -> None:
-        self.post_message(self.Finished())
+        if self.handler is not None:
+            self.handler(self.Finished())
+        else:
+            self.post_message(self.Finished())

@@ -11,6 +11,7 @@ from collections.abc import Mapping
 from typing import Any
 
 from textual.app import ComposeResult
+from textual.binding import Binding
 from textual.containers import VerticalScroll
 from textual.message import Message
 from textual.widgets import Checkbox, Input, Label, Select, Static
@@ -27,6 +28,7 @@ NUMBER_KEYS = frozenset(
         "place.easting",
         "place.northing",
         "record.vara_inches",
+        "record.attraction_tolerance",
     }
 )
 #: Keys chosen from a short list: key -> choices.
@@ -48,16 +50,19 @@ CHOICE_KEYS: dict[str, tuple[str, ...]] = {
 }
 #: Hints shown as placeholders.
 PLACEHOLDERS = {
-    "place.lat": "degrees, north +",
-    "place.lon": "degrees, east +",
-    "place.easting": "or grid easting",
-    "place.northing": "or grid northing",
+    "place.lat": "e.g. 42.8731 (north +)",
+    "place.lon": "e.g. -76.1934 (east +)",
+    "place.easting": "or grid, e.g. 432100.5",
+    "place.northing": "or grid, e.g. 4747300.2",
+    "grid.crs": "auto (UTM), or e.g. EPSG:2261",
+    "title": "e.g. Glen Tract, lot 12",
     "place.height_m": "0",
-    "record.date": "YYYY-MM-DD",
+    "record.date": "e.g. 1854-05-12",
     "record.declination": "auto, or e.g. 3°10' W",
     "record.model": "auto",
     "record.vara_inches": "only when varas occur",
-    "target.date": "today",
+    "record.attraction_tolerance": "auto: the bearings' precision",
+    "target.date": "today, or e.g. 2025-06-01",
     "target.model": "auto",
 }
 
@@ -97,15 +102,37 @@ def shown_text(value: Any) -> str:
     return str(value)
 
 
+#: Columns from which the form shows each label beside its field (label: value).
+TWO_COLUMNS_FROM = 48
+
+
 class JobForm(VerticalScroll):
-    """The settings of the job, one labelled field per document key."""
+    """The settings of the job, one labelled field per document key: label and field side
+    by side where the pane is wide enough (every setting on one line), else the label above.
+    """
 
     DEFAULT_CSS = """
-    JobForm { padding: 0 1; }
-    JobForm Label { margin-top: 1; color: $text-muted; }
-    JobForm .hint { color: $text-muted; text-style: italic; height: auto; }
-    JobForm Input.-invalid { border: tall $error; }
+    JobForm { padding: 0 1; layout: grid; grid-size: 1; grid-rows: auto; grid-gutter: 0 1; }
+    JobForm.-two-columns { grid-size: 2; grid-columns: 24 1fr; }
+    JobForm Label { color: $text-muted; height: 1; }
+    JobForm.-two-columns Label { text-align: right; }
+    JobForm Input, JobForm Select, JobForm Checkbox { height: 1; margin-bottom: 1; }
+    JobForm.-two-columns Input, JobForm.-two-columns Select,
+    JobForm.-two-columns Checkbox { margin-bottom: 0; }
+    JobForm Input { background: $boost; padding: 0 1; }
+    JobForm Checkbox { width: 1fr; }
+    JobForm Input:focus { background: $accent 35%; text-style: bold; }
+    JobForm Checkbox:focus, JobForm Select:focus-within { background: $accent 35%; }
+    JobForm .hint { color: $text-muted; text-style: italic; height: auto; column-span: 2; }
+    JobForm .-refused { background: $error 35%; }
     """
+
+    # Priority: the focus moves before the next key is read, so typing straight after Tab
+    # goes into the next field.
+    BINDINGS = [
+        Binding("tab", "move(1)", "Next setting", show=False, priority=True),
+        Binding("shift+tab", "move(-1)", "Previous setting", show=False, priority=True),
+    ]
 
     class Changed(Message):
         """The user changed setting ``key`` to ``value`` (``None``: removed)."""
@@ -126,18 +153,33 @@ class JobForm(VerticalScroll):
         keys = list(SETTING_LABELS)
         for key in keys:
             label = SETTING_LABELS[key]
-            if key == "closed":
-                yield Checkbox(label, value=True, id=_widget_id(key))
-                continue
             yield Label(label, id=_widget_id(key) + "-label")
-            if key in CHOICE_KEYS:
+            if key == "closed":
+                yield Checkbox(
+                    "returns to the beginning",
+                    value=True,
+                    id=_widget_id(key),
+                    compact=True,
+                )
+            elif key in CHOICE_KEYS:
                 yield Select(
-                    [(c, c) for c in CHOICE_KEYS[key]], allow_blank=True, id=_widget_id(key)
+                    [(c, c) for c in CHOICE_KEYS[key]],
+                    allow_blank=True,
+                    id=_widget_id(key),
+                    compact=True,
                 )
             else:
-                yield Input(placeholder=PLACEHOLDERS.get(key, ""), id=_widget_id(key))
+                yield Input(
+                    placeholder=PLACEHOLDERS.get(key, ""),
+                    id=_widget_id(key),
+                    compact=True,
+                    select_on_focus=False,
+                )
             if key == "grid.crs":
                 yield Static("", id="crs-hint", classes="hint")
+
+    def on_resize(self) -> None:
+        self.set_class(self.size.width >= TWO_COLUMNS_FROM, "-two-columns")
 
     # -- data ----------------------------------------------------------------------------
     def load(self, doc: Mapping[str, Any]) -> None:
@@ -153,6 +195,8 @@ class JobForm(VerticalScroll):
                     widget.value = value if value in CHOICE_KEYS[key] else Select.NULL
             elif isinstance(widget, Input):
                 text = shown_text(value)
+                # the new document's title is typed over; every other value is edited
+                widget.select_on_focus = key == "title" and text == "Untitled traverse"
                 if widget.value != text:
                     with widget.prevent(Input.Changed):
                         widget.value = text
@@ -163,17 +207,22 @@ class JobForm(VerticalScroll):
 
     def mark_invalid(self, keys: set[str]) -> None:
         """Mark the fields of ``keys`` as holding a value the document check refused: a red
-        border, and ``✗`` before the label (so it reads without colour)."""
+        background, and ``✗`` before the label (so it reads without colour)."""
         if keys == self._invalid:
             return
         self._invalid = set(keys)
         for key, text in SETTING_LABELS.items():
             widget = self.query_one("#" + _widget_id(key))
-            widget.set_class(key in keys, "-invalid")
-            if key == "closed":
-                continue
+            widget.set_class(key in keys, "-refused")
             label = self.query_one("#" + _widget_id(key) + "-label", Label)
             label.update(f"✗ {text}" if key in keys else text)
+
+    def action_move(self, step: int) -> None:
+        """Focus the next (``step`` 1) or previous (-1) field of the whole screen, now."""
+        if step > 0:
+            self.screen.focus_next()
+        else:
+            self.screen.focus_previous()
 
     # -- events --------------------------------------------------------------------------
     def on_descendant_focus(self) -> None:

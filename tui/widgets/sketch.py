@@ -31,6 +31,8 @@ CELL_ASPECT = 2.0
 LINE_STYLE = "bold #3b82c4"
 GAP_STYLE = "#c2410c"
 NORTH_STYLE = "#6b7280"
+#: Cells between the north arrows drawn beside the figure.
+NORTH_COLUMNS = 4
 
 
 @dataclass(frozen=True)
@@ -172,27 +174,43 @@ class TraverseSketch(PlotWidget):
         fig = self._figure
         if fig is None or fig.east.size == 0:
             return
-        xs, ys = self._extent_points(fig)
         self._fit_size = size or self.content_size
-        x0, x1, y0, y1 = equal_axes_limits(xs, ys, *self._area(self._fit_size))
+        width, height = self._area(self._fit_size)
+        # the figure, then room on its right for the norths (NORTH_COLUMNS cells)
+        x0, x1, y0, y1 = equal_axes_limits(fig.east, fig.north, width, height)
+        per_col = (x1 - x0) / max(width, 1)
+        east_max = float(np.max(fig.east)) + per_col * NORTH_COLUMNS * len(fig.norths)
+        xs = np.append(fig.east, east_max)
+        ys = np.append(fig.north, float(np.mean(fig.north)))
+        x0, x1, y0, y1 = equal_axes_limits(xs, ys, width, height)
         self.set_xlimits(x0, x1)
         self.set_ylimits(y0, y1)
-        if not self._drawing:  # the letters' places depend on the scale
+        if not self._drawing:  # the norths' places depend on the scale
             self._draw(refit=False)
 
-    def _arrow_length(self, fig: SketchFigure) -> float:
-        span = max(float(np.ptp(fig.east)), float(np.ptp(fig.north)), 1.0)
-        return 0.3 * span
-
-    def _extent_points(self, fig: SketchFigure) -> tuple[np.ndarray, np.ndarray]:
-        length = self._arrow_length(fig)
-        ex = [fig.east]
-        ny = [fig.north]
-        for mark in fig.norths:
+    def _draw_norths(self, fig: SketchFigure) -> None:
+        """The norths as short arrows beside the figure, on its right: each from its own
+        base, NORTH_COLUMNS cells apart, its letter above its tip, so no letter covers another
+        or the figure (the key under the sketch gives each angle)."""
+        width, height = self._area(self._fit_size)
+        per_col = (self._x_max - self._x_min) / max(width, 1)
+        per_row = (self._y_max - self._y_min) / max(height, 1)
+        if not (per_col > 0 and per_row > 0):
+            return
+        length = per_row * max(min(height // 3, 6), 2)
+        base_y = float(np.mean(fig.north)) - length / 2
+        east_max = float(np.max(fig.east))
+        for i, mark in enumerate(fig.norths):
+            base_x = east_max + per_col * NORTH_COLUMNS * (i + 0.6)
             a = math.radians(mark.azimuth_deg)
-            ex.append(np.array([length * math.sin(a)]))
-            ny.append(np.array([length * math.cos(a)]))
-        return np.concatenate(ex), np.concatenate(ny)
+            tip_x, tip_y = base_x + length * math.sin(a), base_y + length * math.cos(a)
+            self.plot(
+                [base_x, tip_x],
+                [base_y, tip_y],
+                hires_mode=HiResMode.BRAILLE,
+                line_style=NORTH_STYLE,
+            )
+            self.scatter([tip_x], [tip_y + per_row], marker=mark.letter, marker_style="bold")
 
     def render(self) -> RenderResult:
         """Draw the plot with one repaint of its canvas (the canvas would otherwise ask for a
@@ -232,27 +250,5 @@ class TraverseSketch(PlotWidget):
             gy = np.array([fig.north[-1], fig.north[0]])
             self.plot(gx, gy, line_style=GAP_STYLE, hires_mode=HiResMode.QUADRANT)
             self.scatter(gx[:1], gy[:1], marker="×", marker_style=f"bold {GAP_STYLE}")
-        length = self._arrow_length(fig)
-        width, height = self._area(self._fit_size)
-        per_col = (self._x_max - self._x_min) / max(width, 1)
-        per_row = (self._y_max - self._y_min) / max(height, 1)
-        taken: set[tuple[int, int]] = set()
-        letters = []
-        for mark in fig.norths:
-            a = math.radians(mark.azimuth_deg)
-            tip_x, tip_y = length * math.sin(a), length * math.cos(a)
-            self.plot(
-                [0.0, tip_x], [0.0, tip_y], hires_mode=HiResMode.BRAILLE, line_style=NORTH_STYLE
-            )
-            # the letter sits just beyond the tip; close norths share a cell, so it moves
-            # sideways to the next free cell (the key gives each angle)
-            x, y = tip_x + per_col * math.sin(a), tip_y + per_row * math.cos(a)
-            cell = (round(x / per_col), round(y / per_row)) if per_col and per_row else (0, 0)
-            while cell in taken:
-                cell = (cell[0] + 1, cell[1])
-                x += per_col
-            taken.add(cell)
-            letters.append((x, y, mark.letter))
-        for x, y, letter in letters:  # letters last, so no line covers them
-            self.scatter([x], [y], marker=letter, marker_style="bold")
+        self._draw_norths(fig)
         self.scatter(fig.east[:1], fig.north[:1], marker="◎", marker_style="bold")

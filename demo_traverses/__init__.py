@@ -1,0 +1,1 @@
+"""The demo traverse documents shipped with lodeline (invented places and names)."""
