@@ -240,6 +240,19 @@ def _part_error(part: str, exc: LodelineError, text: str) -> ParseError:
     return ParseError(f"{part}: {exc.message}", text=text, position=position)
 
 
+#: The longest call (or distance) read, in characters; a longer text is refused at once (the
+#: longest course of a deed is a few hundred characters).
+MAX_CALL_CHARS = 2000
+
+
+def _check_length(text: str, what: str) -> None:
+    if len(text) > MAX_CALL_CHARS:
+        raise ParseError(
+            f"{what} of {len(text):,} characters is too long (at most {MAX_CALL_CHARS:,})",
+            text=text[:40],
+        )
+
+
 def parse_distance(
     text: str,
     *,
@@ -255,6 +268,7 @@ def parse_distance(
     """
     if not isinstance(text, str):
         raise ParseError(f"a distance must be text, not {type(text).__name__}", text=str(text))
+    _check_length(text, "a distance")
     if not text.strip():
         raise ParseError("empty distance: nothing to read", text=text, position=0)
     r = Reader(text)
@@ -584,6 +598,7 @@ def parse_call(
     """
     if not isinstance(text, str):
         raise ParseError(f"a call must be text, not {type(text).__name__}", text=str(text))
+    _check_length(text, "a call")
     if not text.strip():
         raise ParseError("call: empty call, nothing to read", text=text, position=0)
     r = Reader(text)

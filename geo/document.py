@@ -120,7 +120,6 @@ from functools import lru_cache
 from pathlib import Path
 from typing import Annotated, Any, Literal
 
-import tomli_w
 from pydantic import (
     BaseModel,
     BeforeValidator,
@@ -274,8 +273,14 @@ class Place(_Table):
             raise _fail("lat", f"latitude {self.lat} is outside -90..90 degrees")
         if self.lon is not None and not -180.0 <= self.lon <= 180.0:
             raise _fail("lon", f"longitude {self.lon} is outside -180..180 degrees")
-        if not -12000.0 <= self.height_m <= 100000.0:
-            raise _fail("height_m", f"height {self.height_m} m is outside -12000..100000 m")
+        from geo.magnetic import HEIGHT_MAX_M, HEIGHT_MIN_M  # the one height range
+
+        if not HEIGHT_MIN_M <= self.height_m <= HEIGHT_MAX_M:
+            raise _fail(
+                "height_m",
+                f"height {self.height_m} m is outside {HEIGHT_MIN_M:.0f}..{HEIGHT_MAX_M:.0f} m "
+                "above the ellipsoid",
+            )
         return self
 
     @property
@@ -558,44 +563,53 @@ def document_to_dict(doc: Document) -> dict[str, Any]:
 # --------------------------------------------------------------------------------------------
 
 
-def _toml_value(value: Any) -> str:
-    """One TOML value (tomli-w formats it; floats keep their shortest round-trip form)."""
-    return tomli_w.dumps({"v": value})[len("v = ") :].rstrip("\n")
+#: Keys of a course written as an inline table (``found = { easting = …, northing = … }``).
+_INLINE = frozenset({"found"})
 
 
-def _toml_pairs(table: Mapping[str, Any]) -> str:
-    lines = []
-    for key, value in table.items():
-        if isinstance(value, Mapping):
-            inner = ", ".join(f"{k} = {_toml_value(v)}" for k, v in value.items())
-            lines.append(f"{key} = {{ {inner} }}")
-        else:
-            lines.append(f"{key} = {_toml_value(value)}")
-    return "".join(line + "\n" for line in lines)
+def dumps_document(
+    doc: Document, fmt: Literal["toml", "json"] = "toml", *, base: str | None = None
+) -> str:
+    """Serialise a document as TOML or as indented JSON with the same keys.
+
+    TOML without ``base``: tables in schema order, one ``[[course]]`` per course, ``found``
+    as an inline table. With ``base`` (the TOML text the document was read from), the text
+    is ``base`` changed only where the document differs from what ``base`` means: comments,
+    blank lines, key order and the written form of every untouched value stay as they were
+    (:func:`geo.toml_text.update_toml`). A ``base`` that is not a readable document gives
+    fresh text.
+    """
+    from geo.toml_text import update_toml
+
+    data = document_to_dict(doc)
+    if fmt == "toml" and base is not None:
+        old = _meaning(base)
+        if old is not None:
+            text = update_toml(base, data, old, _INLINE)
+            # the edited text must mean the document exactly, else it is written afresh
+            if text is not None and _meaning(text) == data:
+                return text
+    return dumps_mapping(data, fmt)
 
 
-def dumps_document(doc: Document, fmt: Literal["toml", "json"] = "toml") -> str:
-    """Serialise a document as TOML (tables in schema order, one ``[[course]]`` per course,
-    ``found`` as an inline table) or as indented JSON with the same keys."""
-    return dumps_mapping(document_to_dict(doc), fmt)
+def _meaning(text: str) -> dict[str, Any] | None:
+    """The normalised data of TOML text (as :func:`document_to_dict` gives it), or ``None``
+    when the text is not a document the schema reads."""
+    try:
+        return document_to_dict(loads_document(text, "toml", check=False))
+    except DocumentError:
+        return None
 
 
 def dumps_mapping(data: Mapping[str, Any], fmt: Literal["toml", "json"] = "toml") -> str:
-    """Serialise the mapping of a document (checked or not) as :func:`dumps_document` does."""
+    """Serialise the mapping of a document (checked or not) as fresh text: indented JSON, or
+    TOML with the plain keys first, then the tables in the mapping's order (the schema's),
+    one ``[[course]]`` per course (its events as ``[[course.at]]``), ``found`` inline."""
+    from geo.toml_text import dumps_toml
+
     if fmt == "json":
         return json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
-    top = {k: v for k, v in data.items() if not isinstance(v, Mapping | list | tuple)}
-    out = [_toml_pairs(top)]
-    for name in ("place", "grid", "record", "target", "plots"):
-        if name in data:
-            out.append(f"\n[{name}]\n" + _toml_pairs(data[name]))
-    for course in data.get("course", ()):
-        events = course.get("at", ())
-        pairs = {k: v for k, v in course.items() if k != "at"}
-        out.append("\n[[course]]\n" + _toml_pairs(pairs))
-        for event in events:
-            out.append("\n[[course.at]]\n" + _toml_pairs(event))
-    return "".join(out)
+    return dumps_toml(data, _INLINE)
 
 
 def _format_of(path: Path, file: str) -> str:
@@ -628,11 +642,35 @@ def load_mapping(path: str | os.PathLike[str]) -> Any:
     p = Path(path)
     file = str(path)
     fmt = _format_of(p, file)
+    return loads_mapping(read_document_bytes(p), fmt, file=file)  # type: ignore[arg-type]
+
+
+#: The largest document read, in bytes (a 5,000-course deed book is under 1 MB).
+MAX_DOCUMENT_BYTES = 50 * 1024 * 1024
+
+
+def read_document_bytes(path: str | os.PathLike[str]) -> bytes:
+    """The bytes of a document file: a regular file (after links) of at most
+    :data:`MAX_DOCUMENT_BYTES`. A device, a pipe or a folder is refused without waiting on
+    it. Raises :class:`DocumentError` naming the file."""
+    from geo.file_input import FileRefusedError, read_regular_file
+
     try:
-        raw = p.read_bytes()
-    except OSError as exc:
-        raise DocumentError(f"cannot be read: {exc.strerror or exc}", file=file) from None
-    return loads_mapping(raw, fmt, file=file)  # type: ignore[arg-type]
+        return read_regular_file(path, MAX_DOCUMENT_BYTES, what="traverse document")
+    except FileRefusedError as refused:
+        raise DocumentError(str(refused), file=str(path)) from None
+
+
+def read_document_text(path: str | os.PathLike[str]) -> str:
+    """The UTF-8 text of a document file (see :func:`read_document_bytes`)."""
+    raw = read_document_bytes(path)
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise DocumentError(
+            f"is not UTF-8 text (byte {exc.start} cannot be read)", file=str(path)
+        ) from None
+    return text[1:] if text.startswith("\ufeff") else text
 
 
 def loads_mapping(
@@ -682,18 +720,44 @@ def plain_values(data: Any) -> Any:
     return data
 
 
-def save_document(doc: Document, path: str | os.PathLike[str]) -> Path:
+def save_document(
+    doc: Document,
+    path: str | os.PathLike[str],
+    *,
+    base: str | os.PathLike[str] | None = None,
+    fresh: bool = False,
+) -> Path:
     """Write ``doc`` atomically to a ``.toml`` or ``.json`` file and return the path.
 
-    An existing file is kept as ``NAME.toml.bak`` (``NAME.json.bak``). The text is generated
-    before anything is touched, so a failure never leaves a damaged file.
+    This is the one way a document is saved. A TOML document is written as the edit of the
+    text it came from, so the surveyor's comments, the order of keys and the written form of
+    every value not edited are kept and only what changed is rewritten (see
+    :func:`dumps_document`). That text is read from ``base`` (the file the document was
+    opened from, for a "save as"), else from ``path`` itself when it exists; a file that is
+    not a readable TOML document gives fresh text. An existing file is kept as
+    ``NAME.toml.bak`` (``NAME.json.bak``). ``fresh=True`` writes fresh text whatever is
+    there (a new document saved over another file). The text is generated before anything
+    is touched, so a failure never leaves a damaged file. Raises
+    :class:`geo.errors.OutputError` naming the file when it cannot be written.
     """
     from geo.atomic import write_atomic
 
     p = Path(path)
     fmt = _format_of(p, str(path))
-    text = dumps_document(doc, fmt)  # type: ignore[arg-type]
+    edits = fmt == "toml" and not fresh
+    text = dumps_document(doc, fmt, base=_base_text(p, base) if edits else None)  # type: ignore[arg-type]
     return write_atomic(p, text, overwrite=True, backup=True)  # OutputError names the file
+
+
+def _base_text(path: Path, base: str | os.PathLike[str] | None) -> str | None:
+    """The TOML text a save edits: ``base`` if given, else ``path`` (``None``: none)."""
+    source = Path(base) if base is not None else path
+    if source.suffix.lower() != ".toml":
+        return None
+    try:
+        return read_document_text(source)
+    except DocumentError:
+        return None
 
 
 # --------------------------------------------------------------------------------------------
@@ -1197,7 +1261,8 @@ def document_problems(doc: Document, *, file: str | None = None) -> list[Documen
         return problems
     for i, course in enumerate(doc.course, start=1):
         try:
-            previous = _parse_course(course, i, previous, doc, ctx_items, file).azimuth_deg
+            parsed = _parse_course(course, i, previous, doc, ctx_items, file)
+            previous = parsed.azimuth_deg
         except LodelineError as err:
             problems.append(
                 err if isinstance(err, DocumentError) else _locate(err, file, i, "call")

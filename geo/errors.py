@@ -7,6 +7,20 @@ as its one-line message and exits with status 2.
 
 from __future__ import annotations
 
+#: An error line longer than this is cut in its middle (a value echoed whole could be
+#: megabytes long); :func:`clip` cuts a single value to fewer characters.
+MAX_MESSAGE_CHARS = 600
+
+
+def clip(value: object, limit: int = 80) -> str:
+    """``value`` as text of at most ``limit`` characters, on one line: a longer text keeps
+    its start and end around "…" (for echoing what the user gave in an error line)."""
+    text = " ".join(str(value).split())
+    if len(text) <= limit:
+        return text
+    head = max(1, (limit - 1) * 2 // 3)
+    return text[:head] + "…" + text[len(text) - (limit - 1 - head) :]
+
 
 class LodelineError(Exception):
     """Base of every error the core raises on bad input.
@@ -71,7 +85,10 @@ class LodelineError(Exception):
         if self.field is not None:
             parts.append(f"'{self.field}'")
         prefix = ": ".join(parts)
-        return f"{prefix}: {self.message}" if prefix else self.message
+        line = f"{prefix}: {self.message}" if prefix else self.message
+        if "\n" in line or len(line) > MAX_MESSAGE_CHARS:  # always one bounded line
+            line = clip(line, MAX_MESSAGE_CHARS)
+        return line
 
 
 class ParseError(LodelineError):

@@ -263,35 +263,29 @@ def with_found(data: Mapping[str, Any], plan: FoundPlan) -> dict[str, Any]:
     return out
 
 
-def _toml_with_found(text: str, plan: FoundPlan) -> str:
-    import tomlkit
-
-    doc = tomlkit.parse(text)
-    courses = doc["course"]
-    for m in plan.matched:
-        inner = ", ".join(f"{k} = {v!r}" for k, v in m.found.items())
-        table = tomlkit.parse(f"v = {{ {inner} }}\n")["v"]
-        courses[m.course - 1]["found"] = table  # type: ignore[index]
-    out = tomlkit.dumps(doc)
-    return out if out.endswith("\n") else out + "\n"
-
-
 def save_found(path: str | Path, plan: FoundPlan) -> Path:
     """Write the matched ``found`` values into the document at ``path`` (see the module
-    docstring); return the path. Raises DocumentError or OutputError naming the file."""
+    docstring); return the path. A TOML document is saved through
+    :func:`geo.document.save_document`, which edits its text: only the ``found`` lines change.
+    Raises DocumentError or OutputError naming the file."""
     from geo.atomic import write_atomic
-    from geo.document import _format_of, loads_document
-    from geo.errors import DocumentError
+    from geo.document import (
+        _format_of,
+        document_from_dict,
+        document_to_dict,
+        loads_document,
+        read_document_text,
+        save_document,
+    )
 
     p = Path(path)
     fmt = _format_of(p, str(p))
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise DocumentError(f"cannot be read: {exc}", file=str(p)) from None
+    text = read_document_text(p)
     if fmt == "toml":
-        new = _toml_with_found(text, plan)
-    else:
-        new = json.dumps(with_found(json.loads(text), plan), indent=2, ensure_ascii=False) + "\n"
+        data = document_to_dict(loads_document(text, "toml", file=str(p), check=False))
+        data["course"] = [dict(c) for c in data.get("course", ())]
+        doc = document_from_dict(with_found(data, plan), file=str(p))  # never save a bad one
+        return save_document(doc, p)
+    new = json.dumps(with_found(json.loads(text), plan), indent=2, ensure_ascii=False) + "\n"
     loads_document(new, fmt, file=str(p))  # type: ignore[arg-type]  # never save a bad document
     return write_atomic(p, new, overwrite=True, backup=True)

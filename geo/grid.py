@@ -19,16 +19,23 @@ repeats the check for every CRS it uses).
 
 from __future__ import annotations
 
+import json
 import math
+import re
 import threading
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
+import pyproj.network
 from numpy.typing import ArrayLike, NDArray
 from pyproj import CRS, Proj, Transformer
 from pyproj.exceptions import CRSError, ProjError
 
-from geo.errors import GridError, InputError
+from geo.errors import GridError, InputError, clip
+
+# No network at run time: PROJ never fetches grids from its content delivery network.
+pyproj.network.set_network_enabled(False)
 
 __all__ = [
     "AREA_MARGIN_DEG",
@@ -107,7 +114,83 @@ _local = threading.local()  # pyproj transformers must not be shared between thr
 
 
 def _describe(crs: str | CRS) -> str:
-    return crs if isinstance(crs, str) else crs.name
+    return clip(crs, 60) if isinstance(crs, str) else crs.name
+
+
+#: PROJ string parameters that name a file PROJ would open (grids, init files, models).
+_FILE_KEYS = frozenset(
+    {
+        "nadgrids",
+        "grids",
+        "geoidgrids",
+        "init",
+        "file",
+        "model",
+        "catalog",
+        "xy_grids",
+        "z_grids",
+        "hgridshift",
+        "vgridshift",
+    }
+)
+_PROJ_KEY = re.compile(r"(?:^|[\s+])\+?([A-Za-z_][A-Za-z0-9_]*)\s*=")
+#: The longest CRS definition read (a WKT of a compound CRS is a few kilobytes).
+MAX_CRS_CHARS = 20_000
+
+
+def check_crs_definition(text: str) -> None:
+    """Refuse a CRS definition that would make PROJ read a file, or is too long to be one.
+
+    Accepted: authority codes ("EPSG:2271"), WKT, PROJJSON and PROJ strings without
+    parameters that name files (``nadgrids``, ``grids``, ``geoidgrids``, ``init``, ``file``,
+    ``model`` ...). WKT may not name a parameter file (``PARAMETERFILE``) and PROJJSON no
+    parameter given as a file name. Raises :class:`GridError`.
+    """
+    if len(text) > MAX_CRS_CHARS:
+        raise GridError(
+            f"a CRS definition of {len(text):,} characters is longer than any "
+            f"({MAX_CRS_CHARS:,} at most)"
+        )
+    stripped = text.strip()
+    if stripped.startswith("{"):
+        _check_projjson(stripped)
+        return
+    if re.search(r"PARAMETERFILE|PARAMETER_FILE", text, re.I):
+        raise GridError(f"{clip(text, 60)!r} names a parameter file: give a CRS without grid files")
+    named = {key.lower() for key in _PROJ_KEY.findall(text)}
+    files = sorted(k for k in named if k in _FILE_KEYS or k.endswith("grids"))
+    if files:
+        keys = ", ".join(f"+{k}" for k in files)
+        raise GridError(
+            f"{clip(text, 60)!r}: {keys} would read a file; give the CRS by its EPSG code, "
+            "WKT or a PROJ string without file parameters"
+        )
+
+
+def _check_projjson(text: str) -> None:
+    try:
+        data = json.loads(text)
+    except ValueError:
+        return  # not JSON: PROJ refuses it, and the error says so
+    stack = [data]
+    while stack:
+        node = stack.pop()
+        if isinstance(node, dict):
+            if isinstance(node.get("value"), str) or "parameter_file" in node:
+                raise GridError(
+                    f"the PROJJSON CRS names a file ({clip(node.get('value'), 40)!r}): give a "
+                    "CRS without grid files"
+                )
+            stack.extend(node.values())
+        elif isinstance(node, list):
+            stack.extend(node)
+
+
+def _proj_message(exc: Exception) -> str:
+    """PROJ's error as one short line (its text can span lines and repeat the input)."""
+    text = " ".join(str(exc).split())
+    text = re.sub(r"^.*?\(Internal Proj Error: ", "", text).rstrip(")")
+    return clip(text, 160)
 
 
 def projected_crs(crs: str | CRS) -> CRS:
@@ -116,10 +199,16 @@ def projected_crs(crs: str | CRS) -> CRS:
     Accepts anything ``pyproj.CRS.from_user_input`` reads ("EPSG:2271", WKT, a PROJ string).
     A compound CRS is reduced to its projected horizontal part.
     """
+    if isinstance(crs, str):
+        check_crs_definition(crs)
     try:
-        obj = CRS.from_user_input(crs)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # PROJ's deprecation notes; errors still raise
+            obj = CRS.from_user_input(crs)
     except (CRSError, ProjError, TypeError, ValueError) as exc:
-        raise GridError(f"cannot build the coordinate reference system {crs!r}: {exc}") from None
+        raise GridError(
+            f"cannot build the coordinate reference system {_describe(crs)!r}: {_proj_message(exc)}"
+        ) from None
     if obj.is_compound:
         horizontal = [sub for sub in obj.sub_crs_list if sub.is_projected]
         if horizontal:
@@ -145,7 +234,15 @@ def _grid(crs: str | CRS) -> _Grid:
         cache = _local.cache = {}
     grid = cache.get(key)
     if grid is None:
-        grid = cache[key] = _Grid(key, projected_crs(crs))
+        obj = projected_crs(crs)
+        try:
+            built = _Grid(clip(key, 60), obj)
+        except (CRSError, ProjError, ValueError, TypeError) as exc:
+            raise GridError(
+                f"the coordinate reference system {_describe(crs)!r} cannot be used: "
+                f"{_proj_message(exc)}"
+            ) from None
+        grid = cache[key] = built
     return grid
 
 
@@ -169,10 +266,10 @@ def _check_geographic(lat: NDArray[np.float64], lon: NDArray[np.float64]) -> Non
         raise InputError("latitude and longitude must be finite numbers")
     if np.any(np.abs(lat) > 90.0):
         bad = float(lat[np.abs(lat) > 90.0].flat[0])
-        raise InputError(f"latitude {bad:g} is outside -90..90 degrees", field="lat")
+        raise InputError(f"latitude {bad!r} is outside -90..90 degrees", field="lat")
     if np.any(np.abs(lon) > 180.0):
         bad = float(lon[np.abs(lon) > 180.0].flat[0])
-        raise InputError(f"longitude {bad:g} is outside -180..180 degrees", field="lon")
+        raise InputError(f"longitude {bad!r} is outside -180..180 degrees", field="lon")
 
 
 def _check_area(grid: _Grid, lat: NDArray[np.float64], lon: NDArray[np.float64]) -> None:

@@ -111,17 +111,21 @@ def validate_position(
     h = _checked(height_m, "height_m")
     bad = np.abs(la) > LAT_LIMIT
     if bad.any():
-        raise InputError(f"latitude {la[bad].flat[0]:g} is outside -90..90 degrees", field="lat")
+        raise InputError(
+            f"latitude {float(la[bad].flat[0])!r} is outside -90..90 degrees", field="lat"
+        )
     bad = (lo < -180.0) | (lo > 360.0) | ~np.isfinite(lo)
     if bad.any():
         raise InputError(
-            f"longitude {lo[bad].flat[0]:g} is outside -180..180 (or 0..360) degrees", field="lon"
+            f"longitude {float(lo[bad].flat[0])!r} is outside -180..180 (or 0..360) degrees",
+            field="lon",
         )
     lo = np.where(lo > 180.0, lo - 360.0, lo)
     bad = (h < HEIGHT_MIN_M) | (h > HEIGHT_MAX_M) | ~np.isfinite(h)
     if bad.any():
         raise InputError(
-            f"height {h[bad].flat[0]:g} m is outside -1000..100000 m above the ellipsoid",
+            f"height {float(h[bad].flat[0])!r} m is outside {HEIGHT_MIN_M:.0f}.."
+            f"{HEIGHT_MAX_M:.0f} m above the ellipsoid",
             field="height_m",
         )
     return la, lo, h

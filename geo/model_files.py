@@ -29,6 +29,7 @@ from __future__ import annotations
 import math
 import os
 import re
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -39,6 +40,16 @@ from geo.synthesis import SphericalHarmonicModel, coefficient_count, coefficient
 #: Formats understood by :func:`read_model_file`.
 FORMATS = ("shc", "cof", "gufm")
 
+#: Bounds on what a model file may hold (a larger file or value is refused, naming the line):
+#: the highest degree (the readers' own; WMMHR2025 is degree 133), the file size, and the
+#: magnitude of a coefficient. A main-field Gauss coefficient is under 10^5 nT (|g10| is about
+#: 3 x 10^4 nT: common practice, IGRF tables) and its yearly change under 10^3 nT/yr (the
+#: largest in WMM2025 is about 25 nT/yr).
+MAX_DEGREE = 200
+MAX_MODEL_BYTES = 32 * 1024 * 1024
+MAX_COEFFICIENT_NT = 1.0e5
+MAX_RATE_NT_PER_YEAR = 1.0e3
+
 _NAME_OK = re.compile(r"[^a-z0-9]+")
 
 
@@ -46,12 +57,19 @@ def _fail(path: str, line: int | None, message: str) -> ModelFileError:
     return ModelFileError(message, file=path, line=line)
 
 
-def _read_lines(path: str | os.PathLike[str]) -> tuple[str, list[str]]:
-    p = str(path)
+def _read_bytes(path: str | os.PathLike[str], head: int | None = None) -> bytes:
+    from geo.file_input import FileRefusedError, read_regular_file
+
     try:
-        raw = Path(p).read_bytes()
-    except OSError as exc:
-        raise _fail(p, None, f"cannot read model file ({exc.strerror or exc})") from None
+        return read_regular_file(path, MAX_MODEL_BYTES, what="model file", head=head)
+    except FileRefusedError as refused:
+        raise _fail(str(path), None, f"model file {refused}") from None
+
+
+def _read_lines(path: str | os.PathLike[str], head: int | None = None) -> tuple[str, list[str]]:
+    """The lines of a model file (``head``: of its first ``head`` bytes only)."""
+    p = str(path)
+    raw = _read_bytes(path, head)
     try:
         text = raw.decode("ascii")
     except UnicodeDecodeError as exc:
@@ -68,6 +86,21 @@ def _number(path: str, line: int, token: str, what: str) -> float:
     if not math.isfinite(value):
         raise _fail(path, line, f"{what} '{token}' is not a finite number")
     return value
+
+
+def _check_magnitude(
+    path: str, values: np.ndarray, lines: np.ndarray, bound: float, what: str
+) -> None:
+    """Refuse the first value beyond ``bound`` (``lines``: the line of each value)."""
+    bad = np.flatnonzero(~(np.abs(values) <= bound))
+    if bad.size:
+        k = int(bad[0])
+        raise _fail(
+            path,
+            int(lines.flat[k]),
+            f"{what} {float(values.flat[k]):.6g} is beyond {bound:.0e} in magnitude: not a "
+            "main-field model (refused)",
+        )
 
 
 def _integer(path: str, line: int, token: str, what: str) -> int:
@@ -121,12 +154,14 @@ def read_shc(
             _number(p, params_line, tokens[5], "start year"),
             _number(p, params_line, tokens[6], "end year"),
         )
-    if not 1 <= nmin <= nmax <= 200:
+    if not 1 <= nmin <= nmax <= MAX_DEGREE:
         raise _fail(
-            p, params_line, f"degrees nmin={nmin}, nmax={nmax} must satisfy 1<=nmin<=nmax<=200"
+            p,
+            params_line,
+            f"degrees nmin={nmin}, nmax={nmax} must satisfy 1<=nmin<=nmax<={MAX_DEGREE}",
         )
-    if ntimes < 1:
-        raise _fail(p, params_line, f"ntimes={ntimes} must be at least 1")
+    if not 1 <= ntimes <= 1000:
+        raise _fail(p, params_line, f"ntimes={ntimes} must be 1..1000")
     if order == 2 and ntimes < 2:
         raise _fail(p, params_line, "spline order 2 (piecewise linear) needs at least 2 epochs")
     if order == 1 and ntimes != 1:
@@ -188,6 +223,12 @@ def read_shc(
             f"{expected - len(seen)} coefficient line(s) missing (first: n={missing[0]} "
             f"m={missing[1]})",
         )
+    line_of = np.zeros(kcount, dtype=int)
+    for k, ln in seen.items():
+        line_of[k] = ln
+    _check_magnitude(
+        p, table, np.broadcast_to(line_of, table.shape), MAX_COEFFICIENT_NT, "coefficient"
+    )
     if ntimes == 1:
         if span is None or not span[1] > span[0]:
             raise _fail(p, params_line, "a single-epoch model must give its validity 'start end'")
@@ -245,8 +286,12 @@ def read_cof(
             raise _fail(p, ln, f"expected 'n m g h dg dh', found {len(toks)} fields")
         n = _integer(p, ln, toks[0], "degree n")
         m = _integer(p, ln, toks[1], "order m")
-        if not 1 <= n <= 200 or not 0 <= m <= n:
-            raise _fail(p, ln, f"degree/order n={n} m={m} out of range (1<=n<=200, 0<=m<=n)")
+        if not 1 <= n <= MAX_DEGREE or not 0 <= m <= n:
+            raise _fail(
+                p,
+                ln,
+                f"degree/order n={n} m={m} out of range (1<=n<={MAX_DEGREE}, 0<=m<=n)",
+            )
         if (n, m) in rows:
             raise _fail(p, ln, f"coefficient n={n} m={m} repeats line {rows[(n, m)][0]}")
         vals = [
@@ -255,6 +300,11 @@ def read_cof(
         ]
         if m == 0 and (vals[1] != 0.0 or vals[3] != 0.0):
             raise _fail(p, ln, f"h and dh/dt must be 0 for m=0 (n={n})")
+        lns = np.array([ln, ln])
+        _check_magnitude(p, np.array(vals[:2]), lns, MAX_COEFFICIENT_NT, f"coefficient n={n} m={m}")
+        _check_magnitude(
+            p, np.array(vals[2:]), lns, MAX_RATE_NT_PER_YEAR, f"yearly change n={n} m={m}"
+        )
         rows[(n, m)] = (ln, vals)
     if not ended:
         raise _fail(p, len(lines), "missing the closing line of 9s (file truncated?)")
@@ -368,8 +418,8 @@ def read_gufm(
     if len(values) < 2:
         raise _fail(p, 2, "line 2 must start with nmax and the number of B-splines")
     nmax_f, nspl_f = values[0], values[1]
-    if nmax_f != int(nmax_f) or not 1 <= nmax_f <= 200:
-        raise _fail(p, int(where[0]), f"nmax {nmax_f:g} must be an integer in 1..200")
+    if nmax_f != int(nmax_f) or not 1 <= nmax_f <= MAX_DEGREE:
+        raise _fail(p, int(where[0]), f"nmax {nmax_f:g} must be an integer in 1..{MAX_DEGREE}")
     if nspl_f != int(nspl_f) or nspl_f < 4:
         raise _fail(p, int(where[1]), f"number of B-splines {nspl_f:g} must be an integer >= 4")
     nmax, nspl = int(nmax_f), int(nspl_f)
@@ -392,6 +442,9 @@ def read_gufm(
     if not knots[order - 1] < knots[nspl]:
         raise _fail(p, int(where[2]), "the knots give an empty interval of validity")
     spl = values[2 + nknots :].reshape(nspl, kcount)
+    _check_magnitude(
+        p, spl, where[2 + nknots :].reshape(spl.shape), MAX_COEFFICIENT_NT, "coefficient"
+    )
     breaks, pp = bspline_to_piecewise(knots, order, spl)
     ident = name or default_name(p)
     head = head_title.split()
@@ -456,3 +509,67 @@ def read_model_file(
     if reader is None:
         raise _fail(str(path), None, f"unknown model format '{kind}' (known: {', '.join(FORMATS)})")
     return reader(path, name=name, title=title)
+
+
+# ------------------------------------------------------------------------------------ headers
+
+
+@dataclass(frozen=True)
+class ModelHeader:
+    """What a model file says of itself before its coefficients: degree and interval."""
+
+    nmax: int
+    start: float
+    end: float
+
+
+#: Bytes read for a header: the parameter and epoch lines of an SHC file, the title, counts
+#: and knots of a gufm1 file; the degree of a COF file is on its last coefficient line.
+_HEAD_BYTES = 64 * 1024
+
+
+def read_model_header(path: str | os.PathLike[str], fmt: str) -> ModelHeader:
+    """The degree and validity interval of a model file, read from its first (and for COF
+    its last) few kilobytes, not from the whole file. The full reader validates the rest.
+    Raises :class:`ModelFileError` naming the file."""
+    p = str(path)
+    try:
+        if fmt == "shc":
+            return _shc_header(p)
+        if fmt == "cof":
+            return _cof_header(p)
+        if fmt == "gufm":
+            return _gufm_header(p)
+    except (ValueError, IndexError):
+        pass
+    raise _fail(p, None, f"cannot read the {fmt} model header")
+
+
+def _shc_header(p: str) -> ModelHeader:
+    _, lines = _read_lines(p, head=_HEAD_BYTES)
+    content = [t.split() for t in lines if t.strip() and not t.strip().startswith("#")]
+    params, epochs = content[0], [float(t) for t in content[1]]
+    if int(params[2]) == 1:
+        return ModelHeader(int(params[1]), float(params[5]), float(params[6]))
+    return ModelHeader(int(params[1]), epochs[0], epochs[-1])
+
+
+def _cof_header(p: str) -> ModelHeader:
+    from geo.file_input import FileRefusedError, read_tail
+
+    _, lines = _read_lines(p, head=4096)
+    epoch = float(next(t for t in lines if t.strip()).split()[0])
+    try:
+        tail = read_tail(p, 4096).decode("ascii", "replace").splitlines()
+    except FileRefusedError as refused:
+        raise _fail(p, None, f"model file {refused}") from None
+    rows = [t.split() for t in tail if t.strip() and set(t.strip()) != {"9"}]
+    return ModelHeader(int(rows[-1][0]), epoch, epoch + 5.0)
+
+
+def _gufm_header(p: str) -> ModelHeader:
+    _, lines = _read_lines(p, head=_HEAD_BYTES)
+    numbers = " ".join(lines[1:-1]).replace("D", "E").split()
+    nmax, nspl = int(float(numbers[0])), int(float(numbers[1]))
+    knots = [float(t) for t in numbers[2 : 2 + nspl + 4]]
+    return ModelHeader(nmax, knots[3], knots[nspl])

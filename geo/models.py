@@ -166,6 +166,26 @@ def load_model(name_or_info: str | ModelInfo) -> SphericalHarmonicModel:
     return _load(str(info.path), info.fmt, info.name, info.title, st.st_mtime_ns, st.st_size)
 
 
+def model_header(info: ModelInfo):
+    """The degree and interval of a model (:class:`geo.model_files.ModelHeader`), read from
+    the file's header only (cached while the file is unchanged): listing the models, or
+    choosing one for 'auto', does not read every model whole."""
+    try:
+        st = info.path.stat()
+    except OSError as exc:
+        raise ModelFileError(
+            f"cannot read model file ({exc.strerror})", file=str(info.path)
+        ) from None
+    return _header(str(info.path), info.fmt, st.st_mtime_ns, st.st_size)
+
+
+@functools.lru_cache(maxsize=64)
+def _header(path: str, fmt: str, mtime_ns: int, size: int):
+    from geo.model_files import read_model_header
+
+    return read_model_header(path, fmt)
+
+
 def _range_error(year: float, what: str, index: int | None) -> ModelRangeError:
     sep = " " if what.endswith(" or") else "; "
     err = ModelRangeError(f"date {year:.4f} is outside {what}{sep}{REMEDIES}", field="date")
@@ -233,16 +253,25 @@ def resolve(name: str, years: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     if blending.any():
         users = sorted(user_models(), key=lambda i: (i.name != PREFERRED_HISTORICAL, i.name))
         for info in users:
-            model = load_model(info)
-            if model.start <= BLEND_START and model.end >= BLEND_END:
+            try:
+                head = model_header(info)  # only the header, unless it is used
+            except ModelFileError:
+                continue  # 'lodeline models' lists it as unreadable
+            if head.start <= BLEND_START and head.end >= BLEND_END:
+                load_model(info)  # validates the whole file before its name is used
                 names[blending] = blend_key(info.name)
                 break
     if not ok.all():
         if users is None:
             users = sorted(user_models(), key=lambda i: (i.name != PREFERRED_HISTORICAL, i.name))
         for info in users:
-            model = load_model(info)
-            take = ~ok & (yrs >= model.start) & (yrs < model.end) & (yrs < default.start)
+            try:
+                head = model_header(info)  # only a model that covers a date is read whole
+            except ModelFileError:
+                continue  # 'lodeline models' lists it as unreadable
+            take = ~ok & (yrs >= head.start) & (yrs < head.end) & (yrs < default.start)
+            if take.any():
+                load_model(info)  # validates the whole file before its name is used
             names[take] = info.name
             ok |= take
     return names, ok
@@ -264,7 +293,10 @@ def require(name: str, years: np.ndarray) -> np.ndarray:
             for info in available_models():
                 if info.shipped and info.name != DEFAULT_MODEL:
                     continue
-                m = load_model(info)
+                try:
+                    m = model_header(info)
+                except ModelFileError:
+                    continue
                 parts.append(f"{info.name} {m.start:.1f}-{m.end:.1f}")
             what = "every model 'auto' can use (" + ", ".join(parts) + ")"
         else:

@@ -408,7 +408,7 @@ def _range_error(
         )
         field = "target.model" if unknown else "target.date"
     message = f"{which} date {when}: {err.message.rstrip('.')}; {remedy}"
-    return ModelRangeError(message, file=file, course=1 if n_courses else None, field=field)
+    return ModelRangeError(message, file=file, field=field)  # a setting, not a course
 
 
 def _stated_declination(doc: Document, file: str | None) -> float | None:

@@ -119,7 +119,7 @@ BAD = [
     (
         'format_version = 1\n[place]\nlat = 40\nlon = -77\n[record]\ndate = "1700-01-01"\n'
         '[[course]]\ncall = "N 10 E 5 chains"\n',
-        "course 1: 'record.date'",
+        "deed.toml: 'record.date'",  # a setting, named without a course
     ),
 ]
 

@@ -9,6 +9,7 @@ import tomllib
 from pathlib import Path
 
 import pytest
+from fuzz import examples
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -451,7 +452,7 @@ _TOMLISH = st.text(
 _VALID = dumps_document(document_from_dict(BASE))
 
 
-@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(300), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(st.one_of(st.binary(max_size=200), _TOMLISH))
 def test_fuzz_random_text_only_raises_document_error(data):
     for fmt in ("toml", "json"):
@@ -461,7 +462,7 @@ def test_fuzz_random_text_only_raises_document_error(data):
             assert "\n" not in str(err)
 
 
-@settings(max_examples=300, deadline=None)
+@settings(max_examples=examples(300), deadline=None)
 @given(st.integers(0, len(_VALID)), st.integers(0, 40), _TOMLISH)
 def test_fuzz_damaged_valid_document_only_raises_document_error(start, length, insert):
     text = _VALID[:start] + insert + _VALID[start + length :]
@@ -480,7 +481,7 @@ _JSONISH = st.recursive(
 )
 
 
-@settings(max_examples=300, deadline=None)
+@settings(max_examples=examples(300), deadline=None)
 @given(
     st.dictionaries(
         st.sampled_from(
@@ -561,3 +562,141 @@ def test_angle_calls_that_cannot_be_read_name_the_course(call, extra, words):
     with pytest.raises(DocumentError) as caught:
         check_document(doc, file="notes.toml")
     assert "course 2" in str(caught.value) and words in str(caught.value)
+
+
+# -- saving keeps what the surveyor wrote ------------------------------------------------------
+
+_COMMENTED = """\
+# Deed book 14, page 203 (invented example); copied by hand, checked twice.
+format_version = 1
+title = 'Hollin Brook lot'   # literal string, as written
+closed = true
+
+[place]
+lat = 40.431200   # from the county GIS viewer
+lon = -77.5
+height_m = 310
+
+[record]
+reference = "magnetic"
+date = 1885       # year only: the deed gives no day
+distance_unit = "perch"
+
+# The calls, in the deed's order.
+[[course]]
+call = "N 45 1/2 E 20 perches to a white oak"  # oak gone, stump found 1962
+
+[[course]]
+# this one was read from the margin
+call = "S 44 E 18 perches to a stone"
+note = "stone marked X"
+
+[[course]]
+call = "S 45 W 20 perches to a post"
+"""
+
+
+def _changed_lines(before: str, after: str) -> list[str]:
+    import difflib
+
+    return [
+        line
+        for line in difflib.unified_diff(before.splitlines(), after.splitlines(), lineterm="", n=0)
+        if line[:1] in "+-" and not line.startswith(("+++", "---"))
+    ]
+
+
+def test_save_of_an_edited_course_changes_only_that_course(tmp_path):
+    path = tmp_path / "lot.toml"
+    path.write_text(_COMMENTED, encoding="utf-8")
+    data = document_to_dict(load_document(path))
+    data["course"] = list(data["course"])
+    data["course"][1] = {**data["course"][1], "call": "S 44 1/4 E 18 perches to a stone"}
+    save_document(document_from_dict(data), path)
+    after = path.read_text(encoding="utf-8")
+    assert _changed_lines(_COMMENTED, after) == [
+        '-call = "S 44 E 18 perches to a stone"',
+        '+call = "S 44 1/4 E 18 perches to a stone"',
+    ]
+    # the .bak is the file as it was, comments and all; a second save keeps them too
+    assert (tmp_path / "lot.toml.bak").read_text(encoding="utf-8") == _COMMENTED
+    save_document(load_document(path), path)
+    assert path.read_text(encoding="utf-8") == after
+    assert (tmp_path / "lot.toml.bak").read_text(encoding="utf-8") == after
+
+
+def test_save_keeps_untouched_values_as_written_and_edits_in_place(tmp_path):
+    path = tmp_path / "lot.toml"
+    path.write_text(_COMMENTED, encoding="utf-8")
+    data = document_to_dict(load_document(path))
+    data["course"] = list(data["course"])
+    data["place"] = {**data["place"], "lon": -77.25}
+    data["course"].insert(1, {"call": "E 3 perches to a stake"})
+    del data["course"][2]["note"]
+    data["target"] = {"date": "2026-05-01", "model": "auto"}
+    save_document(document_from_dict(data), path)
+    after = path.read_text(encoding="utf-8")
+    for kept in (
+        "title = 'Hollin Brook lot'   # literal string, as written",
+        "lat = 40.431200   # from the county GIS viewer",
+        "height_m = 310",
+        "date = 1885       # year only: the deed gives no day",
+        "# this one was read from the margin",
+        "# oak gone, stump found 1962",
+    ):
+        assert kept in after
+    assert "lon = -77.25" in after and "stone marked X" not in after
+    assert load_document(path) == document_from_dict(data)
+
+
+def test_save_as_edits_the_text_the_document_came_from(tmp_path):
+    source = tmp_path / "lot.toml"
+    source.write_text(_COMMENTED, encoding="utf-8")
+    out = tmp_path / "copy.toml"
+    save_document(load_document(source), out, base=source)
+    assert out.read_text(encoding="utf-8") == _COMMENTED
+
+
+_EDITS = st.lists(
+    st.tuples(
+        st.sampled_from(["call", "insert", "delete", "move", "note", "lon", "target", "found"]),
+        st.integers(0, 10),
+        st.sampled_from(["N 1 E 2 perches", "S 44 E 18 perches to a stone", "W 3 perches"]),
+    ),
+    max_size=6,
+)
+
+
+def _edited(data: dict, edits) -> dict:
+    data = {**data, "course": [dict(c) for c in data["course"]]}
+    courses = data["course"]
+    for op, n, call in edits:
+        i = n % len(courses) if courses else 0
+        if op == "call" and courses:
+            courses[i]["call"] = call
+        elif op == "insert":
+            courses.insert(i, {"call": call})
+        elif op == "delete" and len(courses) > 1:
+            del courses[i]
+        elif op == "move" and len(courses) > 1:
+            courses.insert((i + 1) % len(courses), courses.pop(i))
+        elif op == "note" and courses:
+            courses[i].pop("note", None) if "note" in courses[i] else courses[i].update(note=call)
+        elif op == "found" and courses:
+            courses[i]["found"] = {"easting": float(n), "northing": 2.5}
+        elif op == "lon":
+            data["place"] = {**data["place"], "lon": -77.0 - n / 7}
+        elif op == "target":
+            data.pop("target", None) if "target" in data else data.update(target={"date": "2030"})
+    return data
+
+
+@settings(max_examples=examples(150), deadline=None)
+@given(_EDITS)
+def test_fuzz_saved_edits_read_back_as_the_edited_document(tmp_path_factory, edits):
+    path = tmp_path_factory.mktemp("save") / "lot.toml"
+    path.write_text(_COMMENTED, encoding="utf-8")
+    data = _edited(document_to_dict(load_document(path)), edits)
+    save_document(document_from_dict(data), path)
+    assert load_document(path) == document_from_dict(data)
+    assert "# Deed book 14" in path.read_text(encoding="utf-8")

@@ -314,6 +314,33 @@ async def test_every_setting_is_visible_at_once_at_120x40(square):
             assert label.region.y == widget.region.y, key  # label: value on one line
 
 
+@pytest.mark.parametrize("size", [(80, 24), (250, 50)])
+@sync
+async def test_every_setting_field_shows_its_value_at_80x24_and_beside_the_calls(square, size):
+    # At 80x24 the job pane shown alone once took half the width (the hidden calls kept the
+    # other half), and in one column (the narrow pane beside the calls at 250 columns) every
+    # field was laid out zero rows high: a value typed there could not be seen.
+    app = LodelineApp(load_workspace(square))
+    async with app.run_test(size=size) as pilot:
+        await settle(pilot)
+        await pilot.press("f2")
+        await settle(pilot)
+        form = app.desk.query_one(JobForm)
+        if size == (80, 24):
+            assert form.region.width == 80 and form.has_class("-two-columns")
+        else:
+            assert not form.has_class("-two-columns")
+        title = form.query_one("#set-title")
+        assert title.region.height == 1
+        assert "Test square" in "".join(
+            strip.text for strip in title.render_lines(title.region.reset_offset)
+        )
+        for key in SETTING_LABELS:
+            widget = form.query_one("#set-" + key.replace(".", "--"))
+            if widget.region.y < form.region.bottom - 1:  # the fields in view
+                assert widget.region.height >= 1, key
+
+
 # -- defect 4: editing keeps the text ------------------------------------------------------------
 
 
@@ -660,6 +687,27 @@ async def test_escape_on_the_start_screen_gives_an_empty_desk():
         await settle(pilot)
         assert app.focused.id == "editor-input"
         assert app.workspace.courses == [{"call": ""}]
+
+
+@sync
+async def test_a_new_document_restored_from_the_start_screen_is_shown_on_the_desk():
+    # `lodeline` with no document opens the start screen and offers a kept new document;
+    # restoring it once left the start screen in front of the restored calls.
+    from tui.screens.desk import Desk
+
+    kept = Workspace()
+    kept.set_course_field(0, "call", "N 12 E 6 chains to a larch")
+    write_recovery(kept)
+    app = LodelineApp(Workspace(), start=True)
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot, 0.3)
+        assert isinstance(app.screen, ChoiceDialog)
+        await pilot.press("r")
+        await settle(pilot, 0.3)
+        assert isinstance(app.screen, Desk)
+        assert app.workspace.courses[0]["call"] == "N 12 E 6 chains to a larch"
+        row = " ".join(map(str, app.desk.query_one(CallTable).get_row_at(0)))
+        assert "N 12 E 6 chains to a larch" in row
 
 
 @sync

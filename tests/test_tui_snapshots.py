@@ -27,8 +27,14 @@ def farm(tmp_path, monkeypatch) -> Path:
 
 
 async def _ready(pilot) -> None:
+    from textual.widgets import Input
+
     await pilot.pause(0.3)
     await pilot.app.workers.wait_for_complete()
+    # a blinking cursor is drawn or not by the half second the snapshot falls on: hold it on
+    for screen in pilot.app.screen_stack:
+        for field in screen.query(Input):
+            field.cursor_blink = False
     await pilot.pause(0.2)
 
 

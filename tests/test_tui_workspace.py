@@ -172,3 +172,62 @@ def test_editing_the_call_of_a_course_given_by_parts_keeps_its_meaning():
     after = parse_courses(document_from_dict(ws.doc))
     for a, b in zip(before, after, strict=True):
         assert (a.azimuth_deg, a.length_m, a.angle_deg) == (b.azimuth_deg, b.length_m, b.angle_deg)
+
+
+def test_each_new_document_has_its_own_recovery_entry():
+    from tui.workspace import untitled_recoveries
+
+    first, second = Workspace(), Workspace()
+    first.set_course_field(0, "call", "N 1 E 1 chain")
+    second.set_course_field(0, "call", "S 2 W 2 chains")
+    assert write_recovery(first) != write_recovery(second)
+    kept = untitled_recoveries()
+    assert sorted(e.doc["course"][0]["call"] for e in kept) == ["N 1 E 1 chain", "S 2 W 2 chains"]
+    assert {e.key for e in kept} == {first.recovery_key, second.recovery_key}
+
+
+def test_a_new_document_another_running_session_keeps_is_not_offered():
+    import json
+    import subprocess
+    import sys
+
+    from tui.workspace import untitled_recoveries
+
+    ws = Workspace()
+    ws.set_course_field(0, "call", "N 1 E 1 chain")
+    file = write_recovery(ws)
+    payload = json.loads(file.read_text(encoding="utf-8"))
+    assert payload["pid"] > 0
+    other = subprocess.Popen([sys.executable, "-c", "import time; time.sleep(30)"])
+    try:
+        payload["pid"] = other.pid  # kept by a session still running
+        file.write_text(json.dumps(payload), encoding="utf-8")
+        assert untitled_recoveries() == []
+    finally:
+        other.kill()
+        other.wait()
+    assert [e.key for e in untitled_recoveries()] == [ws.recovery_key]  # it ended: offered
+
+
+def test_keeper_writes_while_changes_keep_coming_and_a_discard_holds():
+    import json
+    import time
+
+    from tui.workspace import RECOVERY_INTERVAL_S, RecoveryKeeper
+
+    ws = Workspace()
+    keeper = RecoveryKeeper(ws)
+    file = recovery_path(None, ws.recovery_key)
+    lags = []
+    for n in range(40):  # a keystroke every 30 ms for 1.2 s: never a pause
+        ws.set_course_field(0, "call", f"N {n} E 1 chain", session=1)
+        keeper.changed()
+        time.sleep(0.03)
+        if file.exists():
+            kept = json.loads(file.read_text(encoding="utf-8"))["document"]["course"][0]["call"]
+            lags.append(n - int(kept.split()[1]))
+    assert lags and max(lags[5:]) * 0.03 <= RECOVERY_INTERVAL_S + 0.15  # written as typed
+    keeper.discard()  # quit without saving: nothing pending may bring the entry back
+    time.sleep(3 * RECOVERY_INTERVAL_S)
+    assert not file.exists()
+    keeper.stop()

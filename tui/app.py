@@ -29,11 +29,12 @@ from tui.screens.key_guide import KeyGuide
 from tui.widgets.call_table import CallTable
 from tui.widgets.sketch import TraverseSketch
 from tui.workspace import (
+    RecoveryKeeper,
     Workspace,
-    discard_recovery,
     new_document,
     read_recovery,
     saveable_document,
+    untitled_recoveries,
     write_recovery,
 )
 
@@ -257,6 +258,8 @@ class LodelineApp(App[int]):
         self.parse_found = parse_found
         #: Show the start screen (new document, open a file, open a demo) first.
         self.start = start
+        #: Writes the recovery entry from its own thread while the document is edited.
+        self.recovery = RecoveryKeeper(self.workspace, on_error=self._recovery_failed)
 
     # -- start -------------------------------------------------------------------------
     def on_mount(self) -> None:
@@ -312,6 +315,9 @@ class LodelineApp(App[int]):
 
     def _offer_recovery(self) -> None:
         ws = self.workspace
+        if ws.path is None:  # a new document: each unsaved new document kept, newest first
+            self._offer_untitled(untitled_recoveries())
+            return
         found = read_recovery(ws.path)
         if found is None or found.doc == ws.doc:
             return
@@ -328,7 +334,7 @@ class LodelineApp(App[int]):
                 self.desk.reload()
                 self.notify("Unsaved changes restored (Ctrl+Z undoes the restore).")
             elif answer == "discard":
-                discard_recovery(ws.path)
+                self.recovery.discard()
                 self.notify("Kept changes discarded.")
 
         self.push_screen(
@@ -340,6 +346,14 @@ class LodelineApp(App[int]):
             ),
             answered,
         )
+
+    def _leave_start_screen(self) -> None:
+        """Close the start screen if it is open (a restored document is shown on the desk)."""
+        from tui.screens.start import StartScreen
+
+        for screen in list(self.screen_stack):
+            if isinstance(screen, StartScreen):
+                screen.dismiss(None)
 
     def _offer_set_aside(self, file: Path, name: str, when: str, problem: str) -> None:
         """A recovery file that cannot be restored: keep it aside (renamed) or discard it,
@@ -369,17 +383,60 @@ class LodelineApp(App[int]):
             answered,
         )
 
+    def _offer_untitled(self, entries: list[Any]) -> None:
+        """Offer the kept new documents one by one until one is restored."""
+        if not entries:
+            return
+        found, rest = entries[0], entries[1:]
+        ws = self.workspace
+        when = _dt.datetime.fromtimestamp(found.saved_at).strftime("%Y-%m-%d %H:%M:%S")
+        more = f" ({len(rest)} more after this one)" if rest else ""
+
+        def answered(answer: str | None) -> None:
+            if answer == "restore":
+                ws.replace(found.doc, label="restore unsaved changes")
+                if found.key:
+                    ws.recovery_key = found.key  # edits go on in the same entry
+                self._leave_start_screen()
+                self.desk.reload()
+                self.desk.focus_start()
+                later = (
+                    f" {len(rest)} more unsaved new document(s) are kept; they are offered "
+                    "when lodeline next starts on a new document."
+                    if rest
+                    else ""
+                )
+                self.notify(f"Unsaved changes restored (Ctrl+Z undoes the restore).{later}")
+                return
+            if answer == "discard":
+                found.file.unlink(missing_ok=True)
+            self._offer_untitled(rest)
+
+        self.push_screen(
+            ChoiceDialog(
+                "Unsaved changes found",
+                f"A new document that was not saved (kept {when}) was found, probably after "
+                f"a crash{more}. Restore it?",
+                [
+                    ("restore", "Restore it"),
+                    ("discard", "Discard it"),
+                    ("later", "Keep it for later"),
+                ],
+            ),
+            answered,
+        )
+
     # -- recovery ----------------------------------------------------------------------
     def keep_recovery(self) -> None:
-        """Keep unsaved changes in the recovery file (or remove it when all is saved)."""
-        ws = self.workspace
-        try:
-            if ws.dirty:
-                write_recovery(ws)
-            else:
-                discard_recovery(ws.path)
-        except (OSError, LodelineError, TypeError, ValueError) as err:
-            self.notify(f"⚠ cannot keep the recovery file: {err}", severity="warning")
+        """Keep unsaved changes in the recovery file now (or remove it when all is saved)."""
+        self.recovery.write_now()
+
+    def _recovery_failed(self, message: str) -> None:
+        """A recovery write failed in the keeper's thread: say so on the desk."""
+        with contextlib.suppress(RuntimeError):  # the app has stopped
+            self.call_from_thread(
+                self.notify, f"⚠ cannot keep the recovery file: {message}", severity="warning"
+            )
 
     def after_crash(self) -> int:
         """After the application stopped on an unforeseen error: keep the unsaved changes in
@@ -605,7 +662,8 @@ class LodelineApp(App[int]):
         ws = self.workspace
         try:
             doc = document_from_dict(saveable_document(ws.doc), file=path.name, check=False)
-            save_document(doc, path)
+            # the text the document was opened from is edited, so its comments are kept
+            save_document(doc, path, base=ws.path, fresh=ws.path is None)
         except LodelineError as err:
             self.notify(
                 f"⚠ Not saved: {err}. Your changes are kept in the recovery file.",
@@ -614,11 +672,9 @@ class LodelineApp(App[int]):
             )
             self.keep_recovery()
             return False
-        old = ws.path
+        old, old_key = ws.path, ws.recovery_key
         ws.mark_saved(path)
-        discard_recovery(path)
-        if old != path:
-            discard_recovery(old)
+        self.recovery.discard(old, old_key)  # the new file's entry and the old one
         desk = self.desk
         desk.update_docbar()
         current = desk.results is not None and desk.applied[0] == ws.revision
@@ -670,16 +726,33 @@ class LodelineApp(App[int]):
         def chosen(path: Path | None) -> None:
             if path is None:
                 return
-            try:
-                written = outputs.write_output(
-                    kind, ws.doc, path, file=ws.path, replace=prompt.replace
-                )
-            except LodelineError as err:
-                self.notify(f"⚠ {spec.title}: not written: {err}", severity="error", timeout=8)
-                return
-            self.notify(f"Written: {', '.join(str(p) for p in written)}", timeout=4)
+            doc, file, replace = ws.doc, ws.path, prompt.replace
+            # off the main thread: a large export takes seconds, and the keys stay live
+            self.run_worker(
+                lambda: self._write_output(kind, doc, path, file, replace),
+                thread=True,
+                group="output",
+                exit_on_error=False,
+            )
 
         self.push_screen(prompt, chosen)
+
+    def _write_output(
+        self, kind: str, doc: dict[str, Any], path: Path, file: Path | None, replace: bool
+    ) -> None:
+        """Write one output (in a worker thread) and say how it went."""
+        from tui import outputs
+
+        title = outputs.OUTPUTS[kind].title
+        try:
+            written = outputs.write_output(kind, doc, path, file=file, replace=replace)
+        except LodelineError as err:
+            message, severity = f"⚠ {title}: not written: {err}", "error"
+        else:
+            message, severity = f"Written: {', '.join(str(p) for p in written)}", "information"
+        self.call_from_thread(
+            self.notify, message, severity=severity, timeout=8 if severity == "error" else 4
+        )
 
     def action_found_from(self) -> None:
         """Set found corners from a point file (see :mod:`tui.found_from`)."""
@@ -691,7 +764,7 @@ class LodelineApp(App[int]):
         """Quit, asking first when there are unsaved changes."""
         ws = self.workspace
         if not ws.dirty:
-            discard_recovery(ws.path)
+            self.recovery.discard()
             self.exit(0)
             return
 
@@ -710,7 +783,7 @@ class LodelineApp(App[int]):
                 elif self.save_to(ws.path):
                     self.exit(0)
             elif answer == "discard":
-                discard_recovery(ws.path)
+                self.recovery.discard()
                 self.exit(0)
 
         self.push_screen(

@@ -72,15 +72,21 @@ def main(argv: Sequence[str] | None = None) -> int:
     if not getattr(args, "func", None):
         parser.print_help()
         return 2
+    from tui.commands.common import StandardOutput
+
+    stdout = sys.stdout = StandardOutput(sys.stdout)
     try:
-        return int(args.func(args) or 0)
+        status = int(args.func(args) or 0)
+        stdout.flush()  # a write that fails here is the command's failure too
+        return status
     except LodelineError as err:
         print(f"lodeline {args.command}: {err}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print("lodeline: interrupted", file=sys.stderr)
         return 130
-    except BrokenPipeError:
+    except BrokenPipeError:  # the reader has gone (| head -1): nothing more to say
+        stdout.silence()
         return 0
     except Exception as err:  # an internal failure: short message, status 1
         print(
@@ -90,6 +96,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         if "LODELINE_DEBUG" in __import__("os").environ:
             raise
         return 1
+    finally:
+        sys.stdout = stdout._stream
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -66,23 +66,25 @@ def write_output(
     name = file.name if file else None
     doc = document_from_dict(saveable_document(data), file=name)
     if kind == "report":
-        from geo.atomic import write_atomic
+        from geo.atomic import write_all
         from geo.report import build_report
 
         fmt = "markdown" if path.suffix.lower() == ".md" else "html"
         text = build_report(doc, fmt=fmt, file=name)
-        return [write_atomic(path, text, overwrite=replace)]
+        return write_all([(path, text)], overwrite=replace, inputs=(file,) if file else ())
     from geo.export import write_exports
 
     conv = convert_document(doc, file=name)
+    inputs = (file,) if file else ()  # the document itself is never replaced by an output
     if kind == "description":
-        from geo.atomic import write_atomic
+        from geo.atomic import write_all
         from geo.deed_text import write_description
 
-        return [write_atomic(path, write_description(conv).text, overwrite=replace)]
+        text = write_description(conv).text
+        return write_all([(path, text)], overwrite=replace, inputs=inputs)
     if kind == "geojson":
-        return write_exports(conv, geojson=path, force=replace)
-    return write_exports(conv, csv_path=path, force=replace)
+        return write_exports(conv, geojson=path, force=replace, inputs=inputs)
+    return write_exports(conv, csv_path=path, force=replace, inputs=inputs)
 
 
 def write_layout(

@@ -17,7 +17,9 @@ import contextlib
 import hashlib
 import json
 import os
+import threading
 import time
+import uuid
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -198,6 +200,8 @@ class Workspace:
     redo_stack: list[Step] = field(default_factory=list)
     _clean: Document | None = None
     _revision: int = 0
+    #: Names the recovery entry of a document that has no file yet (each its own).
+    recovery_key: str = field(default_factory=lambda: new_recovery_key())
 
     def __post_init__(self) -> None:
         if self._clean is None:
@@ -385,6 +389,18 @@ class Workspace:
 
 
 # -- recovery files ------------------------------------------------------------------------
+#
+# Every unsaved document has its own recovery entry, a JSON file in recovery_dir(): a document
+# with a file is named by its resolved path ("deed-<hash of the path>.json"), a new document by
+# a key drawn when its workspace was made ("untitled-<time>-<random>.json"), so two sessions on
+# new documents never share one. The entry holds the document as edited, its path (or none),
+# the key and when it was kept. A RecoveryKeeper writes it from a thread of its own at most
+# RECOVERY_INTERVAL_S after any change, whatever the rhythm of typing.
+
+
+def new_recovery_key() -> str:
+    """A key no other session draws: the time (sortable) and random digits."""
+    return f"{time.strftime('%Y%m%d-%H%M%S')}-{uuid.uuid4().hex[:8]}"
 
 
 def recovery_dir() -> Path:
@@ -396,12 +412,12 @@ def recovery_dir() -> Path:
     return Path(base) / "lodeline" / "recovery"
 
 
-def recovery_path(path: Path | None) -> Path:
-    """The recovery file that belongs to document ``path`` (one shared file for new ones)."""
+def recovery_path(path: Path | None, key: str | None = None) -> Path:
+    """The recovery file of document ``path``, or of the new document with ``key``."""
     if path is None:
-        return recovery_dir() / "untitled.json"
-    key = hashlib.sha256(str(path.resolve()).encode()).hexdigest()[:16]
-    return recovery_dir() / f"{path.stem[:40]}-{key}.json"
+        return recovery_dir() / (f"untitled-{key}.json" if key else "untitled.json")
+    digest = hashlib.sha256(str(path.resolve()).encode()).hexdigest()[:16]
+    return recovery_dir() / f"{path.stem[:40]}-{digest}.json"
 
 
 @dataclass(frozen=True)
@@ -412,45 +428,197 @@ class Recovery:
     document_path: Path | None
     saved_at: float
     doc: Document
+    key: str | None = None
+    #: The process that kept it (``None`` in entries written before the pid was kept).
+    pid: int | None = None
+
+
+def _running(pid: int | None) -> bool:
+    """True if process ``pid`` (not this one) is still running: its entry is being kept by
+    a live session and is not offered to another."""
+    if pid is None or pid == os.getpid() or pid <= 0:
+        return False
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except (PermissionError, OSError):
+        return True
+    return True
+
+
+def recovery_payload(workspace: Workspace) -> str:
+    """The text of the workspace's recovery entry (JSON)."""
+    payload = {
+        "document_path": str(workspace.path.resolve()) if workspace.path else None,
+        "key": None if workspace.path else workspace.recovery_key,
+        "saved_at": time.time(),
+        "pid": os.getpid(),
+        "document": workspace.doc,
+    }
+    # default=str: a value JSON has no type for (a date object) is kept as its text
+    return json.dumps(payload, ensure_ascii=False, default=str)  # the C encoder: no indent
 
 
 def write_recovery(workspace: Workspace) -> Path:
     """Keep the workspace's unsaved document in its recovery file (atomic write)."""
-    target = recovery_path(workspace.path)
+    target = recovery_path(workspace.path, workspace.recovery_key)
     target.parent.mkdir(parents=True, exist_ok=True)
-    payload = {
-        "document_path": str(workspace.path.resolve()) if workspace.path else None,
-        "saved_at": time.time(),
-        "document": workspace.doc,
-    }
-    # default=str: a value JSON has no type for (a date object) is kept as its text
-    write_atomic(target, json.dumps(payload, ensure_ascii=False, indent=1, default=str))
+    # replaced whole by a rename; no fsync: a recovery file outlives a killed program, and
+    # written several times a second it must not wait on the disk
+    write_atomic(target, recovery_payload(workspace), durable=False)
     return target
 
 
-def read_recovery(path: Path | None) -> Recovery | None:
-    """Return the unsaved changes kept for document ``path``, or ``None``.
-
-    A recovery file that cannot be read is left in place and ignored.
-    """
-    file = recovery_path(path)
+def _read_entry(file: Path) -> Recovery | None:
     try:
         payload = json.loads(file.read_text(encoding="utf-8"))
         doc = payload["document"]
         if not isinstance(doc, dict):
             return None
-    except (OSError, ValueError, KeyError, TypeError):
+        where = payload.get("document_path")
+        key = payload.get("key")
+        pid = payload.get("pid")
+        return Recovery(
+            file=file,
+            document_path=Path(where) if where else None,
+            saved_at=float(payload.get("saved_at") or 0.0),
+            doc=doc,
+            key=key if isinstance(key, str) else None,
+            pid=pid if isinstance(pid, int) and not isinstance(pid, bool) else None,
+        )
+    except (OSError, ValueError, KeyError, TypeError, AttributeError):
         return None
-    where = payload.get("document_path")
-    return Recovery(
-        file=file,
-        document_path=Path(where) if where else None,
-        saved_at=float(payload.get("saved_at") or 0.0),
-        doc=doc,
-    )
 
 
-def discard_recovery(path: Path | None) -> None:
-    """Remove the recovery file of document ``path`` if there is one."""
+def read_recovery(path: Path | None) -> Recovery | None:
+    """Return the unsaved changes kept for document ``path``, or ``None`` (for ``None``:
+    the newest entry of a new document, see :func:`untitled_recoveries`).
+
+    A recovery file that cannot be read is left in place and ignored.
+    """
+    if path is None:
+        found = untitled_recoveries()
+        return found[0] if found else None
+    return _read_entry(recovery_path(path))
+
+
+def list_recoveries() -> list[Recovery]:
+    """Every recovery entry that can be read, newest first."""
+    try:
+        files = sorted(recovery_dir().glob("*.json"))
+    except OSError:
+        return []
+    found = [entry for entry in map(_read_entry, files) if entry is not None]
+    return sorted(found, key=lambda e: e.saved_at, reverse=True)
+
+
+def untitled_recoveries() -> list[Recovery]:
+    """The entries of new documents (never saved to a file), newest first; those another
+    running session is keeping are left to it."""
+    return [
+        entry
+        for entry in list_recoveries()
+        if entry.document_path is None and not _running(entry.pid)
+    ]
+
+
+def discard_recovery(path: Path | None, key: str | None = None) -> None:
+    """Remove the recovery file of document ``path`` (or new document ``key``) if any."""
     with contextlib.suppress(FileNotFoundError):
-        recovery_path(path).unlink()
+        recovery_path(path, key).unlink()
+
+
+#: Seconds after a change within which the recovery entry is written (the typing that can be
+#: lost in a crash is what came in the last RECOVERY_INTERVAL_S plus one write).
+RECOVERY_INTERVAL_S = 0.1
+
+
+class RecoveryKeeper:
+    """Keeps a workspace's recovery entry current from a thread of its own.
+
+    :meth:`changed` (called on every edit) only sets a flag; the thread writes the document
+    as it then is at most :data:`RECOVERY_INTERVAL_S` later, and again after each further
+    interval while changes keep coming: a keystroke never pushes the write back, and the
+    writing (JSON, fsync) never runs on the caller's thread. A clean workspace has its entry
+    removed. ``on_error`` is called (from the thread) with the message of a failed write.
+    """
+
+    def __init__(self, workspace: Workspace, on_error: Any = None) -> None:
+        self.workspace = workspace
+        self.on_error = on_error
+        self._wake = threading.Condition()
+        self._io = threading.Lock()
+        self._pending = False
+        self._stopped = False
+        self._thread: threading.Thread | None = None
+        #: Changes counted, and the count at the last discard: the thread writes nothing
+        #: for changes a discard has already dealt with (quit without saving).
+        self._changes = 0
+        self._discarded_at = -1
+
+    def changed(self) -> None:
+        """The document changed: write it within the interval."""
+        with self._wake:
+            self._pending = True
+            self._changes += 1
+            if self._thread is None:
+                self._thread = threading.Thread(
+                    target=self._run, name="lodeline-recovery", daemon=True
+                )
+                self._thread.start()
+            self._wake.notify()
+
+    def write_now(self) -> None:
+        """Write (or remove) the entry at once, on the caller's thread."""
+        with self._wake:
+            self._pending = False
+        self._keep()
+
+    def discard(self, path: Path | None = None, key: str | None = None) -> None:
+        """Remove the workspace's entry (and that of ``path``/``key`` if given) and forget
+        a pending write; waits for a write in progress."""
+        with self._wake:
+            self._pending = False
+            self._discarded_at = self._changes
+        with self._io:
+            ws = self.workspace
+            discard_recovery(ws.path, ws.recovery_key)
+            discard_recovery(None, ws.recovery_key)
+            if path is not None or key is not None:
+                discard_recovery(path, key)
+
+    def stop(self) -> None:
+        """End the thread (what is pending is written first)."""
+        with self._wake:
+            self._stopped = True
+            self._wake.notify()
+        if self._thread is not None:
+            self._thread.join(timeout=5)
+
+    def _run(self) -> None:
+        while True:
+            with self._wake:
+                while not self._pending and not self._stopped:
+                    self._wake.wait()
+                if self._stopped and not self._pending:
+                    return
+            time.sleep(RECOVERY_INTERVAL_S)  # more keystrokes join this write
+            with self._wake:
+                self._pending = False
+                changes = self._changes
+            self._keep(changes)
+
+    def _keep(self, changes: int | None = None) -> None:
+        with self._io:
+            if changes is not None and changes <= self._discarded_at:
+                return  # discarded since
+            ws = self.workspace
+            try:
+                if ws.dirty:
+                    write_recovery(ws)
+                else:
+                    discard_recovery(ws.path, ws.recovery_key)
+            except Exception as err:  # a full disk must not end the editing
+                if self.on_error is not None:
+                    self.on_error(str(err))

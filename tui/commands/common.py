@@ -35,25 +35,63 @@ def print_json(obj: Any) -> None:
     sys.stdout.write("\n")
 
 
-def write_file(path: str | os.PathLike[str], text: str, *, force: bool) -> None:
-    """Write ``text`` to the file ``path`` atomically, refusing to overwrite without ``force``.
+def write_file(
+    path: str | os.PathLike[str],
+    text: str,
+    *,
+    force: bool,
+    inputs: tuple[str | os.PathLike[str], ...] = (),
+) -> None:
+    """Write ``text`` to the file ``path`` atomically, refusing to overwrite without ``force``
+    and refusing a ``path`` that is one of ``inputs`` (the file the output is made from).
 
     A destination that cannot be written (missing folder, a folder of that name, no
     permission) raises :class:`geo.errors.LodelineError` naming the file, so the command
     exits 2 with one line instead of failing as an internal error.
     """
-    from geo.atomic import write_atomic
+    from geo.atomic import write_all
 
-    write_atomic(path, text, overwrite=force)  # OutputError names the file
+    write_all([(path, text)], overwrite=force, inputs=inputs)  # OutputError names the file
 
 
-def write_output(path: str | None, text: str, *, force: bool) -> None:
-    """Write ``text`` to ``path`` atomically (refusing to overwrite without ``force``), or to
-    stdout when ``path`` is ``None`` or ``-``."""
+def write_output(
+    path: str | None,
+    text: str,
+    *,
+    force: bool,
+    inputs: tuple[str | os.PathLike[str], ...] = (),
+) -> None:
+    """Write ``text`` to ``path`` atomically (see :func:`write_file`), or to stdout when
+    ``path`` is ``None`` or ``-``."""
     if path in (None, "-"):
         sys.stdout.write(text)
         return
-    write_file(path, text, force=force)
+    write_file(path, text, force=force, inputs=inputs)
+
+
+def refuse_input_as_output(
+    outputs: list[str | os.PathLike[str]], inputs: list[str | os.PathLike[str]]
+) -> None:
+    """Refuse, before any work, an output that is one of the inputs (the same file after
+    resolving links): replacing it would lose the input. Raises OutputError naming it."""
+    from geo.atomic import same_file
+    from geo.errors import OutputError
+
+    for output in outputs:
+        for source in inputs:
+            if same_file(output, source):
+                raise OutputError(
+                    f"is the input {source}: give the output another name", file=str(output)
+                )
+
+
+def model_name(text: str) -> str:
+    """An argparse type for a field model option: a name or auto, never empty."""
+    import argparse
+
+    if not text.strip():
+        raise argparse.ArgumentTypeError("is empty: give a model name or auto")
+    return text
 
 
 def add_target_options(parser: Any) -> None:
@@ -66,6 +104,7 @@ def add_target_options(parser: Any) -> None:
     parser.add_argument(
         "--model",
         metavar="NAME|auto",
+        type=model_name,
         help="field model for the target date (default: the document's target.model, else auto)",
     )
 
@@ -93,3 +132,44 @@ def text_table(rows: list[list[str]], right: set[int]) -> list[str]:
         if n == 0:
             out.append("  ".join("-" * w for w in widths))
     return out
+
+
+class StandardOutput:
+    """``sys.stdout`` for a command: a failed write or flush (a full device, an I/O error)
+    becomes one line of bad input (:class:`geo.errors.OutputError`, exit 2) instead of an
+    internal error; a closed pipe (``| head -1``) raises :class:`BrokenPipeError`, which the
+    command line ends quietly on. After a failure the rest of the output goes nowhere, so
+    Python's own flush at exit has nothing more to report."""
+
+    def __init__(self, stream: Any) -> None:
+        self._stream = stream
+
+    def _guarded(self, method: str, *args: Any) -> Any:
+        try:
+            return getattr(self._stream, method)(*args)
+        except BrokenPipeError:
+            self.silence()
+            raise
+        except OSError as exc:
+            from geo.errors import OutputError
+
+            self.silence()
+            raise OutputError(f"cannot write to standard output: {exc.strerror or exc}") from None
+
+    def write(self, text: str) -> int:
+        return self._guarded("write", text)
+
+    def flush(self) -> None:
+        self._guarded("flush")
+
+    def silence(self) -> None:
+        """Point the standard output at the null device (what is still buffered is dropped)."""
+        try:
+            null = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(null, self._stream.fileno())
+            os.close(null)
+        except (OSError, ValueError, AttributeError):
+            pass
+
+    def __getattr__(self, name: str) -> Any:
+        return getattr(self._stream, name)

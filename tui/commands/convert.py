@@ -12,7 +12,7 @@ import argparse
 import sys
 from typing import Any
 
-from .common import add_target_options, text_table
+from .common import add_target_options, model_name, text_table
 
 HELP = "convert the bearings of a traverse document between north references"
 
@@ -33,6 +33,7 @@ def register(subparsers: Any) -> None:
     p.add_argument(
         "--record-model",
         metavar="NAME|auto",
+        type=model_name,
         help="field model for the record date (default: the document's record.model)",
     )
     p.add_argument("--json", action="store_true", help="print one JSON object")

@@ -67,6 +67,7 @@ def run(args: argparse.Namespace) -> int:
         gpx=args.gpx,
         kml=args.kml,
         dxf=args.dxf,
+        inputs=(args.document,),
     )
     for path in written:
         sys.stdout.write(f"wrote {path}\n")
@@ -82,13 +83,16 @@ def _check_destinations(args: argparse.Namespace) -> None:
     from geo.errors import LodelineError
     from geo.export import courses_csv_path
 
+    from .common import refuse_input_as_output
+
     targets = [Path(args.geojson)] if args.geojson else []
     if args.csv:
         targets += [Path(args.csv), courses_csv_path(args.csv)]
     targets += [Path(p) for p in (args.gpx, args.kml, args.dxf) if p]
+    refuse_input_as_output(targets, [args.document])
     for target in targets:
         folder = target.parent
         if not folder.is_dir():
             raise LodelineError(f"cannot be written: no folder {folder}", file=str(target))
         if target.is_dir():
-            raise LodelineError("cannot be written: it is a folder", file=str(target))
+            raise LodelineError("cannot be written: it is a directory", file=str(target))

@@ -18,7 +18,10 @@ is given, which writes the good rows and lists the bad ones on stderr.
 from __future__ import annotations
 
 import argparse
+import re
 import sys
+
+from .common import model_name
 
 #: Keys of the ``--json`` object, in order (also the CSV result columns from ``model`` on).
 RESULT_KEYS = (
@@ -61,7 +64,10 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     p.add_argument("--date", type=str, help="ISO date YYYY-MM-DD or decimal year")
     p.add_argument("--height", type=str, help="height above the ellipsoid, metres (default 0)")
     p.add_argument(
-        "--model", default="auto", help="model name (see 'lodeline models') or auto (default)"
+        "--model",
+        default="auto",
+        type=model_name,
+        help="model name (see 'lodeline models') or auto (default)",
     )
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.add_argument(
@@ -81,15 +87,31 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     p.set_defaults(func=run)
 
 
+#: A number as the command line reads one: ASCII digits, a point, an exponent (no "1_0").
+_NUMBER = re.compile(
+    r"\s*[+-]?(?:(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?|nan|inf|infinity)\s*", re.ASCII | re.I
+)
+
+
+def _malformed(exc: Exception, path: str, line: int):
+    """The error for CSV text that does not read; ``line``: where the bad row starts."""
+    from geo.errors import InputError
+
+    if "unexpected end of data" in str(exc):
+        return InputError(
+            'a quoted field opened here is never closed (a " is missing)', file=path, line=line
+        )
+    return InputError(f"malformed CSV ({exc})", file=path, line=line)
+
+
 def _number(text: str, field: str, **where) -> float:
     import math
 
-    from geo.errors import InputError
+    from geo.errors import InputError, clip
 
-    try:
-        value = float(text)
-    except (TypeError, ValueError):
-        raise InputError(f"'{text}' is not a number", field=field, **where) from None
+    if not _NUMBER.fullmatch(text or ""):  # float() would take 1_0 and full-width digits
+        raise InputError(f"'{clip(text, 40)}' is not a number", field=field, **where)
+    value = float(text)
     if not math.isfinite(value):
         raise InputError(f"'{text}' is not a finite number", field=field, **where)
     return value
@@ -238,19 +260,24 @@ def _batch(args) -> int:
     from geo.models import resolve
 
     path = args.csv
+    if args.out not in (None, "-"):
+        from tui.commands.common import refuse_input_as_output
+
+        refuse_input_as_output([args.out], [path])  # before any work: the input is kept
     try:
         text = Path(path).read_text(encoding="utf-8-sig")
     except OSError as exc:
         raise InputError(f"cannot read ({exc.strerror})", file=path) from None
     except UnicodeDecodeError:
         raise InputError("is not UTF-8 text", file=path) from None
-    reader = csv.reader(io.StringIO(text, newline=""))
+    # strict: a quote that is never closed is an error, not a field running to the end
+    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
     try:
         header = next(reader)
     except StopIteration:
         raise InputError("empty file: a header with lat,lon,date is required", file=path) from None
     except csv.Error as exc:
-        raise InputError(f"malformed CSV ({exc})", file=path, line=1) from None
+        raise _malformed(exc, path, 1) from None
     header = [h.strip() for h in header]
     for name in CSV_INPUT:
         if name not in header:
@@ -270,6 +297,7 @@ def _batch(args) -> int:
     col = {name: header.index(name) for name in header}
     good: list[tuple[int, list[str], float, float, float, float]] = []
     bad: list[LodelineError] = []
+    line = 1
     try:
         for row in reader:
             line = reader.line_num
@@ -296,7 +324,7 @@ def _batch(args) -> int:
                     raise
                 bad.append(err)
     except csv.Error as exc:
-        raise InputError(f"malformed CSV ({exc})", file=path, line=reader.line_num) from None
+        raise _malformed(exc, path, line + 1) from None
     if good:
         years = np.array([g[5] for g in good])
         names, ok = resolve(args.model, years)
@@ -328,7 +356,7 @@ def _batch(args) -> int:
             writer.writerow(row + [_csv_value(rec[k]) for k in RESULT_KEYS[4:]])
     from tui.commands.common import write_output
 
-    write_output(args.out, out.getvalue(), force=args.force)
+    write_output(args.out, out.getvalue(), force=args.force, inputs=(path,))
     if bad:
         bad.sort(key=lambda e: e.line or 0)
         for err in bad:

@@ -33,19 +33,17 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 def _listing() -> str:
     from geo.errors import LodelineError
-    from geo.models import AUTO, DEFAULT_MODEL, available_models, data_dir, load_model
+    from geo.models import AUTO, DEFAULT_MODEL, available_models, data_dir, model_header
 
     rows = [("name", "interval", "degree", "source")]
     problems = []
     for info in available_models():
         try:
-            model = load_model(info)
+            model = model_header(info)  # the header only: a listing reads no whole file
         except LodelineError as err:
             problems.append(f"  unreadable: {err}")
             continue
-        source = (
-            f"{model.title}, {info.publisher}" if info.shipped else f"{model.title}, {info.path}"
-        )
+        source = f"{info.title}, {info.publisher}" if info.shipped else f"{info.title}, {info.path}"
         rows.append((info.name, f"{model.start:.1f}-{model.end:.1f}", str(model.nmax), source))
     widths = [max(len(r[i]) for r in rows) for i in range(3)]
     lines = [

@@ -12,7 +12,7 @@ import argparse
 from pathlib import Path
 from typing import Any
 
-from .common import add_adjust_option, add_target_options, write_file
+from .common import add_adjust_option, add_target_options, refuse_input_as_output, write_file
 
 HELP = "write a printable retracement report (HTML or Markdown)"
 
@@ -54,7 +54,7 @@ def register(subparsers: Any) -> None:
 def run(args: argparse.Namespace) -> int:
     """Build the report and write it to ``--out``."""
     from geo.document import load_document
-    from geo.errors import InputError, OutputExistsError
+    from geo.errors import InputError, OutputError, OutputExistsError
     from geo.report import build_report
 
     out = Path(args.out)
@@ -65,6 +65,9 @@ def run(args: argparse.Namespace) -> int:
             "use .html, .htm or .md",
             file=str(out),
         )
+    refuse_input_as_output([out], [args.document])
+    if out.is_dir():
+        raise OutputError("cannot be written: it is a directory", file=str(out))
     if out.exists() and not args.force:  # refuse before any work is done
         raise OutputExistsError(
             "exists; not overwritten (give --force to replace it)", file=str(out)
@@ -79,5 +82,5 @@ def run(args: argparse.Namespace) -> int:
         adjust=args.adjust,
         paper=args.paper,
     )
-    write_file(out, text, force=args.force)
+    write_file(out, text, force=args.force, inputs=(args.document,))
     return 0

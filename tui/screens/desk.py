@@ -127,7 +127,6 @@ class Desk(Screen):
     def __init__(self) -> None:
         super().__init__()
         self._timer: Timer | None = None
-        self._recovery_timer: Timer | None = None
         self._sketch_timer: Timer | None = None
         self._sketch_pending: tuple[Results, int] | None = None
         #: True while the results being computed come from typing (see :meth:`_apply`).
@@ -247,6 +246,7 @@ class Desk(Screen):
             pane.display = name in shown
         stacked = mode == "stacked"
         main = self.query_one("#main")
+        main.display = bool(shown & {"calls", "findings"})  # the job alone takes the width
         findings = self.query_one("#findings")
         main.styles.layout = "vertical" if stacked else "horizontal"
         findings.styles.layout = "horizontal" if stacked else "vertical"
@@ -297,9 +297,9 @@ class Desk(Screen):
         self._schedule_recovery()
 
     def _schedule_recovery(self) -> None:
-        if self._recovery_timer is not None:
-            self._recovery_timer.stop()
-        self._recovery_timer = self.set_timer(1.0, self.lode.keep_recovery)
+        """The document changed: its recovery entry is written within 0.1 s, off this
+        thread (see :class:`tui.workspace.RecoveryKeeper`)."""
+        self.lode.recovery.changed()
 
     def recompute_typed(self) -> None:
         """:meth:`recompute` after a pause in typing: the sketch waits for a longer pause."""

@@ -112,8 +112,10 @@ class JobForm(VerticalScroll):
     """
 
     DEFAULT_CSS = """
-    JobForm { padding: 0 1; layout: grid; grid-size: 1; grid-rows: auto; grid-gutter: 0 1; }
-    JobForm.-two-columns { grid-size: 2; grid-columns: 24 1fr; }
+    JobForm { padding: 0 1; layout: vertical; }
+    JobForm.-two-columns {
+        layout: grid; grid-size: 2; grid-columns: 24 1fr; grid-rows: auto; grid-gutter: 0 1;
+    }
     JobForm Label { color: $text-muted; height: 1; }
     JobForm.-two-columns Label { text-align: right; }
     JobForm Input, JobForm Select, JobForm Checkbox { height: 1; margin-bottom: 1; }

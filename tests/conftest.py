@@ -1,0 +1,21 @@
+"""Hypothesis profiles for the fuzz suites.
+
+- ``ci`` (the default): Hypothesis's own 100 examples a test; the fuzz tests ask for their
+  usual counts through :func:`tests.fuzz.examples`, so the suite keeps its time.
+- ``nightly``: twenty times as many examples in every fuzz test, no deadline, for a long run:
+  ``python -m pytest -q -p hypothesis --hypothesis-profile nightly -m fuzz``
+  (or the whole suite with ``--hypothesis-profile nightly``).
+"""
+
+from __future__ import annotations
+
+from hypothesis import HealthCheck, settings
+
+settings.register_profile("ci", deadline=None)
+settings.register_profile(
+    "nightly",
+    max_examples=2000,
+    deadline=None,
+    suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large],
+)
+settings.load_profile("ci")

@@ -1,0 +1,102 @@
+"""The desk on bad input: documents it must open without crashing, work it must not run on
+its main thread, and the recovery file it keeps while typing (see also tests/test_tui_tmux.py)."""
+
+from __future__ import annotations
+
+import asyncio
+import functools
+
+import pytest
+
+from tui.app import LodelineApp, load_workspace
+
+DOC = """\
+format_version = 1
+title = "Test square, Marrow Creek"
+closed = true
+
+[place]
+lat = 40.0
+lon = -77.0
+
+[record]
+reference = "magnetic"
+date = "{record}"
+distance_unit = "chain"
+foot = "us"
+
+[target]
+date = "{target}"
+
+[[course]]
+call = "N 10 E 10 chains to a stone"
+
+[[course]]
+call = "S 80 E 10 chains"
+"""
+
+
+def sync(test):
+    @functools.wraps(test)
+    def run(*args, **kwargs):
+        asyncio.run(test(*args, **kwargs))
+
+    return run
+
+
+@pytest.fixture(autouse=True)
+def _state(tmp_path, monkeypatch):
+    monkeypatch.setenv("LODELINE_STATE", str(tmp_path / "state"))
+
+
+async def _settle(pilot) -> None:
+    await pilot.pause(0.1)
+    await pilot.app.workers.wait_for_complete()
+    await pilot.pause()
+
+
+@pytest.mark.parametrize(
+    ("record", "target"), [("1925-10-03", "9999-01-01"), ("9999-12-31", "2025-06-01")]
+)
+@sync
+async def test_desk_opens_a_document_with_a_date_outside_the_calendar(tmp_path, record, target):
+    path = tmp_path / "far.toml"
+    path.write_text(DOC.format(record=record, target=target), encoding="utf-8")
+    app = LodelineApp(load_workspace(path))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await _settle(pilot)
+        results = app.desk.results
+        assert results is not None
+        key = "target.date" if target.startswith("9999") else "record.date"
+        assert key in results.invalid_settings
+
+
+@sync
+async def test_a_large_export_runs_off_the_main_thread_and_quit_answers(tmp_path):
+    import time
+
+    from geo.along import MAX_ALONG_POINTS
+
+    path = tmp_path / "long.toml"
+    path.write_text(
+        'format_version = 1\n[place]\nlat = 40.0\nlon = -77.0\n[record]\nreference = "true"\n'
+        f'[[course]]\ncall = "N 10 E {MAX_ALONG_POINTS} m"\nevery = "1 m"\n',
+        encoding="utf-8",
+    )
+    app = LodelineApp(load_workspace(path))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await _settle(pilot)
+        await pilot.press("f6")
+        await pilot.pause()
+        await pilot.press("enter")  # the suggested name: long.geojson, the most points allowed
+        busy = [w for w in app.workers if w.group == "output" and not w.is_finished]
+        assert busy, "the export ran on the main thread"
+        started = time.monotonic()
+        await pilot.press("ctrl+q")  # the document is saved: quit at once
+        answered = time.monotonic() - started
+        out = path.with_suffix(".geojson")
+        assert app.return_value == 0 and not out.exists()  # quit did not wait for the export
+        assert answered < 5.0
+    # what was being written is written whole, or not at all (never a part)
+    assert not out.exists() or out.read_text(encoding="utf-8").endswith("}\n")
+    assert [p.name for p in tmp_path.iterdir() if p.name.startswith(".")] == []
