@@ -10,15 +10,13 @@ from __future__ import annotations
 
 import json
 import os
-import shutil
 import signal
-import subprocess
-import sys
 import time
 import uuid
 from pathlib import Path
 
 import pytest
+from tmux_terminal import console_script, needs_tmux, pane, start, tmux, wait_for
 
 pytestmark = [pytest.mark.tmux, pytest.mark.slow]
 
@@ -41,60 +39,27 @@ call = "N 10 E 5 chains"
 """
 
 
-def _console_script() -> str | None:
-    beside = Path(sys.executable).with_name("lodeline")
-    if beside.exists():
-        return str(beside)
-    return shutil.which("lodeline")
-
-
-needs_tmux = [
-    pytest.mark.skipif(shutil.which("tmux") is None, reason="tmux is not installed"),
-    pytest.mark.skipif(_console_script() is None, reason="the console script is not installed"),
-]
-
-
-def _tmux(*args: str) -> subprocess.CompletedProcess[str]:
-    return subprocess.run(["tmux", *args], capture_output=True, text=True, timeout=20)
-
-
-def _pane(session: str) -> str:
-    return _tmux("capture-pane", "-p", "-t", session).stdout
-
-
-def _wait_for(session: str, text: str, timeout: float = 40.0) -> str:
-    end = time.monotonic() + timeout
-    screen = ""
-    while time.monotonic() < end:
-        screen = _pane(session)
-        if text in screen:
-            return screen
-        time.sleep(0.1)
-    raise AssertionError(f"{text!r} did not appear; the screen was:\n{screen}")
-
-
 class Desk:
     """One ``lodeline`` in a tmux session; ``exec`` makes the pane's process the program."""
 
     def __init__(self, folder: Path, state: Path, *args: str) -> None:
         self.session = f"lodeline-recovery-{uuid.uuid4().hex[:8]}"
         env = f"LODELINE_STATE={state} TERM=xterm-256color"
-        command = f"cd {folder} && exec env {env} {_console_script()} {' '.join(args)}"
-        started = _tmux("new-session", "-d", "-s", self.session, "-x", "120", "-y", "40", command)
-        assert started.returncode == 0, started.stderr
-        self.pid = int(_tmux("display", "-p", "-t", self.session, "#{pane_pid}").stdout)
+        command = f"cd {folder} && exec env {env} {console_script()} {' '.join(args)}"
+        start(self.session, command)
+        self.pid = int(tmux("display", "-p", "-t", self.session, "#{pane_pid}").stdout)
 
     def keys(self, *keys: str, literal: bool = False) -> None:
-        _tmux("send-keys", "-t", self.session, *(["-l"] if literal else []), *keys)
+        tmux("send-keys", "-t", self.session, *(["-l"] if literal else []), *keys)
 
     def wait_for(self, text: str) -> str:
-        return _wait_for(self.session, text)
+        return wait_for(self.session, text)
 
     def kill(self) -> None:
         """SIGKILL the program itself (the terminal stays), as a crash would."""
         os.kill(self.pid, signal.SIGKILL)
         end = time.monotonic() + 10
-        while time.monotonic() < end and "Pane is dead" not in _pane(self.session):
+        while time.monotonic() < end and "Pane is dead" not in pane(self.session):
             try:
                 os.kill(self.pid, 0)
             except ProcessLookupError:
@@ -102,7 +67,7 @@ class Desk:
             time.sleep(0.05)
 
     def close(self) -> None:
-        _tmux("kill-session", "-t", self.session)
+        tmux("kill-session", "-t", self.session)
 
 
 def _entries(state: Path) -> list[dict]:
@@ -137,7 +102,7 @@ def _open_course_1(desk: Desk) -> None:
     end = time.monotonic() + 40
     asked_at = 0.0
     while time.monotonic() < end:
-        screen = _pane(desk.session)
+        screen = pane(desk.session)
         if "typing the call of course 1" in screen:
             break
         if time.monotonic() - asked_at > 2.0:  # one key, then time for the screen to follow
@@ -158,9 +123,9 @@ def _open_course_1(desk: Desk) -> None:
     desk.wait_for("▊  qqq")
     desk.keys("C-u")
     end = time.monotonic() + 10
-    while "qqq" in _pane(desk.session) and time.monotonic() < end:
+    while "qqq" in pane(desk.session) and time.monotonic() < end:
         time.sleep(0.1)
-    assert "qqq" not in _pane(desk.session)
+    assert "qqq" not in pane(desk.session)
 
 
 @needs_tmux[0]
