@@ -711,6 +711,30 @@ async def test_a_new_document_restored_from_the_start_screen_is_shown_on_the_des
 
 
 @sync
+async def test_the_key_guide_fits_one_screen_at_120x40(square):
+    from textual.containers import VerticalScroll
+
+    from tui.screens.key_guide import KeyGuide
+
+    app = LodelineApp(load_workspace(square))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot)
+        await pilot.press("f1")
+        await settle(pilot)
+        assert isinstance(app.screen, KeyGuide) and app.screen.has_class("-two-columns")
+        box = app.screen.query_one(VerticalScroll)
+        assert box.max_scroll_y == 0  # every key and the cautions without scrolling
+        assert app.screen.query_one("#cautions").region.bottom <= 40
+
+
+def test_the_guide_columns_are_about_equal_and_keep_the_order():
+    from tui.screens.key_guide import split_in_two
+
+    assert split_in_two([13, 9, 9, 4]) == ([0, 3], [1, 2])
+    assert split_in_two([1]) == ([0], [])
+
+
+@sync
 async def test_the_key_guide_is_by_task(square):
     from tui.screens.key_guide import KeyGuide
 

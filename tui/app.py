@@ -175,11 +175,11 @@ def key_guide_tasks() -> list[tuple[str, list[Binding]]]:
         (
             "enter a deed",
             keys(
-                ("f2", "Job form: place, record date and reference, unit (Tab: next)"),
+                ("f2", "Job form: place, record date, unit (Tab: next)"),
                 ("f3", "The calls: the table, one course a line"),
-                ("enter", "Edit the call under the cursor; Enter again: done"),
+                ("enter", "Edit the call here; Enter again: done"),
                 ("escape", "Leave the editor, back to the table"),
-                ("a", "Add a course after this one (and type its call)"),
+                ("a", "Add a course after this one, type its call"),
                 ("i", "Insert a course above this one"),
                 ("delete,x", "Delete this course"),
                 ("left_square_bracket,right_square_bracket", "Move this course up / down"),
@@ -193,12 +193,12 @@ def key_guide_tasks() -> list[tuple[str, list[Binding]]]:
         (
             "mark found corners",
             keys(
-                ("f", "Found position of this course's end (easting=…, northing=…)"),
-                ("f5", "Found corners from a receiver's point file (CSV, GeoJSON, GPX)"),
-                ("ctrl+t", "Corners and stakeout: each corner's status, the lines to run"),
-                ("r", "On that sheet: proportion / rotate-scale restoration"),
-                ("o", "On that sheet: run from the nearest found or the previous corner"),
-                ("f4", "Findings: closure, local attraction, record-to-found fit, sketch"),
+                ("f", "Found position of this course's end"),
+                ("f5", "Found corners from a receiver's file (GPX…)"),
+                ("ctrl+t", "Corners and stakeout: the lines to run"),
+                ("r", "There: proportion or rotate-scale restoring"),
+                ("o", "There: run from nearest found / last corner"),
+                ("f4", "Findings: closure, attraction, fit, sketch"),
                 ("0", "Fit the whole figure in the sketch"),
                 ("plus,minus", "Zoom the sketch in / out"),
                 ("left,right,up,down", "Pan the sketch"),
@@ -207,15 +207,15 @@ def key_guide_tasks() -> list[tuple[str, list[Binding]]]:
         (
             "export for the field",
             keys(
-                ("ctrl+s", "Save the document (the previous file kept as .bak)"),
+                ("ctrl+s", "Save (the previous file kept as .bak)"),
                 ("f9", "Save under a new name"),
                 ("f6", "GeoJSON of the stations and lines"),
                 ("f7", "CSV of stations and courses"),
                 ("f8", "Report with the cautions"),
                 ("f10", "The new description"),
                 ("f12", "The plot list and events"),
-                ("w", "On a description or plot sheet: write it to a file"),
-                ("ctrl+l", "Lay cruise lines and plots across this boundary"),
+                ("w", "On a description or plot sheet: write it"),
+                ("ctrl+l", "Lay cruise lines and plots in this boundary"),
             ),
         ),
         (
