@@ -28,7 +28,8 @@ Events (``[[course.at]]``)
 Public API
     ``course_points(conv, course, along_m) -> (easting, northing)``,
     ``along_problems(doc, file=None) -> list[DocumentError]``,
-    ``plot_list(conv) -> AlongList`` (plots and events), ``Plot``, ``Event``, ``AlongList``
+    ``plot_list(conv, adjust=None) -> AlongList`` (plots and events on the exports' figure),
+    ``Plot``, ``Event``, ``AlongList``
     (``as_dict()`` is the ``plots``/``events`` object of the JSON outputs),
     ``geojson_features(al)``, ``plots_csv(al)``, ``events_csv(al)``, ``report_blocks(al)``.
 """
@@ -70,13 +71,30 @@ _END_TOLERANCE = 1e-9
 
 
 def course_points(
-    conv: DocumentConversion, course: int, along_m: np.ndarray
+    conv: DocumentConversion,
+    course: int,
+    along_m: np.ndarray,
+    stations: tuple[np.ndarray, np.ndarray] | None = None,
 ) -> tuple[np.ndarray, np.ndarray]:
     """Grid easting and northing (CRS units) of points ``along_m`` metres (ground) from the
     start of course ``course`` (1-based), following the course's line (see the module notes).
+
+    ``stations``: the grid eastings and northings of the figure's stations (an adjusted
+    figure, :func:`geo.survey.adjusted_grid_stations`); the points are then moved by the
+    adjustment of the course's two ends in proportion to the distance along it, so that they
+    lie on the figure the stations draw. ``None``: on the marched (unadjusted) line.
     """
     c = conv.courses[course - 1]
-    return c.path_at(np.asarray(along_m, dtype=float))  # the marched line (geo.north)
+    along = np.asarray(along_m, dtype=float)
+    east, north = c.path_at(along)  # the marched line (geo.north)
+    if stations is None:
+        return east, north
+    e_st, n_st = stations
+    i = course - 1
+    f = along / c.length_m
+    d0e, d0n = e_st[i] - c.start.easting, n_st[i] - c.start.northing
+    d1e, d1n = e_st[i + 1] - c.end.easting, n_st[i + 1] - c.end.northing
+    return east + d0e + f * (d1e - d0e), north + d0n + f * (d1n - d0n)
 
 
 # --------------------------------------------------------------------------------------------
@@ -250,6 +268,9 @@ class AlongList:
 
     record_unit: RecordUnit
     crs: str
+    #: The figure the points lie on: ``"compass"``, ``"transit"`` (the adjusted figure of
+    #: the closure and exports) or ``"none"`` (the marched, unadjusted line).
+    adjustment: str
     start: int
     first_m: float | None
     course_ends: bool
@@ -362,8 +383,11 @@ def plot_chainages(conv: DocumentConversion) -> list[tuple[int, int, float, bool
     return out
 
 
-def plot_list(conv: DocumentConversion) -> AlongList:
-    """The plots and events of a converted document (see the module notes).
+def plot_list(conv: DocumentConversion, *, adjust: str | None = None) -> AlongList:
+    """The plots and events of a converted document (see the module notes), placed on the
+    figure of ``adjust`` (``"compass"``, ``"transit"`` or ``"none"``; default, as the closure
+    and the exports: compass for a closed traverse, none for an open one), so that they are
+    the points the exports carry.
 
     Raises :class:`DocumentError` (file, course, key) for an event beyond its course's end, a
     ``plots.first`` beyond the end of a course with ``every``, an unreadable distance, or more
@@ -401,18 +425,26 @@ def plot_list(conv: DocumentConversion) -> AlongList:
             raise _refuse_count(file, "at", c.index)
     start = doc.plots.start if doc.plots is not None else 1
     ends = bool(doc.plots.course_ends) if doc.plots is not None else False
-    return _placed(conv, ru, rows, start, _first_m(doc, file), ends)
+    method, stations = "none", None
+    if rows:
+        from geo.survey import adjusted_grid_stations
+
+        method, e_st, n_st, _plane = adjusted_grid_stations(conv, adjust)
+        stations = (e_st, n_st) if method != "none" else None
+    return _placed(conv, ru, rows, (method, stations), start, _first_m(doc, file), ends)
 
 
 def _placed(
     conv: DocumentConversion,
     ru: RecordUnit,
     rows: list[tuple[str, int, float, float, Any]],
+    figure: tuple[str, tuple[np.ndarray, np.ndarray] | None],
     start: int,
     first_m: float | None,
     ends: bool,
 ) -> AlongList:
-    """Grid and WGS84 positions of the rows of :func:`plot_list`, and the list."""
+    """Grid and WGS84 positions of the rows of :func:`plot_list` on ``figure`` (the
+    adjustment and its stations, see :func:`course_points`), and the list."""
     from geo import grid as _grid
 
     east = np.empty(len(rows))
@@ -421,7 +453,7 @@ def _placed(
     for k, row in enumerate(rows):
         by_course.setdefault(row[1], []).append(k)
     for course, ks in by_course.items():
-        e, n = course_points(conv, course, np.array([rows[k][2] for k in ks]))
+        e, n = course_points(conv, course, np.array([rows[k][2] for k in ks]), figure[1])
         east[ks], north[ks] = e, n
     lat = lon = np.empty(0)
     if rows:
@@ -462,7 +494,7 @@ def _placed(
             events.append(
                 Event(number=len(events) + 1, distance_text=text, note=extra.note, **common)
             )
-    return AlongList(ru, conv.crs, start, first_m, ends, tuple(plots), tuple(events))
+    return AlongList(ru, conv.crs, figure[0], start, first_m, ends, tuple(plots), tuple(events))
 
 
 # --------------------------------------------------------------------------------------------

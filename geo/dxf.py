@@ -14,6 +14,9 @@ Public API
                            transit rule only), a closed polyline;
     ``lodeline-stations``  a point at every station with its name (:mod:`geo.marks`);
     ``lodeline-plots``     a point at every intermediate (plot) point with its name;
+    ``lodeline-events``    a point at every event along a line (``[[course.at]]``);
+    ``lodeline-corners``   with found corners: each corner where the retracement puts it
+                           (found, held or restored), named with its status;
     ``lodeline-courses``   along each course, at its middle and turned with it: the bearing of
                            the record's reference and the distance as written (the record's
                            precision) above the line, the grid bearing below.
@@ -40,6 +43,8 @@ LAYERS = {
     "lodeline-adjusted": 7,
     "lodeline-stations": 1,
     "lodeline-plots": 3,
+    "lodeline-events": 6,
+    "lodeline-corners": 2,
     "lodeline-courses": 5,
 }
 
@@ -119,7 +124,7 @@ def dxf_text(conv: DocumentConversion, pos: Positions) -> str:
         )  # fmt: skip
     h = _text_height(pos)
     for m in marks(conv, pos):
-        layer = "lodeline-stations" if m.kind == "station" else "lodeline-plots"
+        layer = f"lodeline-{m.kind}s"  # stations, plots, events, corners
         msp.add_point((m.easting, m.northing), dxfattribs={"layer": layer})
         label = msp.add_text(m.label, height=h * 0.8, dxfattribs={"layer": layer})
         label.set_placement((m.easting + h * 0.5, m.northing + h * 0.5))

@@ -248,20 +248,13 @@ def _intermediate(
     """Intermediate points ``(number, course, along_m, easting, northing)``: the plots of
     :func:`geo.along.plot_chainages` on each course's marched path
     (:attr:`geo.north.CourseConversion.path`), moved by the adjustment of the course's ends in
-    proportion to the distance along it."""
-    from geo.along import plot_chainages
+    proportion to the distance along it (:func:`geo.along.course_points`)."""
+    from geo.along import course_points, plot_chainages
 
     pts: list[tuple[int, int, float, float, float]] = []
     for number, course, along, _end in plot_chainages(conv):
-        i = course - 1
-        c = conv.courses[i]
-        pe, pn = c.path_at([along])
-        f = along / c.length_m
-        s0, s1 = c.start, c.end
-        d0e, d0n = e_st[i] - s0.easting, n_st[i] - s0.northing
-        d1e, d1n = e_st[i + 1] - s1.easting, n_st[i + 1] - s1.northing
-        e = float(pe[0]) + d0e + f * (d1e - d0e)
-        pts.append((number, course, float(along), e, float(pn[0]) + d0n + f * (d1n - d0n)))
+        e, n = course_points(conv, course, np.array([along]), (e_st, n_st))
+        pts.append((number, course, float(along), float(e[0]), float(n[0])))
     return pts
 
 
@@ -373,7 +366,7 @@ def geojson_collection(
     from geo.along import geojson_features, plot_list
     from geo.retrace import corner_features
 
-    features += geojson_features(plot_list(conv))
+    features += geojson_features(plot_list(conv, adjust=pos.adjustment))
     features += corner_features(conv, decimals=COORD_DECIMALS)
     area = clo.area
     properties = {
@@ -540,7 +533,7 @@ def write_exports(
 
         outputs.append((Path(csv_path), points_csv(pos)))
         outputs.append((courses_csv_path(csv_path), courses_csv(conv, pos)))
-        al = plot_list(conv)
+        al = plot_list(conv, adjust=pos.adjustment)
         if al.plots:
             outputs.append((csv_path_beside(csv_path, "plots"), plots_csv(al)))
         if al.events:

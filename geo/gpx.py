@@ -1,14 +1,17 @@
-"""GPX 1.1 for handheld receivers: the stations and plots as waypoints, the line as a route.
+"""GPX 1.1 for handheld receivers: stations, plots, events and corners as waypoints, the line as
+a route.
 
 Public API
 ----------
 ``gpx_text(conv, pos) -> str``
     A GPX 1.1 document (UTF-8 XML, namespace ``http://www.topografix.com/GPX/1/1``): metadata
     (the title, and the cautions as its description), one ``wpt`` per mark of
-    :func:`geo.marks.marks` (stations, then plots; the misclosure is never a waypoint) and one
+    :func:`geo.marks.marks` (stations, plots, events, retraced corners; the misclosure is never a
+    waypoint) and one
     ``rte`` through the stations in course order (a closed figure ends on its beginning).
 ``gpx_waypoints(data, *, file=None) -> list[GpxPoint]``
-    The waypoints of a GPX 1.0 or 1.1 file (name, lat, lon), in file order; a file with none
+    The waypoints of a GPX 1.0 or 1.1 file (name, lat, lon), in file order, less those whose
+    type names a point this program computed (:data:`COMPUTED_KINDS`); a file with none
     reads its route points, then its track points. Raises :class:`geo.errors.InputError` naming
     the file and waypoint for a file that is not GPX or a point without a valid position.
 
@@ -128,6 +131,11 @@ def _coordinate(el: ET.Element, key: str, limit: float, file: str | None, where:
     return value
 
 
+#: Waypoint types this program writes for points it computed, not stations a crew can have
+#: found: reading a GPX file back, such waypoints are passed over (``<type>`` of GPX 1.1).
+COMPUTED_KINDS = frozenset({"plot", "event", "corner"})
+
+
 def gpx_waypoints(data: str | bytes, *, file: str | None = None) -> list[GpxPoint]:
     """The waypoints of a GPX file (see the module docstring)."""
     try:
@@ -146,6 +154,9 @@ def gpx_waypoints(data: str | bytes, *, file: str | None = None) -> list[GpxPoin
         found, kind = root.findall(f"{q('trk')}/{q('trkseg')}/{q('trkpt')}"), "track point"
     out = []
     for k, el in enumerate(found, start=1):
+        type_el = el.find(q("type"))
+        if type_el is not None and (type_el.text or "").strip() in COMPUTED_KINDS:
+            continue  # a point this program computed (a plot, event, retraced corner)
         name_el = el.find(q("name"))
         label = name_el.text.strip() if name_el is not None and name_el.text else None
         where = f"{kind} {k}" + (f" ({label})" if label else "")

@@ -73,7 +73,8 @@ def kml_text(conv: DocumentConversion, pos: Positions, figure: Mapping[str, Any]
     _sub(doc, "description", CAUTIONS)
     _figure(doc, conv, figure)
     named = marks(conv, pos)
-    for kind, title in (("station", "stations"), ("plot", "plots")):
+    kinds = (("station", "stations"), ("plot", "plots"), ("event", "events"), ("corner", "corners"))
+    for kind, title in kinds:
         chosen = [m for m in named if m.kind == kind]
         if not chosen:
             continue

@@ -4,7 +4,8 @@ Public API
 ----------
 ``marks(conv, pos) -> tuple[Mark, ...]``
     The stations and intermediate (plot) points of :func:`geo.export.positions`, in the order
-    the GeoJSON lists them, each with a short name a handheld receiver can show, a full label
+    the GeoJSON lists them, then the events and (with found corners) the retraced corners, each
+    with a short name a handheld receiver can show, a full label
     and a description with the bearings to run from it.
 ``route_stations(pos) -> tuple[Position, ...]``
     The stations along the line in course order (a closed figure ends on its beginning).
@@ -14,7 +15,8 @@ Public API
 Every position comes from :class:`geo.export.Positions` unchanged, so GPX, KML and DXF carry
 the positions of the GeoJSON export. Names are the station number and the monument's words
 (``"3 chestnut stump"``), cut to :data:`NAME_CHARS` characters; plots are ``"plot 1"``,
-``"plot 2"``... The point of beginning is ``"0 beginning"``.
+``"plot 2"``...; events ``"E1 crossed a r"`` and corners ``"restored 3"``. The point of
+beginning is ``"0 beginning"``.
 """
 
 from __future__ import annotations
@@ -41,8 +43,9 @@ _LEADING = re.compile(r"^\s*(?:thence\s+)?to\s+(?:(?:a|an|the)\s+)?", re.IGNOREC
 class Mark:
     """One named point.
 
-    ``kind``: ``"station"`` or ``"plot"``; ``index``: the station number, or the plot's number
-    from 1; ``name``: at most :data:`NAME_CHARS` characters, unique in the traverse; ``label``:
+    ``kind``: ``"station"``, ``"plot"``, ``"event"`` or ``"corner"``; ``index``: the station
+    number, the plot's or event's number from 1, or the corner's number; ``name``: at most
+    :data:`NAME_CHARS` characters, unique in the traverse; ``label``:
     the name uncut; ``description``: what the point is and the course to run from it.
     ``lat``/``lon`` WGS84 degrees, ``easting``/``northing`` in the CRS's unit.
     """
@@ -124,15 +127,55 @@ def _plot_mark(conv: DocumentConversion, p: Position) -> Mark:
                 p.northing)  # fmt: skip
 
 
+def _event_marks(conv: DocumentConversion, pos: Positions) -> list[Mark]:
+    """The events of ``[[course.at]]``, placed on the figure of ``pos`` (geo.along)."""
+    from geo.along import plot_list
+
+    out = []
+    for e in plot_list(conv, adjust=pos.adjustment).events:
+        label = f"E{e.number} {e.note}" if e.note else f"E{e.number}"
+        text = (
+            f"event {e.number}: {e.note or 'a point along the line'}, at {e.distance_text} "
+            f"({e.along_course_m:.2f} m) on course {e.course} from station {e.course - 1}."
+        )
+        out.append(Mark("event", e.number, label[:NAME_CHARS].rstrip(), label, text,
+                        e.lat, e.lon, e.easting, e.northing))  # fmt: skip
+    return out
+
+
+def _corner_marks(conv: DocumentConversion) -> list[Mark]:
+    """Where a retracement puts each corner of a document with found corners (found, held
+    or restored from them: :func:`geo.retrace.restore_document`); none without found ones."""
+    from geo.retrace import restore_document
+
+    corners = restore_document(conv).corners
+    if not any(c.status in ("found", "held") for c in corners if c.index > 0):
+        return []
+    out = []
+    for c in corners:
+        # status first: a name a point file reads back as a corner number ("C3", "3 ...")
+        # would turn a computed corner into a found one
+        label = f"{c.status} {c.index}"
+        words = f" ({c.description})" if c.description else ""
+        text = f"corner {c.index}{words}: {c.status_text}."
+        out.append(Mark("corner", c.index, label[:NAME_CHARS].rstrip(), label, text,
+                        c.lat, c.lon, c.easting, c.northing))  # fmt: skip
+    return out
+
+
 def marks(conv: DocumentConversion, pos: Positions) -> tuple[Mark, ...]:
-    """The named stations and plots of ``pos`` (see the module docstring).
+    """The named stations, plots, events and corners of ``pos`` (see the module docstring).
 
     For a closed traverse the last station is not a mark: adjusted, it is the point of
-    beginning again; unadjusted, it is where the misclosure leaves the march.
+    beginning again; unadjusted, it is where the misclosure leaves the march. Events lie on
+    the figure of ``pos``; corners are where the retracement puts them (found, held or
+    restored), for a document with found corners.
     """
     shown = pos.stations[:-1] if pos.closed else pos.stations
     out = [_station_mark(conv, p) for p in shown]
     out += [_plot_mark(conv, p) for p in pos.points]
+    out += _event_marks(conv, pos)
+    out += _corner_marks(conv)
     return tuple(out)
 
 

@@ -1093,7 +1093,8 @@ def _survey_blocks(conv: Any, adjust: str | None) -> tuple[list[Block], Any, str
         blocks += _description_blocks(conv, closure.adjustment)
     from geo.along import plot_list, report_blocks
 
-    blocks += report_blocks(plot_list(conv), conv)
+    placed_on = closure.adjustment if closure is not None else adjust
+    blocks += report_blocks(plot_list(conv, adjust=placed_on), conv)
 
     fit = None
     if survey.found_count(conv) >= 2:

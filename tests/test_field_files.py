@@ -56,9 +56,9 @@ def export_all(demo, folder, adjust=None):
 
 
 def geojson_points(collection):
-    """{(kind, index): (lon, lat, easting, northing)} of the GeoJSON's station and plot Point
-    features (the corners with their restoration status, kind "corner", are a GeoJSON layer
-    of their own, not waypoints)."""
+    """{(kind, index): (lon, lat, easting, northing)} of the GeoJSON's Point features:
+    stations, plots (kind "point"), events along the lines and, with found corners, the
+    corners with their restoration status (every one a waypoint, placemark and DXF point)."""
     return {
         (f["properties"]["kind"], f["properties"]["index"]): (
             *f["geometry"]["coordinates"],
@@ -66,17 +66,21 @@ def geojson_points(collection):
             f["properties"]["northing"],
         )
         for f in collection["features"]
-        # stations and plots (events along the lines and restored corners are GeoJSON points
-        # of their own)
-        if f["geometry"]["type"] == "Point" and f["properties"]["kind"] in ("station", "point")
+        if f["geometry"]["type"] == "Point"
     }
 
 
 def mark_key(name):
-    """(kind, index) of a waypoint or placemark name: "3 chestnut stump", "plot 2"."""
+    """(kind, index) of a waypoint or placemark name: "3 chestnut stump", "plot 2",
+    "E1 crossed a run" (an event), "restored 3" or "record only 5" (a corner)."""
     if name.startswith("plot "):
         return ("point", int(name.split()[1]))
-    return ("station", int(name.split()[0]))
+    first = name.split()[0]
+    if first[0] == "E":
+        return ("event", int(first[1:]))
+    if first in ("found", "held", "restored", "record"):
+        return ("corner", int(name.split()[-1]))
+    return ("station", int(first))
 
 
 def children(el):
@@ -103,7 +107,7 @@ def test_gpx_reads_back_with_gpxpy_at_the_geojson_positions(demo, tmp_path):
         # written to the 8 decimals of the GeoJSON: equal to the last written digit
         assert (w.longitude, w.latitude) == (lon, lat)
         assert len(w.name) <= NAME_CHARS
-        assert w.type in ("station", "plot")
+        assert w.type in ("station", "plot", "event", "corner")
     assert len({w.name for w in gpx.waypoints}) == len(gpx.waypoints)
     (route,) = gpx.routes
     n = len(conv.courses)
@@ -285,3 +289,37 @@ def test_export_to_a_missing_folder_is_refused_before_writing(tmp_path, capsys):
     assert main(argv) == 2
     assert "no folder" in capsys.readouterr().err
     assert not (tmp_path / "a.gpx").exists()
+
+
+def test_field_files_carry_events_and_the_retraced_corners(tmp_path):
+    # the greyfen demo crosses a brook on course 2; the wrenfield demo has three found
+    # corners and the others restored from them (as `close --json` lists them)
+    demos = {d.stem: d for d in DEMOS}
+    (tmp_path / "a").mkdir()
+    (tmp_path / "b").mkdir()
+    _conv, out, collection = export_all(demos["greyfen_woodlot_1925"], tmp_path / "a")
+    gpx = gpxpy.parse(out["gpx"].read_text(encoding="utf-8"))
+    (event,) = [w for w in gpx.waypoints if w.type == "event"]
+    assert event.name.startswith("E1 crossed") and "course 2" in event.description
+    assert "lodeline-events" in {layer.dxf.name for layer in ezdxf.readfile(out["dxf"]).layers}
+    _conv, out, collection = export_all(demos["wrenfield_glebe_1911"], tmp_path / "b")
+    corners = {
+        f["properties"]["index"]: f["properties"]["status"]
+        for f in collection["features"]
+        if f["properties"]["kind"] == "corner"
+    }
+    gpx = gpxpy.parse(out["gpx"].read_text(encoding="utf-8"))
+    written = {int(w.name.split()[-1]): w.name.rsplit(" ", 1)[0] for w in gpx.waypoints
+               if w.type == "corner"}  # fmt: skip
+    assert written == corners
+    assert {"found", "restored"} <= set(written.values())
+    names = [m.name for m in kml_placemarks(out["kml"]) if m.geometry.geom_type == "Point"]
+    assert sum(mark_key(n)[0] == "corner" for n in names) == len(corners)
+    # read back as a receiver's file that lost the waypoint types, a restored corner's name
+    # is no corner number: it is never taken for a found corner
+    from geo.found_import import _by_name
+
+    conv = convert_file(demos["wrenfield_glebe_1911"])
+    for k, status in corners.items():
+        if status == "restored":
+            assert _by_name(conv, f"restored {k}")[0] == set()

@@ -238,3 +238,56 @@ def test_the_misclosure_is_that_of_the_square_walked_by_compass(which, step, tmp
     year = decimal_year(datetime.date(1950, 6, 1))
     gap = _walked_gap(lat, lon, year, side, step)
     assert _close(path, capsys)["misclosure_m"] == pytest.approx(gap, abs=1e-3)
+
+
+def test_events_and_plots_lie_on_the_exported_figure(tmp_path: Path, capsys):
+    # An event and a plot at the same chainage of one course of a closed figure that does
+    # not close (the compass rule moves every point): both are the same point of the export,
+    # on the adjusted figure, in the GeoJSON, the plot list of `close` and the events CSV;
+    # the compass rule moves a point between its course's ends in proportion to the distance
+    # along it (Ghilani & Wolf, Elementary Surveying).
+    doc = tmp_path / "lot.toml"
+    doc.write_text(
+        'format_version = 1\ntitle = "Test lot, Quarry Fork"\nclosed = true\n\n'
+        '[place]\nlat = 44.1\nlon = -72.9\n\n[record]\nreference = "true"\n'
+        'distance_unit = "chain"\nfoot = "us"\n\n[target]\ndate = "2025-06-01"\n\n'
+        '[[course]]\ncall = "N 5 W 20.97 chains"\n\n'
+        '[[course]]\ncall = "N 83 E 21.52 chains"\nevery = "9.5 chains"\n\n'
+        '[[course.at]]\ndistance = "9.50 chains"\nnote = "crossed a brook"\n\n'
+        '[[course]]\ncall = "S 5 E 20.48 chains"\n\n'
+        '[[course]]\ncall = "S 82 W 21.58 chains"\n',
+        encoding="utf-8",
+    )
+    out = tmp_path / "lot.geojson"
+    assert (
+        main(["export", str(doc), "--geojson", str(out), "--csv", str(tmp_path / "lot.csv")]) == 0
+    )
+    features = json.loads(out.read_text(encoding="utf-8"))["features"]
+    (event,) = [f for f in features if f["properties"]["kind"] == "event"]
+    plot = next(
+        f
+        for f in features
+        if f["properties"]["kind"] == "point"
+        and f["properties"]["course"] == 2
+        and abs(f["properties"]["along_m"] - 9.5 * 20.1168) < 1e-3
+    )
+    assert event["geometry"]["coordinates"] == plot["geometry"]["coordinates"]
+    assert event["properties"]["easting"] == pytest.approx(plot["properties"]["easting"], abs=1e-6)
+    # the marched (unadjusted) point is elsewhere: the figure misses by decimetres
+    capsys.readouterr()
+    assert main(["close", str(doc), "--json"]) == 0
+    closure = json.loads(capsys.readouterr().out)
+    assert closure["misclosure_m"] > 0.05
+    (listed,) = [
+        p
+        for p in closure["plots"]
+        if p["course"] == 2 and abs(p["along_course_m"] - plot["properties"]["along_m"]) < 1e-6
+    ]
+    assert listed["easting"] == pytest.approx(plot["properties"]["easting"], abs=1e-6)
+    assert listed["northing"] == pytest.approx(plot["properties"]["northing"], abs=1e-6)
+    (ev,) = closure["events"]
+    assert (ev["easting"], ev["northing"]) == pytest.approx(
+        (listed["easting"], listed["northing"]), abs=1e-6
+    )
+    events_csv = (tmp_path / "lot-events.csv").read_text(encoding="utf-8")
+    assert f"{ev['easting']:.3f}"[:-1] in events_csv

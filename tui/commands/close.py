@@ -203,7 +203,7 @@ def render(result: Any, title: str | None = None, conv: Any = None) -> str:
         )
         lines.append(f"error budget: bearings +-{result.bearing_sigma_deg:.3f} deg{dec}{total}")
     if conv is not None:
-        lines += along_lines(conv)
+        lines += along_lines(conv, result.adjustment)
     return finish(lines, result.notes)
 
 
@@ -230,19 +230,24 @@ def found_gap_lines(gaps: Any) -> list[str]:
     return ["", head, *table(rows, right={0, 1, 2, 3, 4})]
 
 
-def along_lines(conv: Any) -> list[str]:
-    """The plot list and the events of ``conv`` as text tables (nothing when it has neither)."""
+def along_lines(conv: Any, adjust: str | None = None) -> list[str]:
+    """The plot list and the events of ``conv`` as text tables (nothing when it has neither),
+    placed on the figure of ``adjust`` (see :func:`geo.along.plot_list`)."""
     from geo.along import EVENT_HEADERS, PLOT_HEADERS, event_rows, plot_list, plot_rows
 
     from .common import text_table
 
-    al = plot_list(conv)
+    al = plot_list(conv, adjust=adjust)
+    figure = "unadjusted line" if al.adjustment == "none" else f"{al.adjustment}-adjusted figure"
     lines: list[str] = []
     if al.plots:
-        lines += ["", f"plot list ({len(al.plots)} plots; chainage record unit / metres)"]
+        lines += [
+            "",
+            f"plot list ({len(al.plots)} plots on the {figure}; chainage record unit / metres)",
+        ]
         lines += text_table([list(PLOT_HEADERS), *map(list, plot_rows(al))], right={0, 1, 2, 3})
     if al.events:
-        lines += ["", "along the lines"]
+        lines += ["", f"along the lines (on the {figure})"]
         lines += text_table([list(EVENT_HEADERS), *map(list, event_rows(al))], right={0, 3, 4})
     return lines
 
@@ -312,7 +317,10 @@ def record_json(conv: Any, result: Any) -> dict[str, Any]:
     from geo.along import plot_list
     from geo.measures import closure_record_values
 
-    out = {**closure_record_values(conv, result), **plot_list(conv).as_dict()}
+    out = {
+        **closure_record_values(conv, result),
+        **plot_list(conv, adjust=result.adjustment).as_dict(),
+    }
     check = _area_check(conv.document, result)
     if check is not None:
         out["stated_area"] = check.as_dict()

@@ -140,7 +140,7 @@ def render(conv: Any) -> str:
 
         from .close import along_lines
 
-        lines += along_lines(conv)
+        lines += along_lines(conv, "none")  # on the stations shown: the marched ones
     notes = list(conv.warnings)
     for c in conv.courses:
         notes += [f"course {c.index}: {w}" for w in c.warnings]
