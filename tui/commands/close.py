@@ -11,7 +11,7 @@ import argparse
 import sys
 from typing import Any
 
-from .common import add_adjust_option
+from .common import add_adjust_option, add_json_options
 
 HELP = "misclosure, adjustment, area and local attraction of a traverse document"
 
@@ -43,7 +43,7 @@ def register(subparsers: Any) -> None:
         help="north of the latitudes, departures and bearings (default true; magnetic = at the "
         "record date)",
     )
-    p.add_argument("--json", action="store_true", help="print one JSON object")
+    add_json_options(p)
     p.add_argument(
         "--summary",
         metavar="OUT.csv",
@@ -318,7 +318,7 @@ def emit(
             from geo.measures import merge_record_values
 
             obj = merge_record_values(obj, extra_json(conv, result))
-        print_json(obj)
+        print_json(obj, pretty=args.pretty)
     elif with_conversion:
         sys.stdout.write(render_result(result, doc.title, conv))
     else:

@@ -38,7 +38,9 @@ def register(subparsers: Any) -> None:
         help="1-sigma of the empirical declination for the survey-date estimate, degrees "
         "(default: the fit's standard error of the rotation)",
     )
-    p.add_argument("--json", action="store_true", help="print one JSON object")
+    from .common import add_json_options
+
+    add_json_options(p)
     p.set_defaults(func=run)
 
 
