@@ -704,22 +704,25 @@ def _quick_call(
     unit = UNIT_ALIASES.get(m["u"])
     if unit is None:
         return None
-    total = Fraction(m["v"])
+    # the length in the unit, exactly: num / den (int / int is the correctly rounded double
+    # of the exact ratio, reduced or not, as the general reader's Fraction arithmetic gives)
+    whole, _, decimals = m["v"].partition(".")
+    num, den = int(whole + decimals), 10 ** len(decimals)
     if m["u2"] is not None:
         if unit != "chain" or UNIT_ALIASES.get(m["u2"]) != "link":
             return None
-        links = Fraction(int(m["v2"]))
+        links = int(m["v2"])
         if links >= 100:
             return None
-        total += links / 100
-    if total <= 0:
+        num, den = num * 100 + links * den, den * 100
+    if num <= 0:
         return None
     try:
         per = metres_per(unit, foot=foot, vara_inches=vara_inches)
     except LodelineError:
         return None
-    metres = (total.numerator * per.numerator) / (total.denominator * per.denominator)
-    distance = Distance(metres, total.numerator / total.denominator, unit, m["distance"])
+    metres = (num * per.numerator) / (den * per.denominator)
+    distance = Distance(metres, num / den, unit, m["distance"])
     note_text = "" if note is None else note.strip().rstrip(",;").strip()
     return Call(bearing, distance, note_text, "bearing_and_distance", text)
 

@@ -45,7 +45,9 @@ def json_text(obj: Any, *, pretty: bool = False) -> str:
     :func:`to_jsonable` first. With string keys both give the same text."""
     if not pretty:
         try:
-            return json.dumps(obj, ensure_ascii=False, allow_nan=False, default=_plain)
+            return json.dumps(
+                obj, ensure_ascii=False, allow_nan=False, check_circular=False, default=_plain
+            )
         except (ValueError, TypeError):  # NaN or infinity somewhere: null, as to_jsonable says
             pass
     indent = 2 if pretty else None
