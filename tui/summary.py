@@ -275,6 +275,11 @@ def summarise(
         return rows
     from concurrent.futures import ProcessPoolExecutor, as_completed
 
+    # the engine imported once here: workers forked from this process start with it
+    import geo.document
+    import geo.north
+    import geo.survey  # noqa: F401
+
     done: dict[int, list[SummaryRow]] = {}
     pool = ProcessPoolExecutor(max_workers=min(jobs, len(chunks)), initializer=_quiet_worker)
     try:
