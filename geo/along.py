@@ -191,7 +191,7 @@ def _course_events(doc: Document, course: Any) -> list[Any]:
     from geo.document import CourseEvent
 
     out: list[Any] = []
-    if course.call is not None:
+    if course.call is not None and course.call.count(",") >= 2:  # see split_call_events
         foot = document_foot(doc)
         _, in_call = split_call_events(course.call, foot=foot, vara_inches=doc.record.vara_inches)
         out += [CourseEvent(distance=d, note=n or None) for d, n in in_call]

@@ -34,7 +34,7 @@ from pathlib import Path
 
 from geo.errors import OutputError, OutputExistsError
 
-__all__ = ["same_file", "write_all", "write_atomic"]
+__all__ = ["check_targets", "same_file", "write_all", "write_atomic"]
 
 PathLike = str | os.PathLike[str]
 
@@ -120,6 +120,15 @@ def write_all(
     for folder in {_folder(item.target) for item in pending} if durable else ():
         _sync_folder(folder)
     return [item.target for item in pending]
+
+
+def check_targets(
+    paths: Sequence[PathLike], *, overwrite: bool = False, inputs: Iterable[PathLike] = ()
+) -> None:
+    """Refuse, before any work is done, outputs :func:`write_all` would refuse (step 1 of the
+    module docstring): named twice, one of ``inputs``, a folder, in no folder, or existing
+    without ``overwrite``. Raises :class:`OutputExistsError` or :class:`OutputError`."""
+    _check_targets([_Pending(Path(p), b"") for p in paths], overwrite, list(inputs))
 
 
 def _folder(target: Path) -> Path:

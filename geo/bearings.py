@@ -840,7 +840,7 @@ def _feet_after(r: Reader, k: int) -> bool:
     return r.word(nxt) not in _EW and r.word(nxt) not in _NS
 
 
-def _in_range(azimuth_deg: float) -> float:
+def in_range(azimuth_deg: float) -> float:
     """``azimuth_deg`` reduced to [0, 360) by :func:`geo.angles.normalize_azimuth`, skipped when
     it is already inside (0, 360), where the reduction returns it unchanged."""
     if 0.0 < azimuth_deg < 360.0:
@@ -903,7 +903,7 @@ def _quadrant(r: Reader, i: int, stop_before_units) -> tuple[Bearing, int]:
     else:
         az = 360 * den - a
     bearing = Bearing(
-        _in_range(az / den),
+        in_range(az / den),
         "quadrant",
         angle.step_num / angle.step_den,
         r.span(i, k + 1),
@@ -946,7 +946,7 @@ def _azimuth(
         raise r.fail(i, f"azimuth {r.text[angle.start : angle.end]} is more than 360 degrees")
     from_north = a + 180 * den if reference == "south" else a
     bearing = Bearing(
-        _in_range(from_north / den),
+        in_range(from_north / den),
         "azimuth",
         angle.step_num / angle.step_den,
         r.span(start, end),

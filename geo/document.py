@@ -1189,12 +1189,28 @@ def _parse_course_cached(
     )
 
 
+#: The document whose courses were parsed last, its file and its courses: loading checks
+#: every course and the conversion right after asks for the same ones (a document is frozen,
+#: so the same object has the same courses). One tuple, replaced whole (threads read it whole).
+_last_parsed: tuple[Any, str | None, tuple[RecordedCourse, ...]] | None = None
+
+
 def parse_courses(doc: Document, *, file: str | None = None) -> tuple[RecordedCourse, ...]:
     """Parse every course of ``doc`` into recorded azimuths and lengths (metres).
 
     Raises the first :class:`DocumentError` (file, course, key) met, courses in order.
     Courses given by an angle take their azimuth from the previous course (unadjusted).
     """
+    global _last_parsed
+    last = _last_parsed
+    if last is not None and last[0] is doc and last[1] == file:
+        return last[2]
+    result = _parse_courses(doc, file)
+    _last_parsed = (doc, file, result)
+    return result
+
+
+def _parse_courses(doc: Document, file: str | None) -> tuple[RecordedCourse, ...]:
     ctx_items = tuple(_unit_context(doc).items())
     out: list[RecordedCourse] = []
     omitted: list[Any] = []

@@ -231,6 +231,20 @@ def field_at(
 #: is computed whole), at most _MEMO_MAX points a model (then forgotten at once).
 _MEMO_BATCH = 4096
 _MEMO_MAX = 50_000
+#: Every model's memory of points (by the model's id), for :func:`forget_computed_points`.
+_MEMOS: dict[int, dict[tuple[float, ...], tuple[float, ...]]] = {}
+
+
+def forget_computed_points() -> None:
+    """Empty every model's memory of computed points.
+
+    A point is synthesized together with the others of its batch, and a value taken from the
+    memory was computed in another batch (the matrix products may then round in the last
+    bit). A process that works through many unrelated documents forgets before each one, so
+    that each document's figures are the very bits a process opening only that document
+    gives."""
+    for memo in _MEMOS.values():
+        memo.clear()
 
 
 def _components(
@@ -257,7 +271,10 @@ def _components(
 
     if lat.size > _MEMO_BATCH:
         return synthesized((lat, lon, h, year))
-    memo: dict[tuple[float, ...], tuple[float, ...]] = model._cache.setdefault("points", {})
+    memo: dict[tuple[float, ...], tuple[float, ...]] | None = model._cache.get("points")
+    if memo is None:
+        memo = model._cache["points"] = {}
+        _MEMOS[id(model)] = memo
     keys = list(zip(lat.tolist(), lon.tolist(), h.tolist(), year.tolist(), strict=True))
     found = [memo.get(k) for k in keys]
     missing = [i for i, v in enumerate(found) if v is None]

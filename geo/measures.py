@@ -270,10 +270,24 @@ def area_text(m2: float, ru: RecordUnit, acres: float | None = None) -> str:
 
 
 def _running(lengths: list[float]) -> list[float]:
-    out, total = [0.0], []
+    """Running sums 0, l1, l1 + l2, … of finite ``lengths``, each correctly rounded (the
+    value ``math.fsum`` gives of that prefix), in linear time: the exact prefix sum is carried
+    as non-overlapping partials (Shewchuk's algorithm, the one ``math.fsum`` uses), and the
+    few partials are rounded once a step."""
+    out, partials = [0.0], []
     for value in lengths:
-        total.append(value)
-        out.append(math.fsum(total))
+        x, kept = value, 0
+        for y in partials:
+            if abs(x) < abs(y):
+                x, y = y, x
+            hi = x + y
+            lo = y - (hi - x)
+            if lo:
+                partials[kept] = lo
+                kept += 1
+            x = hi
+        partials[kept:] = [x]
+        out.append(math.fsum(partials))
     return out
 
 

@@ -98,12 +98,25 @@ class References:
 
     def as_dict(self, suffix: str = "") -> dict[str, Any]:
         """``{"magnetic_record"+suffix: ..., "true"+suffix: ..., ...}``."""
+        keys = _REFERENCE_KEYS.get(suffix) or _reference_keys(suffix)
         return {
-            f"magnetic_record{suffix}": self.magnetic_record,
-            f"true{suffix}": self.true,
-            f"grid{suffix}": self.grid,
-            f"magnetic_target{suffix}": self.magnetic_target,
+            keys[0]: self.magnetic_record,
+            keys[1]: self.true,
+            keys[2]: self.grid,
+            keys[3]: self.magnetic_target,
         }
+
+
+#: The keys of References.as_dict by suffix (a long document asks for them per course).
+_REFERENCE_KEYS: dict[str, tuple[str, ...]] = {}
+
+
+def _reference_keys(suffix: str) -> tuple[str, ...]:
+    keys = tuple(
+        f"{name}{suffix}" for name in ("magnetic_record", "true", "grid", "magnetic_target")
+    )
+    _REFERENCE_KEYS[suffix] = keys
+    return keys
 
 
 @dataclass(frozen=True)

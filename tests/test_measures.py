@@ -118,3 +118,20 @@ def test_area_text_names_every_measure():
     assert "0.8094 ha" in text  # 2 US survey acres = 8,093.745 m² (from the definitions)
     feet = record_unit(_doc({"reference": "true", "distance_unit": "ft", "foot": "us"}, []))
     assert not uses_roods(feet) and " a " not in area_text(float(ACRE_US), feet)
+
+
+def test_running_distances_are_the_correctly_rounded_prefix_sums():
+    # reference: the standard library's math.fsum of every prefix (correctly rounded sums)
+    import math
+    import random
+
+    from geo.measures import _running
+
+    rng = random.Random(1925)
+    for _ in range(100):
+        values = [
+            rng.choice((rng.uniform(0, 500), 10 ** rng.uniform(-9, 7), 0.1, 0.0))
+            for _ in range(rng.randint(0, 200))
+        ]
+        expected = [0.0] + [math.fsum(values[: i + 1]) for i in range(len(values))]
+        assert _running(values) == expected

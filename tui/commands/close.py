@@ -11,7 +11,7 @@ import argparse
 import sys
 from typing import Any
 
-from .common import add_adjust_option
+from .common import add_adjust_option, add_json_options
 
 HELP = "misclosure, adjustment, area and local attraction of a traverse document"
 
@@ -28,7 +28,13 @@ def register(subparsers: Any) -> None:
             "bearings are. Choosing another north turns the figure; no closure figure changes."
         ),
     )
-    p.add_argument("document", metavar="DOC", help="traverse document (.toml or .json)")
+    p.add_argument(
+        "document",
+        metavar="DOC",
+        nargs="+",
+        help="traverse document (.toml or .json); with --summary, any number of documents and "
+        "folders (searched recursively for .toml and .json documents)",
+    )
     add_adjust_option(p, "adjustment rule")
     p.add_argument(
         "--north",
@@ -37,8 +43,32 @@ def register(subparsers: Any) -> None:
         help="north of the latitudes, departures and bearings (default true; magnetic = at the "
         "record date)",
     )
-    p.add_argument("--json", action="store_true", help="print one JSON object")
+    add_json_options(p)
+    p.add_argument(
+        "--summary",
+        metavar="OUT.csv",
+        help="close every document and write one CSV row per document (figures, or the "
+        "one-line error of a document that does not read); sorted by path",
+    )
+    p.add_argument(
+        "--jobs",
+        type=_jobs,
+        metavar="N",
+        help="with --summary: worker processes (default: the number of cores; 1 works in "
+        "this process)",
+    )
+    p.add_argument("--force", action="store_true", help="with --summary: replace OUT.csv")
     p.set_defaults(func=run)
+
+
+def _jobs(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        value = 0
+    if not 1 <= value <= 512:
+        raise argparse.ArgumentTypeError(f"{text!r}: give a whole number of processes, 1 to 512")
+    return value
 
 
 def _m(value: float, digits: int = 3) -> str:
@@ -293,7 +323,7 @@ def emit(
             from geo.measures import merge_record_values
 
             obj = merge_record_values(obj, extra_json(conv, result))
-        print_json(obj)
+        print_json(obj, pretty=args.pretty)
     elif with_conversion:
         sys.stdout.write(render_result(result, doc.title, conv))
     else:
@@ -328,9 +358,19 @@ def record_json(conv: Any, result: Any) -> dict[str, Any]:
 
 
 def run(args: argparse.Namespace) -> int:
-    """Load, convert and close the document; print the closure or its JSON object."""
+    """Load, convert and close the document; print the closure or its JSON object. With
+    ``--summary``, close every document named and write the summary CSV instead."""
+    from geo.errors import InputError
     from geo.survey import close_document
 
+    if args.summary is not None:
+        return run_summary(args)
+    if len(args.document) > 1:
+        raise InputError("several documents are closed together with --summary OUT.csv")
+    for option in ("jobs", "force"):
+        if getattr(args, option):
+            raise InputError(f"--{option} goes with --summary OUT.csv")
+    args.document = args.document[0]
     return emit(
         args,
         lambda conv: close_document(conv, adjust=args.adjust, north=args.north),
@@ -339,3 +379,41 @@ def run(args: argparse.Namespace) -> int:
         extra_json=record_json,
         with_conversion=True,
     )
+
+
+def run_summary(args: argparse.Namespace) -> int:
+    """Close every document of ``args.document`` (files and folders) and write the summary
+    CSV all-or-nothing (see :mod:`tui.summary`). Exit 0 once it is written, also when some
+    documents did not read; their count goes to stderr."""
+    import os
+
+    from geo.atomic import check_targets
+    from geo.cautions import SHORT_CAUTION
+    from geo.errors import InputError
+    from tui.progress import Progress
+    from tui.summary import STATUS_OK, STATUS_UNREAD, find_documents, summarise, summary_csv
+
+    from .common import write_file
+
+    if args.json:
+        raise InputError("--json and --summary: the summary is a CSV file, give one of them")
+    paths = find_documents(args.document)
+    if not paths:
+        raise InputError("no .toml or .json documents in " + ", ".join(args.document), field="DOC")
+    check_targets([args.summary], overwrite=args.force, inputs=paths)
+    jobs = args.jobs or os.cpu_count() or 1
+    with Progress(len(paths), unit="documents", description="closing") as bar:
+        rows = summarise(
+            paths, jobs=jobs, adjust=args.adjust, north=args.north, advance=bar.advance
+        )
+    write_file(args.summary, summary_csv(rows), force=args.force, inputs=tuple(paths))
+    failed = sum(1 for r in rows if r.status != STATUS_OK)
+    sys.stdout.write(f"wrote {args.summary} ({len(rows)} documents)\n")
+    sys.stdout.write(SHORT_CAUTION + "\n")
+    if failed:
+        unread = sum(1 for r in rows if r.status == STATUS_UNREAD)
+        sys.stderr.write(
+            f"lodeline close: {failed} of {len(rows)} documents with problems "
+            f"({unread} did not read); see the problems column of {args.summary}\n"
+        )
+    return 0

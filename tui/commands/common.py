@@ -29,10 +29,44 @@ def to_jsonable(value: Any) -> Any:
     return value
 
 
-def print_json(obj: Any) -> None:
-    """Print ``obj`` as indented JSON on stdout."""
-    json.dump(to_jsonable(obj), sys.stdout, indent=2, ensure_ascii=False, allow_nan=False)
-    sys.stdout.write("\n")
+def _plain(value: Any) -> Any:
+    """``default`` of the fast JSON encoding: a numpy scalar or array as a plain value."""
+    if hasattr(value, "tolist"):  # numpy arrays and scalars
+        return value.tolist()
+    raise TypeError(f"not JSON: {type(value).__name__}")
+
+
+def json_text(obj: Any, *, pretty: bool = False) -> str:
+    """``obj`` as JSON text (numpy values plain, NaN and infinities as null), on one line, or
+    indented by two spaces with ``pretty``.
+
+    The one-line text is encoded at once by the standard library's C encoder; only an object
+    holding a non-finite float (or keys the encoder refuses) goes through
+    :func:`to_jsonable` first. With string keys both give the same text."""
+    if not pretty:
+        try:
+            return json.dumps(
+                obj, ensure_ascii=False, allow_nan=False, check_circular=False, default=_plain
+            )
+        except (ValueError, TypeError):  # NaN or infinity somewhere: null, as to_jsonable says
+            pass
+    indent = 2 if pretty else None
+    return json.dumps(to_jsonable(obj), indent=indent, ensure_ascii=False, allow_nan=False)
+
+
+def print_json(obj: Any, *, pretty: bool = False) -> None:
+    """Print ``obj`` as JSON on stdout (see :func:`json_text`), one write."""
+    sys.stdout.write(json_text(obj, pretty=pretty) + "\n")
+
+
+def add_json_options(parser: Any, help: str = "print one JSON object") -> None:
+    """Add ``--json`` and ``--pretty`` (indented JSON; default: one line) to ``parser``."""
+    parser.add_argument("--json", action="store_true", help=help)
+    parser.add_argument(
+        "--pretty",
+        action="store_true",
+        help="with --json: indent the JSON for reading (default: one line, the fastest)",
+    )
 
 
 def write_file(

@@ -12,7 +12,7 @@ import argparse
 import sys
 from typing import Any
 
-from .common import add_target_options, model_name, text_table
+from .common import add_json_options, add_target_options, model_name, text_table
 
 HELP = "convert the bearings of a traverse document between north references"
 
@@ -36,7 +36,7 @@ def register(subparsers: Any) -> None:
         type=model_name,
         help="field model for the record date (default: the document's record.model)",
     )
-    p.add_argument("--json", action="store_true", help="print one JSON object")
+    add_json_options(p)
     p.set_defaults(func=run)
 
 
@@ -180,7 +180,7 @@ def run(args: argparse.Namespace) -> int:
         from geo.measures import conversion_record_values, merge_record_values
 
         extra = {**conversion_record_values(conv), **plot_list(conv).as_dict()}
-        print_json(merge_record_values(conv.as_dict(), extra))
+        print_json(merge_record_values(conv.as_dict(), extra), pretty=args.pretty)
     else:
         sys.stdout.write(render(conv))
     return 0

@@ -11,7 +11,13 @@ from __future__ import annotations
 import argparse
 from typing import Any
 
-from .common import add_adjust_option, add_target_options, print_json, write_output
+from .common import (
+    add_adjust_option,
+    add_json_options,
+    add_target_options,
+    print_json,
+    write_output,
+)
 
 HELP = "write the figure as a new legal description (basis of bearings, record, area)"
 
@@ -63,7 +69,7 @@ def register(subparsers: Any) -> None:
     add_target_options(p)
     p.add_argument("--out", metavar="FILE", help="write the text to FILE instead of stdout")
     p.add_argument("--force", action="store_true", help="replace FILE if it exists")
-    p.add_argument("--json", action="store_true", help="print one JSON object")
+    add_json_options(p)
     p.set_defaults(func=run)
 
 
@@ -93,7 +99,7 @@ def run(args: argparse.Namespace) -> int:
         decimals=args.decimals,
     )
     if args.json:
-        print_json(desc.as_dict())
+        print_json(desc.as_dict(), pretty=args.pretty)
         return 0
     write_output(args.out, desc.text, force=args.force)
     return 0

@@ -78,7 +78,8 @@ def run_history(args: argparse.Namespace, number: Any) -> int:
     if args.csv is not None:
         write_output(args.csv, _csv(rows), force=args.force)
     elif args.json:
-        print_json({"lat": lat, "lon": lon, "height_m": height, "uncovered": gaps, "rows": rows})
+        obj = {"lat": lat, "lon": lon, "height_m": height, "uncovered": gaps, "rows": rows}
+        print_json(obj, pretty=getattr(args, "pretty", False))
     else:
         sys.stdout.write(_text(rows, lat, lon, gaps))
     return 0

@@ -38,7 +38,9 @@ def register(subparsers: Any) -> None:
         help="1-sigma of the empirical declination for the survey-date estimate, degrees "
         "(default: the fit's standard error of the rotation)",
     )
-    p.add_argument("--json", action="store_true", help="print one JSON object")
+    from .common import add_json_options
+
+    add_json_options(p)
     p.set_defaults(func=run)
 
 
@@ -143,7 +145,6 @@ def compute(conv: Any, *, with_scale: bool, restore: str, date_sigma: float | No
     """Fit, restore (geo.retrace) and estimate the survey date (geo.survey_date)."""
     from geo.retrace import UNPLACED, placed, restore_corners
     from geo.survey import fit_document
-    from geo.survey_date import estimate_survey_date
 
     fit = fit_document(conv, with_scale=with_scale)
     restoration = (
@@ -151,12 +152,17 @@ def compute(conv: Any, *, with_scale: bool, restore: str, date_sigma: float | No
         if placed(conv)
         else UNPLACED
     )
-    survey_date = (
-        estimate_survey_date(conv, fit, sigma_deg=date_sigma)
-        if fit.empirical_declination_deg is not None
-        else None
-    )
-    return FitReport(fit, restoration, survey_date)
+    return FitReport(fit, restoration, survey_date_of(conv, fit, sigma_deg=date_sigma))
+
+
+def survey_date_of(conv: Any, fit: Any, *, sigma_deg: float | None) -> Any:
+    """The survey-date estimate (geo.survey_date) of a fit that found an empirical
+    declination, else ``None`` (a true or grid record has none)."""
+    from geo.survey_date import estimate_survey_date
+
+    if fit.empirical_declination_deg is None:
+        return None
+    return estimate_survey_date(conv, fit, sigma_deg=sigma_deg)
 
 
 def run(args: argparse.Namespace) -> int:

@@ -38,7 +38,9 @@ def register(subparsers: Any) -> None:
     from .common import add_target_options
 
     add_target_options(p)
-    p.add_argument("--json", action="store_true", help="print one JSON object")
+    from .common import add_json_options
+
+    add_json_options(p)
     p.add_argument("--csv", metavar="OUT", help="write the list as CSV to OUT ('-': stdout)")
     p.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
     p.set_defaults(func=run)
@@ -147,7 +149,7 @@ def run(args: argparse.Namespace) -> int:
         if args.csv == "-":
             return 0
     if args.json:
-        print_json(result.as_dict())
+        print_json(result.as_dict(), pretty=args.pretty)
     elif args.csv is None:
         sys.stdout.write(render(result, doc.title))
     return 0
