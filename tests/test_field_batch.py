@@ -308,3 +308,17 @@ def test_numpy_dates_give_the_decimal_years_of_geo_dates():
     got = batch._decimal_years(texts)
     for t in texts:
         assert got[t] == parse_date(t)[1], t  # the same bits
+
+
+def test_progress_bar_only_on_a_terminal(capsys, tmp_path, monkeypatch):
+    import tui.progress
+
+    src = _write(tmp_path / "in.csv", [list(GOOD_ROWS[k % 5]) for k in range(30)])
+    code, out, err = run(capsys, "field", "--csv", src, "--out", tmp_path / "a.csv")
+    assert code == 0 and out == "" and err == ""  # stderr is not a terminal: silent
+    monkeypatch.setattr(tui.progress, "_stderr_is_terminal", lambda: True)
+    monkeypatch.setattr(batch, "CHUNK_ROWS", 7)
+    code, out, err = run(capsys, "field", "--csv", src, "--out", tmp_path / "b.csv")
+    assert code == 0 and out == ""
+    assert "30/30" in err and "rows/s" in err  # done/total and the rate, on stderr only
+    assert (tmp_path / "a.csv").read_text() == (tmp_path / "b.csv").read_text()
