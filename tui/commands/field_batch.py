@@ -402,6 +402,29 @@ def _checked(
     return lat, lon, height, year, ok
 
 
+def _covered(
+    model: str, years: np.ndarray, path: str, chunk: _Chunk, rows: np.ndarray
+) -> tuple[np.ndarray, list[LodelineError]]:
+    """Mask of the ``years`` (of chunk rows ``rows``) some model covers, and the error of each
+    other one, located at its line (the message made once per distinct year)."""
+    from geo.models import require, resolve
+
+    _names, covered = resolve(model, years)
+    errors: list[LodelineError] = []
+    messages: dict[float, LodelineError] = {}
+    for k in np.flatnonzero(~covered).tolist():
+        y = float(years[k])
+        if y not in messages:
+            try:
+                require(model, years[k : k + 1])
+            except LodelineError as err:
+                messages[y] = err
+        first = messages[y]
+        err = type(first)(first.message, field=first.field)
+        errors.append(err.located(file=path, line=chunk.lines[int(rows[k])]))
+    return covered, errors
+
+
 def _progress(path: str) -> Any:
     """The bar on stderr (drawn only on a terminal; its total counts the file's lines)."""
     from tui.progress import Progress
@@ -419,8 +442,12 @@ def _run(args: Any, path: str, handle: Any) -> int:
     lines = iter(handle)
     header, col, base = _header(path, lines)
     sink = _Sink(args.out, force=args.force, inputs=(path,))
-    with tempfile.SpooledTemporaryFile(max_size=4 << 20, mode="w+", encoding="utf-8") as bad:
-        return _chunks(args, path, lines, header, col, base, sink, bad)
+    try:
+        with tempfile.SpooledTemporaryFile(max_size=4 << 20, mode="w+", encoding="utf-8") as bad:
+            return _chunks(args, path, lines, header, col, base, sink, bad)
+    except BaseException:
+        sink.discard()  # nothing written (the temporary file removed)
+        raise
 
 
 def _chunks(
@@ -435,7 +462,6 @@ def _chunks(
 ) -> int:
     """Read, check, compute and write every chunk; then list the skipped rows."""
     from geo.magnetic import field_at
-    from geo.models import require, resolve
 
     ncol = len(header)
     dates: dict[str, float] = {}
@@ -465,23 +491,11 @@ def _chunks(
                         errors.append(err)
                     keep = np.flatnonzero(ok)
                     if keep.size:
-                        _names, covered = resolve(args.model, year[keep])
-                        if not covered.all():
-                            messages: dict[float, LodelineError] = {}
-                            for k in keep[~covered].tolist():
-                                y = float(year[k])
-                                if y not in messages:
-                                    try:
-                                        require(args.model, year[k : k + 1])
-                                    except LodelineError as err:
-                                        messages[y] = err
-                                first = messages[y]
-                                err = type(first)(first.message, field=first.field)
-                                err.located(file=path, line=chunk.lines[k])
-                                if not args.skip_bad:
-                                    range_error = range_error or err
-                                errors.append(err)
-                            keep = keep[covered]
+                        covered, uncovered = _covered(args.model, year[keep], path, chunk, keep)
+                        if uncovered and not args.skip_bad:
+                            range_error = range_error or uncovered[0]
+                        errors += uncovered
+                        keep = keep[covered]
                     if keep.size and range_error is None:
                         result = field_at(
                             lat=lat[keep],
@@ -504,9 +518,6 @@ def _chunks(
                 raise range_error
             writer.finish()
         sink.commit()
-    except BaseException:
-        sink.discard()
-        raise
     finally:
         writer.close()
     if nbad:
