@@ -42,6 +42,9 @@ _NUM = r"\s*+[+-]?+(?>(?>\d+\.?\d*|\.\d+)(?>[eE][+-]?\d+)?|infinity|inf|nan)\s*+
 _NUMBER_COLUMN = re.compile(rf"(?:{_NUM},)*+{_NUM}", re.ASCII | re.I)
 #: The common ISO form numpy's datetime parsing reads (years 0001-9998, ASCII digits).
 _PLAIN_ISO = re.compile(r"(?!0000|9999)\d{4}-\d\d-\d\d", re.ASCII)
+_PLAIN_ISO_COLUMN = re.compile(
+    r"(?:(?!0000|9999)\d{4}-\d\d-\d\d\n)*+(?!0000|9999)\d{4}-\d\d-\d\d", re.ASCII
+)
 
 
 def run_batch(args: Any) -> int:
@@ -150,10 +153,11 @@ def _read_chunk(
         chunk.prefix = parts
         chunk.lines = list(range(base + 1, base + 1 + len(parts)))
         chunk.last_line = base + len(parts)
-        cells = text.replace("\n", ",").split(",")
-        if len(cells) - (text[-1] == "\n") == ncol * len(parts) and all(
-            p.count(",") == ncol - 1 for p in parts
+        # every line holds ncol - 1 commas when none holds more and they add up
+        if text.count(",") == (ncol - 1) * len(parts) and (
+            max(map(str.count, parts, itertools.repeat(","))) == ncol - 1
         ):
+            cells = text.replace("\n", ",").split(",")
             chunk.columns = [cells[j : ncol * len(parts) : ncol] for j in range(ncol)]
             chunk.count_ok = np.ones(len(parts), dtype=bool)
         else:
@@ -213,7 +217,10 @@ def _decimal_years(cells: list[str]) -> dict[str, float]:
     from geo.dates import parse_date
 
     out: dict[str, float] = {}
-    plain = [c for c in cells if _PLAIN_ISO.fullmatch(c)]
+    if _PLAIN_ISO_COLUMN.fullmatch("\n".join(cells)):  # the usual file: one pattern for all
+        plain = cells
+    else:
+        plain = [c for c in cells if _PLAIN_ISO.fullmatch(c)]
     if plain:
         try:
             days = np.array(plain, dtype="datetime64[D]")
@@ -504,7 +511,11 @@ def _chunks(
                             height_m=height[keep],
                             model=args.model,
                         )
-                        prefix = [chunk.prefix[k] for k in keep.tolist()]
+                        prefix = (
+                            chunk.prefix
+                            if keep.size == len(chunk.prefix)
+                            else [chunk.prefix[k] for k in keep.tolist()]
+                        )
                         writer.write(result, prefix, len(block) == CHUNK_ROWS)
                         ngood += int(keep.size)
                 if chunk.failure is not None:
