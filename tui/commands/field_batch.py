@@ -524,7 +524,7 @@ def _chunks(
                     errors.sort(key=lambda e: e.line or 0)
                     bad.writelines(f"lodeline field: skipped {e}\n" for e in errors)
                     nbad += len(errors)
-                progress.advance(len(block))
+                progress.advance(chunk.consumed)
             if range_error is not None:
                 raise range_error
             writer.finish()
