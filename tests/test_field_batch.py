@@ -322,3 +322,23 @@ def test_progress_bar_only_on_a_terminal(capsys, tmp_path, monkeypatch):
     assert code == 0 and out == ""
     assert "30/30" in err and "rows/s" in err  # done/total and the rate, on stderr only
     assert (tmp_path / "a.csv").read_text() == (tmp_path / "b.csv").read_text()
+
+
+def test_formatting_in_a_worker_writes_the_same_bytes(capsys, tmp_path, monkeypatch):
+    monkeypatch.setattr(batch, "CHUNK_ROWS", 6)
+    src = _write(tmp_path / "in.csv", _mixed_rows(11, 90))
+    monkeypatch.setattr(os, "getloadavg", lambda: (99.0, 99.0, 99.0))  # no core to spare
+    code, here, err_here = run(capsys, "field", "--csv", src, "--skip-bad")
+    assert code == 0
+    started = []
+    start = batch._Writer._start
+
+    def recorded(self):
+        start(self)
+        started.append(self._pool is not None)
+
+    monkeypatch.setattr(batch._Writer, "_start", recorded)
+    monkeypatch.setattr(os, "getloadavg", lambda: (0.0, 0.0, 0.0))
+    code, there, err_there = run(capsys, "field", "--csv", src, "--skip-bad")
+    assert code == 0 and started == [os.cpu_count() > 1]
+    assert there == here and err_there == err_here

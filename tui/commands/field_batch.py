@@ -338,10 +338,12 @@ def _format(result: Any, prefix: list[str]) -> str:
 
 
 class _Writer:
-    """Formats computed chunks and writes them in order. From the second full chunk on, on a
-    machine of several cores, the formatting (the shortest round-trip text of ten floats a
-    row: half of the work) runs in one worker process while the next chunk is read and
-    computed; at most two chunks are in flight, so memory stays bounded."""
+    """Formats computed chunks and writes them in order. From the second full chunk on, when
+    the machine has a core to spare (several cores, a load average below their number less
+    one half), the formatting (the shortest round-trip text of ten floats a row: half of the
+    work) runs in one worker process while the next chunk is read and computed; at most two
+    chunks are in flight, so memory stays bounded. Otherwise it runs here (the worker costs
+    about a tenth more work in all: fork, passing the chunk and the text)."""
 
     def __init__(self, sink: _Sink) -> None:
         self._sink = sink
@@ -364,8 +366,14 @@ class _Writer:
         import multiprocessing
         import os
 
-        if (os.cpu_count() or 1) < 2 or "fork" not in multiprocessing.get_all_start_methods():
+        cores = os.cpu_count() or 1
+        if cores < 2 or "fork" not in multiprocessing.get_all_start_methods():
             return
+        try:  # a worker gains only on an idle core (this process counts for one)
+            if os.getloadavg()[0] > cores - 0.5:
+                return
+        except (AttributeError, OSError):
+            pass
         from concurrent.futures import ProcessPoolExecutor
 
         self._pool = ProcessPoolExecutor(1, mp_context=multiprocessing.get_context("fork"))
