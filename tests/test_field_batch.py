@@ -327,7 +327,7 @@ def test_progress_bar_only_on_a_terminal(capsys, tmp_path, monkeypatch):
 def test_formatting_in_a_worker_writes_the_same_bytes(capsys, tmp_path, monkeypatch):
     monkeypatch.setattr(batch, "CHUNK_ROWS", 6)
     src = _write(tmp_path / "in.csv", _mixed_rows(11, 90))
-    monkeypatch.setattr(os, "getloadavg", lambda: (99.0, 99.0, 99.0))  # no core to spare
+    monkeypatch.setattr(batch, "_idle_cores", lambda since: 0.0)  # no core to spare
     code, here, err_here = run(capsys, "field", "--csv", src, "--skip-bad")
     assert code == 0
     started = []
@@ -338,7 +338,7 @@ def test_formatting_in_a_worker_writes_the_same_bytes(capsys, tmp_path, monkeypa
         started.append(self._pool is not None)
 
     monkeypatch.setattr(batch._Writer, "_start", recorded)
-    monkeypatch.setattr(os, "getloadavg", lambda: (0.0, 0.0, 0.0))
+    monkeypatch.setattr(batch, "_idle_cores", lambda since: 1.0)
     code, there, err_there = run(capsys, "field", "--csv", src, "--skip-bad")
     assert code == 0 and started == [os.cpu_count() > 1]
     assert there == here and err_there == err_here

@@ -337,19 +337,42 @@ def _format(result: Any, prefix: list[str]) -> str:
     return "\n".join(map(",".join, zip(*columns, strict=True))) + "\n"
 
 
+def _cpu_times() -> tuple[int, int] | None:
+    """Idle and total CPU time of the machine so far (Linux /proc/stat), or None."""
+    try:
+        with open("/proc/stat", encoding="ascii") as fh:
+            fields = [int(v) for v in fh.readline().split()[1:]]
+    except (OSError, ValueError):
+        return None
+    return fields[3] + (fields[4] if len(fields) > 4 else 0), sum(fields[:8])
+
+
+def _idle_cores(since: tuple[int, int] | None) -> float | None:
+    """How many cores were idle, on average, since ``since`` (:func:`_cpu_times`), or None
+    where that is not known."""
+    import os
+
+    now = _cpu_times()
+    if since is None or now is None or now[1] <= since[1]:
+        return None
+    return (now[0] - since[0]) / (now[1] - since[1]) * (os.cpu_count() or 1)
+
+
 class _Writer:
     """Formats computed chunks and writes them in order. From the second full chunk on, when
-    the machine has a core to spare (several cores, a load average below their number less
-    one half), the formatting (the shortest round-trip text of ten floats a row: half of the
-    work) runs in one worker process while the next chunk is read and computed; at most two
-    chunks are in flight, so memory stays bounded. Otherwise it runs here (the worker costs
-    about a tenth more work in all: fork, passing the chunk and the text)."""
+    the machine has a core to spare (several cores, and on average half a core or more left
+    idle while this process worked on the first chunk), the formatting (the shortest
+    round-trip text of ten floats a row: half of the work) runs in one worker process while
+    the next chunk is read and computed; at most two chunks are in flight, so memory stays
+    bounded. Otherwise it runs here (the worker costs about a tenth more work in all: fork,
+    passing the chunk and the text)."""
 
     def __init__(self, sink: _Sink) -> None:
         self._sink = sink
         self._pool: Any = None
         self._pending: list[Any] = []
         self._chunks = 0
+        self._cpu_at_start = _cpu_times()  # while the first chunk is worked on here
 
     def write(self, result: Any, prefix: list[str], full: bool) -> None:
         self._chunks += 1
@@ -369,11 +392,9 @@ class _Writer:
         cores = os.cpu_count() or 1
         if cores < 2 or "fork" not in multiprocessing.get_all_start_methods():
             return
-        try:  # a worker gains only on an idle core (this process counts for one)
-            if os.getloadavg()[0] > cores - 0.5:
-                return
-        except (AttributeError, OSError):
-            pass
+        idle = _idle_cores(self._cpu_at_start)
+        if idle is not None and idle < 0.5:  # a worker gains only on a core left idle
+            return
         from concurrent.futures import ProcessPoolExecutor
 
         self._pool = ProcessPoolExecutor(1, mp_context=multiprocessing.get_context("fork"))
