@@ -326,7 +326,7 @@ def test_progress_bar_only_on_a_terminal(capsys, tmp_path, monkeypatch):
 
 def test_formatting_in_a_worker_writes_the_same_bytes(capsys, tmp_path, monkeypatch):
     monkeypatch.setattr(batch, "CHUNK_ROWS", 6)
-    src = _write(tmp_path / "in.csv", _mixed_rows(11, 90))
+    src = _write(tmp_path / "in.csv", _mixed_rows(11, 93))  # the last chunk shared
     monkeypatch.setattr(batch, "_idle_cores", lambda since: 0.0)  # no core to spare
     code, here, err_here = run(capsys, "field", "--csv", src, "--skip-bad")
     assert code == 0
@@ -342,3 +342,7 @@ def test_formatting_in_a_worker_writes_the_same_bytes(capsys, tmp_path, monkeypa
     code, there, err_there = run(capsys, "field", "--csv", src, "--skip-bad")
     assert code == 0 and started == [os.cpu_count() > 1]
     assert there == here and err_there == err_here
+    src = _write(tmp_path / "in.csv", _mixed_rows(11, 90) + [list(GOOD_ROWS[0])])
+    code, there, err = run(capsys, "field", "--csv", src, "--skip-bad")  # one row in the last chunk
+    want_out, want_err = reference(str(src), skip_bad=True)
+    assert code == 0 and err.splitlines() == want_err and _numbers_equal(there, want_out)

@@ -321,19 +321,28 @@ def _warning_cells(warnings: tuple) -> list[str]:
     return cells
 
 
-def _format(result: Any, prefix: list[str]) -> str:
-    """The output lines of the computed rows: input part, then the result columns."""
+def _payload(result: Any, lo: int, hi: int) -> tuple[Any, np.ndarray, tuple]:
+    """Rows ``lo:hi`` of a :class:`geo.magnetic.FieldVector` as :func:`_format` takes them:
+    the model name(s), the float columns from ``declination_deg`` to ``declination_sigma_deg``
+    stacked, and the warnings (small to pass to a worker process)."""
+    model = result.model if isinstance(result.model, str) else result.model[lo:hi]
+    floats = np.stack([getattr(result, key).ravel()[lo:hi] for key in RESULT_KEYS[5:-1]])
+    return model, floats, tuple(result.warnings[lo:hi])
+
+
+def _format(payload: tuple[Any, np.ndarray, tuple], prefix: list[str]) -> str:
+    """The output lines of computed rows (:func:`_payload`): input part, then the results."""
+    model, floats, warnings = payload
     n = len(prefix)
-    model = [result.model] * n if isinstance(result.model, str) else list(result.model)
-    columns: list[list[str]] = [prefix, model]
-    for key in RESULT_KEYS[5:-2]:
-        columns.append(list(map(repr, getattr(result, key).ravel().tolist())))
-    sigma = result.declination_sigma_deg.ravel()
+    columns: list[list[str]] = [prefix, [model] * n if isinstance(model, str) else list(model)]
+    for values in floats[:-1]:
+        columns.append(list(map(repr, values.tolist())))
+    sigma = floats[-1]
     sigma_cells = list(map(repr, sigma.tolist()))
     for k in np.flatnonzero(~np.isfinite(sigma)).tolist():
         sigma_cells[k] = ""
     columns.append(sigma_cells)
-    columns.append(_warning_cells(result.warnings))
+    columns.append(_warning_cells(warnings))
     return "\n".join(map(",".join, zip(*columns, strict=True))) + "\n"
 
 
@@ -359,9 +368,9 @@ def _idle_cores(since: tuple[int, int] | None) -> float | None:
 
 
 class _Writer:
-    """Formats computed chunks and writes them in order. From the second full chunk on, when
+    """Formats computed chunks and writes them in order. From the first full chunk on, when
     the machine has a core to spare (several cores, and on average half a core or more left
-    idle while this process worked on the first chunk), the formatting (the shortest
+    idle while this process read and computed the first chunk), the formatting (the shortest
     round-trip text of ten floats a row: half of the work) runs in one worker process while
     the next chunk is read and computed; at most two chunks are in flight, so memory stays
     bounded. Otherwise it runs here (the worker costs about a tenth more work in all: fork,
@@ -372,17 +381,25 @@ class _Writer:
         self._pool: Any = None
         self._pending: list[Any] = []
         self._chunks = 0
-        self._cpu_at_start = _cpu_times()  # while the first chunk is worked on here
+        self._cpu_at_start = _cpu_times()  # while the first chunk is read and computed here
 
     def write(self, result: Any, prefix: list[str], full: bool) -> None:
+        """Format and write the rows of ``result`` (``full``: a chunk of CHUNK_ROWS lines,
+        so more may follow; the last chunk is shared between the worker and this process)."""
         self._chunks += 1
-        if self._pool is None and full and self._chunks > 1:
+        if self._pool is None and full and self._chunks == 1:
             self._start()
+        n = len(prefix)
         if self._pool is None:
-            self._sink.write(_format(result, prefix))
+            self._sink.write(_format(_payload(result, 0, n), prefix))
             return
-        self._pending.append(self._pool.submit(_format, result, prefix))
-        while len(self._pending) > 1:
+        half = n if full else n // 2
+        if half:
+            job = self._pool.submit(_format, _payload(result, 0, half), prefix[:half])
+            self._pending.append(job)
+        if half < n:
+            self._pending.append(_format(_payload(result, half, n), prefix[half:]))
+        while len(self._pending) > 1 and not isinstance(self._pending[0], str):
             self._sink.write(self._pending.pop(0).result())
 
     def _start(self) -> None:
@@ -402,7 +419,8 @@ class _Writer:
     def finish(self) -> None:
         """Write what is still being formatted."""
         while self._pending:
-            self._sink.write(self._pending.pop(0).result())
+            item = self._pending.pop(0)
+            self._sink.write(item if isinstance(item, str) else item.result())
 
     def close(self) -> None:
         """Stop the worker (what it had not finished is dropped)."""
