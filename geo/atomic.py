@@ -34,7 +34,7 @@ from pathlib import Path
 
 from geo.errors import OutputError, OutputExistsError
 
-__all__ = ["check_targets", "same_file", "write_all", "write_atomic"]
+__all__ = ["AtomicStream", "check_targets", "same_file", "write_all", "write_atomic"]
 
 PathLike = str | os.PathLike[str]
 
@@ -237,3 +237,101 @@ def _sync_folder(folder: Path) -> None:
         pass
     finally:
         os.close(dir_fd)
+
+
+class AtomicStream:
+    """One output file written piece by piece (a long CSV) and put in place whole at the end.
+
+    The text goes, as it comes, to a temporary file beside the target (or, when that folder
+    cannot take one, in the system's temporary folder), so memory holds only the piece being
+    written. :meth:`commit` then checks the target exactly as :func:`write_all` does (an
+    input, a directory, no folder, an existing file without ``overwrite``: nothing written),
+    fsyncs and renames; :meth:`discard` (or leaving a ``with`` block by an exception) removes
+    the temporary file and leaves the target as it was. Failures are :class:`OutputError`
+    naming the target.
+    """
+
+    def __init__(
+        self,
+        path: PathLike,
+        *,
+        overwrite: bool = False,
+        inputs: Iterable[PathLike] = (),
+        encoding: str = "utf-8",
+        durable: bool = True,
+    ) -> None:
+        self._item = _Pending(Path(path), b"")
+        self._overwrite = overwrite
+        self._inputs = list(inputs)
+        self._durable = durable
+        folder = _folder(self._item.target)
+        try:
+            fd, self._temp = tempfile.mkstemp(
+                prefix=f".{self._item.target.name}.", suffix=".tmp", dir=folder
+            )
+            self._beside = True
+        except OSError:  # no such folder, or not writable: commit says which
+            fd, self._temp = tempfile.mkstemp(suffix=".tmp")
+            self._beside = False
+        self._handle = os.fdopen(fd, "w", encoding=encoding, newline="")
+
+    def write(self, text: str) -> None:
+        """Append ``text`` to the temporary file."""
+        try:
+            self._handle.write(text)
+        except OSError as exc:
+            self.discard()
+            raise OutputError(
+                f"cannot be written: {exc.strerror or exc} (no file was replaced)",
+                file=str(self._item.target),
+            ) from None
+
+    def commit(self) -> Path:
+        """Check the target, make the text durable and rename it over the target."""
+        item = self._item
+        try:
+            _check_targets([item], self._overwrite, self._inputs)
+            self._handle.flush()
+            if not self._beside:  # copy it beside the target: a rename across folders is not
+                _write_temp(item, self._durable)  # atomic (an unwritable folder fails here)
+                with open(item.temp, "ab") as out, open(self._temp, "rb") as src:  # type: ignore[arg-type]
+                    shutil.copyfileobj(src, out, 1 << 20)
+                    out.flush()
+                    if self._durable:
+                        os.fsync(out.fileno())
+            else:
+                if self._durable:
+                    os.fsync(self._handle.fileno())
+                item.temp = self._temp
+                if item.target.exists():
+                    shutil.copymode(item.target, item.temp)
+                else:
+                    os.chmod(item.temp, 0o644)
+            self._handle.close()
+            _replace_all([item])
+        except OSError as exc:
+            raise OutputError(
+                f"cannot be written: {exc.strerror or exc} (no file was replaced)",
+                file=str(item.target),
+            ) from None
+        finally:
+            self.discard()
+        if self._durable:
+            _sync_folder(_folder(item.target))
+        return item.target
+
+    def discard(self) -> None:
+        """Remove the temporary file(s); the target is not touched."""
+        with contextlib.suppress(OSError):
+            self._handle.close()
+        for name in (self._temp, self._item.temp, self._item.saved):
+            if name is not None:  # (a temporary file already renamed is gone)
+                with contextlib.suppress(OSError):
+                    os.unlink(name)
+        self._temp = self._item.temp = self._item.saved = None
+
+    def __enter__(self) -> AtomicStream:
+        return self
+
+    def __exit__(self, exc_type: object, exc: object, tb: object) -> None:
+        self.discard()

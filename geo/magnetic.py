@@ -109,26 +109,43 @@ def validate_position(
     la = _checked(lat, "lat")
     lo = _checked(lon, "lon")
     h = _checked(height_m, "height_m")
-    bad = np.abs(la) > LAT_LIMIT
-    if bad.any():
+    bad_lat, bad_lon, bad_h = _position_faults(la, lo, h)
+    if bad_lat.any():
         raise InputError(
-            f"latitude {float(la[bad].flat[0])!r} is outside -90..90 degrees", field="lat"
+            f"latitude {float(la[bad_lat].flat[0])!r} is outside -90..90 degrees", field="lat"
         )
-    bad = (lo < -180.0) | (lo > 360.0) | ~np.isfinite(lo)
-    if bad.any():
+    if bad_lon.any():
         raise InputError(
-            f"longitude {float(lo[bad].flat[0])!r} is outside -180..180 (or 0..360) degrees",
+            f"longitude {float(lo[bad_lon].flat[0])!r} is outside -180..180 (or 0..360) degrees",
             field="lon",
         )
     lo = np.where(lo > 180.0, lo - 360.0, lo)
-    bad = (h < HEIGHT_MIN_M) | (h > HEIGHT_MAX_M) | ~np.isfinite(h)
-    if bad.any():
+    if bad_h.any():
         raise InputError(
-            f"height {float(h[bad].flat[0])!r} m is outside {HEIGHT_MIN_M:.0f}.."
+            f"height {float(h[bad_h].flat[0])!r} m is outside {HEIGHT_MIN_M:.0f}.."
             f"{HEIGHT_MAX_M:.0f} m above the ellipsoid",
             field="height_m",
         )
     return la, lo, h
+
+
+def _position_faults(
+    la: NDArray[np.float64], lo: NDArray[np.float64], h: NDArray[np.float64]
+) -> tuple[NDArray[np.bool_], NDArray[np.bool_], NDArray[np.bool_]]:
+    """Masks of latitudes, longitudes and heights outside what :func:`validate_position`
+    accepts (NaN latitude aside, which :func:`_checked` refuses first)."""
+    bad_lat = np.abs(la) > LAT_LIMIT
+    bad_lon = (lo < -180.0) | (lo > 360.0) | ~np.isfinite(lo)
+    bad_h = (h < HEIGHT_MIN_M) | (h > HEIGHT_MAX_M) | ~np.isfinite(h)
+    return bad_lat, bad_lon, bad_h
+
+
+def position_ok(lat: ArrayLike, lon: ArrayLike, height_m: ArrayLike = 0.0) -> NDArray[np.bool_]:
+    """Mask of the points :func:`validate_position` accepts (latitude -90..90 degrees,
+    longitude -180..360, height -1 km..+100 km; NaN anywhere is refused), element by element."""
+    la, lo, h = (np.asarray(v, dtype=float) for v in (lat, lon, height_m))
+    bad_lat, bad_lon, bad_h = _position_faults(la, lo, h)
+    return ~(bad_lat | bad_lon | bad_h | np.isnan(la) | np.isnan(h))
 
 
 def _checked_years(year: ArrayLike) -> NDArray[np.float64]:

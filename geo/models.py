@@ -20,7 +20,6 @@ import os
 import re
 import stat
 from dataclasses import dataclass
-from importlib import resources
 from pathlib import Path
 
 import numpy as np
@@ -91,6 +90,13 @@ def _user_model_dir(data: Path) -> Path:
 
 def shipped_path(info: ModelInfo) -> Path:
     """Absolute path of a shipped model's data file."""
+    import geo.data
+
+    folder = getattr(geo.data, "__file__", None)
+    if folder:  # a package installed as files (the usual case): no importlib.resources
+        return Path(folder).parent / info.path
+    from importlib import resources
+
     return Path(str(resources.files("geo.data").joinpath(str(info.path))))
 
 
@@ -149,13 +155,14 @@ def find_model(name: str) -> ModelInfo:
 
 @functools.lru_cache(maxsize=32)
 def _load(path: str, fmt: str, name: str, title: str, mtime_ns: int, size: int):
-    from geo.model_files import read_model_file
+    from geo.model_cache import load_cached
 
-    return read_model_file(path, name=name, title=title, fmt=fmt)
+    return load_cached(path, fmt, name, title, mtime_ns, size)
 
 
 def load_model(name_or_info: str | ModelInfo) -> SphericalHarmonicModel:
-    """Parse (once; cached while the file is unchanged) and return a model."""
+    """Parse (once; cached while the file is unchanged, in memory and in binary form in the
+    user's cache folder, see :mod:`geo.model_cache`) and return a model."""
     info = name_or_info if isinstance(name_or_info, ModelInfo) else find_model(name_or_info)
     try:
         st = info.path.stat()

@@ -33,7 +33,6 @@ from dataclasses import dataclass, field
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
-from threadpoolctl import threadpool_limits
 
 #: Reference radius of the spherical-harmonic expansion, km (IGRF, WMM, gufm1).
 REFERENCE_RADIUS_KM = 6371.2
@@ -473,6 +472,8 @@ def synthesize(
         return _synthesize(model, lat_deg, lon_deg, height_m, year, chunk_size)
     # Many medium-sized matrix products: a multi-threaded BLAS spends more time waking its
     # threads than computing (measured 3-6x slower on two loaded cores), so run on one.
+    from threadpoolctl import threadpool_limits
+
     with threadpool_limits(limits=1, user_api="blas"):
         return _synthesize(model, lat_deg, lon_deg, height_m, year, chunk_size)
 

@@ -9,7 +9,13 @@
 
 from __future__ import annotations
 
+import os
+import tempfile
+
 from hypothesis import HealthCheck, settings
+
+# Models kept in binary form go to a folder of the test run, not the user's cache folder.
+os.environ.setdefault("LODELINE_CACHE", tempfile.mkdtemp(prefix="lodeline-cache-"))
 
 settings.register_profile("ci", deadline=None)
 settings.register_profile(

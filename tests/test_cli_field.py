@@ -116,7 +116,8 @@ def test_subprocess_exit_code_and_no_textual(tmp_path):
         "import sys\n"
         "from tui.cli import main\n"
         "rc = main(['field','--lat','41.2','--lon','-77.9','--date','1931-07-04','--json'])\n"
-        "assert 'textual' not in sys.modules, 'textual imported'\n"
+        "for name in ('textual', 'pyproj', 'pydantic', 'rich', 'tui.commands.convert'):\n"
+        "    assert name not in sys.modules, name + ' imported'\n"
         "sys.exit(rc)\n"
     )
     ok = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60)
@@ -265,3 +266,18 @@ def test_add_gufm1_then_1820_declination(capsys):
     assert code == 0
     obj = json.loads(out)
     assert obj["model"] == "gufm1" and np.isfinite(obj["declination_deg"])
+
+
+def test_help_lists_every_subcommand_and_a_named_one_parses_alone(capsys):
+    from tui.cli import SUBCOMMANDS
+
+    with pytest.raises(SystemExit):
+        main(["--help"])
+    out = capsys.readouterr().out
+    assert all(name in out for name, _ in SUBCOMMANDS)
+    with pytest.raises(SystemExit):
+        main(["field", "--help"])
+    assert "--skip-bad" in capsys.readouterr().out
+    with pytest.raises(SystemExit) as unknown:
+        main(["fild"])
+    assert unknown.value.code == 2 and "invalid choice: 'fild'" in capsys.readouterr().err

@@ -46,8 +46,9 @@ class _OneLineParser(argparse.ArgumentParser):
         self.exit(2, f"{self.prog}: {message} (see '{self.prog} --help')\n")
 
 
-def build_parser() -> argparse.ArgumentParser:
-    """Build the argument parser with every registered subcommand."""
+def build_parser(only: str | None = None) -> argparse.ArgumentParser:
+    """Build the argument parser with every registered subcommand (``only``: with that one
+    alone, for a command line that names it: the other modules are not imported)."""
     parser = _OneLineParser(
         prog="lodeline",
         description="Magnetic, true and grid bearings for deeds and compass cruise lines.",
@@ -55,7 +56,9 @@ def build_parser() -> argparse.ArgumentParser:
     )
     parser.add_argument("--version", action="version", version=f"lodeline {__version__}")
     subparsers = parser.add_subparsers(dest="command", metavar="COMMAND")
-    for _name, module in SUBCOMMANDS:
+    for name, module in SUBCOMMANDS:
+        if only is not None and name != only:
+            continue
         importlib.import_module(f"tui.commands.{module}").register(subparsers)
     return parser
 
@@ -65,9 +68,10 @@ def main(argv: Sequence[str] | None = None) -> int:
     from geo.errors import LodelineError
 
     args_list = list(sys.argv[1:] if argv is None else argv)
-    parser = build_parser()
     if not args_list and any(name == "open" for name, _ in SUBCOMMANDS):
         args_list = ["open"]
+    named = args_list[0] if args_list and args_list[0] in dict(SUBCOMMANDS) else None
+    parser = build_parser(only=named)
     args = parser.parse_args(args_list)
     if not getattr(args, "func", None):
         parser.print_help()

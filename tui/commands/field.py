@@ -21,7 +21,7 @@ import argparse
 import re
 import sys
 
-from .common import model_name
+from .common import add_json_options, model_name
 
 #: Keys of the ``--json`` object, in order (also the CSV result columns from ``model`` on).
 RESULT_KEYS = (
@@ -69,7 +69,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         type=model_name,
         help="model name (see 'lodeline models') or auto (default)",
     )
-    p.add_argument("--json", action="store_true", help="print one JSON object")
+    add_json_options(p)
     p.add_argument(
         "--csv",
         metavar="IN",
@@ -232,7 +232,7 @@ def _single(args) -> int:
     if args.json:
         from tui.commands.common import print_json
 
-        print_json(rec)
+        print_json(rec, pretty=args.pretty)
     else:
         sys.stdout.write(_human(rec, year))
     return 0
@@ -249,122 +249,9 @@ def _csv_value(value) -> str:
 
 
 def _batch(args) -> int:
-    import csv
-    import io
-    from pathlib import Path
+    from .field_batch import run_batch
 
-    import numpy as np
-
-    from geo.errors import InputError, LodelineError
-    from geo.magnetic import field_at, validate_position
-    from geo.models import resolve
-
-    path = args.csv
-    if args.out not in (None, "-"):
-        from tui.commands.common import refuse_input_as_output
-
-        refuse_input_as_output([args.out], [path])  # before any work: the input is kept
-    try:
-        text = Path(path).read_text(encoding="utf-8-sig")
-    except OSError as exc:
-        raise InputError(f"cannot read ({exc.strerror})", file=path) from None
-    except UnicodeDecodeError:
-        raise InputError("is not UTF-8 text", file=path) from None
-    # strict: a quote that is never closed is an error, not a field running to the end
-    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
-    try:
-        header = next(reader)
-    except StopIteration:
-        raise InputError("empty file: a header with lat,lon,date is required", file=path) from None
-    except csv.Error as exc:
-        raise _malformed(exc, path, 1) from None
-    header = [h.strip() for h in header]
-    for name in CSV_INPUT:
-        if name not in header:
-            raise InputError(
-                "header must name the columns lat, lon, date (height_m optional)",
-                file=path,
-                field=name,
-                line=1,
-            )
-    if len(set(header)) != len(header):
-        raise InputError("header repeats a column name", file=path, line=1)
-    clash = [k for k in RESULT_KEYS[4:] if k in header]
-    if clash:
-        raise InputError(
-            "input column would clash with a result column", file=path, field=clash[0], line=1
-        )
-    col = {name: header.index(name) for name in header}
-    good: list[tuple[int, list[str], float, float, float, float]] = []
-    bad: list[LodelineError] = []
-    line = 1
-    try:
-        for row in reader:
-            line = reader.line_num
-            if not row or all(not cell.strip() for cell in row):
-                continue
-            try:
-                if len(row) != len(header):
-                    raise InputError(
-                        f"has {len(row)} fields, the header has {len(header)}", file=path, line=line
-                    )
-                where = {"file": path, "line": line}
-                lat = _number(row[col["lat"]].strip(), "lat", **where)
-                lon = _number(row[col["lon"]].strip(), "lon", **where)
-                hcell = row[col["height_m"]].strip() if "height_m" in col else ""
-                height = _number(hcell, "height_m", **where) if hcell else 0.0
-                _label, year = _date(row[col["date"]], **where)
-                try:
-                    validate_position(lat, lon, height)
-                except LodelineError as err:
-                    raise err.located(**where) from None
-                good.append((line, row, lat, lon, height, year))
-            except LodelineError as err:
-                if not args.skip_bad:
-                    raise
-                bad.append(err)
-    except csv.Error as exc:
-        raise _malformed(exc, path, line + 1) from None
-    if good:
-        years = np.array([g[5] for g in good])
-        names, ok = resolve(args.model, years)
-        if not ok.all():
-            from geo.models import require
-
-            for k in np.flatnonzero(~ok):
-                try:
-                    require(args.model, years[k : k + 1])
-                except LodelineError as err:
-                    err.located(file=path, line=good[k][0])
-                    if not args.skip_bad:
-                        raise
-                    bad.append(err)
-            good = [g for g, keep in zip(good, ok.tolist(), strict=True) if keep]
-    out = io.StringIO()
-    writer = csv.writer(out, lineterminator="\n")
-    writer.writerow(header + list(RESULT_KEYS[4:]))
-    if good:
-        result = field_at(
-            lat=np.array([g[2] for g in good]),
-            lon=np.array([g[3] for g in good]),
-            year=np.array([g[5] for g in good]),
-            height_m=np.array([g[4] for g in good]),
-            model=args.model,
-        )
-        for i, (_line, row, lat, lon, height, _year) in enumerate(good):
-            rec = _record(result, i, lat, lon, "", height)
-            writer.writerow(row + [_csv_value(rec[k]) for k in RESULT_KEYS[4:]])
-    from tui.commands.common import write_output
-
-    write_output(args.out, out.getvalue(), force=args.force, inputs=(path,))
-    if bad:
-        bad.sort(key=lambda e: e.line or 0)
-        for err in bad:
-            print(f"lodeline field: skipped {err}", file=sys.stderr)
-        print(
-            f"lodeline field: {len(bad)} bad row(s) skipped, {len(good)} written", file=sys.stderr
-        )
-    return 0
+    return run_batch(args)
 
 
 def run(args) -> int:

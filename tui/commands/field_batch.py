@@ -1,0 +1,586 @@
+"""``lodeline field --csv``: the batch, read, checked, computed and written a chunk at a time.
+
+The file is read :data:`CHUNK_ROWS` lines at a time. In a chunk every column is parsed at
+once (numbers by one pattern over the whole column and one conversion, dates once per distinct
+text, ISO dates by numpy's datetime parsing), every check is an array mask, the field is one
+:func:`geo.magnetic.field_at` call, and the output is formatted column by column. Only a row
+that a mask flags goes through the per-row check (:func:`_row_error`), which gives the same
+one-line message, naming the line and column, as reading row by row would. Memory holds one
+chunk: the output goes to a temporary file put in place at the end (all-or-nothing, as the
+project's atomic writer does), so a bad row that stops the run leaves nothing written.
+
+Which error stops the run (without ``--skip-bad``) is the one a row-by-row reading would give:
+a file that is not UTF-8 first, then the first bad row (in line order; CSV that does not read
+counts as a bad row where it stands), then the first date no model covers.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import itertools
+import re
+import sys
+import tempfile
+from collections.abc import Iterator
+from typing import Any
+
+import numpy as np
+
+from geo.errors import InputError, LodelineError
+
+from .field import CSV_INPUT, RESULT_KEYS, _date, _malformed, _number
+
+#: Lines of the file read, checked, computed and written together.
+CHUNK_ROWS = 50_000
+#: Distinct date texts remembered (a file of decimal years has one per row).
+_DATE_MEMORY = 200_000
+
+#: A column of numbers as :data:`tui.commands.field._NUMBER` reads one, cells joined by commas
+#: (atomic groups: no backtracking over a long column; "infinity" tried before "inf").
+_NUM = r"\s*+[+-]?+(?>(?>\d+\.?\d*|\.\d+)(?>[eE][+-]?\d+)?|infinity|inf|nan)\s*+"
+_NUMBER_COLUMN = re.compile(rf"(?:{_NUM},)*+{_NUM}", re.ASCII | re.I)
+#: The common ISO form numpy's datetime parsing reads (years 0001-9998, ASCII digits).
+_PLAIN_ISO = re.compile(r"(?!0000|9999)\d{4}-\d\d-\d\d", re.ASCII)
+_PLAIN_ISO_COLUMN = re.compile(
+    r"(?:(?!0000|9999)\d{4}-\d\d-\d\d\n)*+(?!0000|9999)\d{4}-\d\d-\d\d", re.ASCII
+)
+
+
+def run_batch(args: Any) -> int:
+    """Run ``lodeline field --csv`` (see :mod:`tui.commands.field`); returns the exit status."""
+    path = args.csv
+    if args.out not in (None, "-"):
+        from tui.commands.common import refuse_input_as_output
+
+        refuse_input_as_output([args.out], [path])  # before any work: the input is kept
+    try:
+        handle = open(path, encoding="utf-8-sig", newline="")  # noqa: SIM115 (closed below)
+    except OSError as exc:
+        raise InputError(f"cannot read ({exc.strerror})", file=path) from None
+    try:
+        with handle:
+            try:
+                return _run(args, path, handle)
+            except LodelineError:
+                while handle.read(1 << 20):  # a file that is not UTF-8 is named first
+                    pass
+                raise
+    except UnicodeDecodeError:
+        raise InputError("is not UTF-8 text", file=path) from None
+    except OSError as exc:
+        raise InputError(f"cannot read ({exc.strerror})", file=path) from None
+
+
+def _header(path: str, lines: Iterator[str]) -> tuple[list[str], dict[str, int], int]:
+    """The header's cells (stripped), the index of each column and the lines it took."""
+    reader = csv.reader(lines, strict=True)
+    try:
+        header = next(reader)
+    except StopIteration:
+        raise InputError("empty file: a header with lat,lon,date is required", file=path) from None
+    except csv.Error as exc:
+        raise _malformed(exc, path, 1) from None
+    header = [h.strip() for h in header]
+    for name in CSV_INPUT:
+        if name not in header:
+            raise InputError(
+                "header must name the columns lat, lon, date (height_m optional)",
+                file=path,
+                field=name,
+                line=1,
+            )
+    if len(set(header)) != len(header):
+        raise InputError("header repeats a column name", file=path, line=1)
+    clash = [k for k in RESULT_KEYS[4:] if k in header]
+    if clash:
+        raise InputError(
+            "input column would clash with a result column", file=path, field=clash[0], line=1
+        )
+    return header, {name: header.index(name) for name in header}, reader.line_num
+
+
+class _Chunk:
+    """Rows of one chunk: the cells column by column, line numbers, the input part of each
+    output line as CSV text, and the CSV error that ended the reading, if any."""
+
+    def __init__(self) -> None:
+        self.rows: list[list[str]] | None = None  # None: split from ``prefix`` when needed
+        self.columns: list[Any] = []
+        self.count_ok: np.ndarray = np.zeros(0, dtype=bool)
+        self.lines: list[int] = []
+        self.prefix: list[str] = []
+        self.failure: csv.Error | None = None
+        self.consumed = 0  # lines of the file this chunk took
+        self.last_line = 0  # the line of the last row read (a blank one too)
+
+    def row(self, k: int) -> list[str]:
+        """The cells of row ``k``."""
+        return self.rows[k] if self.rows is not None else self.prefix[k].split(",")
+
+    def split(self, ncol: int) -> None:
+        """Fill :attr:`columns` and :attr:`count_ok` from :attr:`rows` (a row with another
+        number of cells than ``ncol`` gets empty cells here and is flagged)."""
+        assert self.rows is not None
+        self.count_ok = np.fromiter(map(len, self.rows), int, len(self.rows)) == ncol
+        cells = (
+            self.rows
+            if self.count_ok.all()
+            else [
+                r if ok else [""] * ncol
+                for r, ok in zip(self.rows, self.count_ok.tolist(), strict=True)
+            ]
+        )
+        self.columns = list(zip(*cells, strict=True)) if cells else [()] * ncol
+
+
+def _read_chunk(
+    block: list[str], lines: Iterator[str], base: int, last_line: int, ncol: int
+) -> _Chunk:
+    """Split ``block`` (lines ``base + 1`` on) into rows as :func:`csv.reader` does. Without
+    quotes (nor NUL, nor a line longer than the CSV field limit) a row is its line split at
+    commas; otherwise the csv module reads it, continuing into ``lines`` for a quoted field
+    that runs past the block."""
+    chunk = _Chunk()
+    chunk.last_line = last_line
+    chunk.consumed = len(block)
+    text = "".join(block)
+    if '"' not in text and "\0" not in text and max(map(len, block)) <= csv.field_size_limit():
+        text = text.replace("\r\n", "\n").replace("\r", "\n")
+        parts = text.split("\n")
+        if text[-1] == "\n":
+            parts.pop()
+        chunk.prefix = parts
+        chunk.lines = list(range(base + 1, base + 1 + len(parts)))
+        chunk.last_line = base + len(parts)
+        # every line holds ncol - 1 commas when none holds more and they add up
+        if text.count(",") == (ncol - 1) * len(parts) and (
+            max(map(str.count, parts, itertools.repeat(","))) == ncol - 1
+        ):
+            cells = text.replace("\n", ",").split(",")
+            chunk.columns = [cells[j : ncol * len(parts) : ncol] for j in range(ncol)]
+            chunk.count_ok = np.ones(len(parts), dtype=bool)
+        else:
+            chunk.rows = [p.split(",") for p in parts]
+            chunk.split(ncol)
+        return chunk
+    reader = csv.reader(itertools.chain(block, lines), strict=True)
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")  # (a cell holding "\n" is quoted)
+    chunk.rows = []
+    while reader.line_num < len(block):
+        try:
+            row = next(reader)
+        except StopIteration:
+            break
+        except csv.Error as exc:
+            chunk.failure = exc
+            break
+        chunk.last_line = base + reader.line_num
+        chunk.rows.append(row)
+        chunk.lines.append(chunk.last_line)
+        buffer.seek(0)
+        buffer.truncate()
+        writer.writerow(row)
+        chunk.prefix.append(buffer.getvalue()[:-1])
+    chunk.consumed = reader.line_num
+    chunk.split(ncol)
+    return chunk
+
+
+def _numbers(
+    cells: tuple[str, ...], *, blank: float | None = None
+) -> tuple[np.ndarray, np.ndarray]:
+    """A column of number texts as floats and a mask of the cells that read as a finite
+    number (``blank``: the value of an empty cell, else an empty cell is bad)."""
+    stripped = list(map(str.strip, cells))
+    joined = ",".join(stripped)
+    if joined.count(",") == len(stripped) - 1 and _NUMBER_COLUMN.fullmatch(joined):
+        values = np.array(list(map(float, stripped)), dtype=float)
+    else:
+        from .field import _NUMBER
+
+        values = np.array(
+            [
+                float(s)
+                if _NUMBER.fullmatch(s)
+                else (blank if blank is not None and not s else np.nan)
+                for s in stripped
+            ],
+            dtype=float,
+        )
+    return values, np.isfinite(values)
+
+
+def _decimal_years(cells: list[str]) -> dict[str, float]:
+    """The decimal year of each distinct date text (NaN for one that does not read)."""
+    from geo.dates import parse_date
+
+    out: dict[str, float] = {}
+    if _PLAIN_ISO_COLUMN.fullmatch("\n".join(cells)):  # the usual file: one pattern for all
+        plain = cells
+    else:
+        plain = [c for c in cells if _PLAIN_ISO.fullmatch(c)]
+    if plain:
+        try:
+            days = np.array(plain, dtype="datetime64[D]")
+        except ValueError:  # a day that does not exist: read one by one below
+            plain = []
+        else:
+            year = days.astype("datetime64[Y]")
+            start = year.astype("datetime64[D]")
+            length = (year + 1).astype("datetime64[D]") - start
+            # as geo.dates.decimal_year: year + (day of year - 1) / days in the year
+            value = (year.astype(np.int64) + 1970) + (days - start).astype(
+                np.int64
+            ) / length.astype(np.int64)
+            out.update(zip(plain, value.tolist(), strict=True))
+    for c in cells:
+        if c not in out:
+            try:
+                out[c] = parse_date(c)[1]
+            except LodelineError:
+                out[c] = float("nan")
+    return out
+
+
+class _Sink:
+    """Where the output goes: a file put in place whole at the end, or standard output
+    (kept in a temporary file until the end, so a bad row leaves nothing printed)."""
+
+    def __init__(self, out: str | None, *, force: bool, inputs: tuple[str, ...]) -> None:
+        from geo.atomic import AtomicStream
+
+        self._stream: AtomicStream | None = None
+        if out in (None, "-"):
+            self._file: Any = tempfile.SpooledTemporaryFile(  # noqa: SIM115 (see discard)
+                max_size=8 << 20, mode="w+", encoding="utf-8", newline=""
+            )
+        else:
+            self._stream = AtomicStream(out, overwrite=force, inputs=inputs)
+            self._file = self._stream
+
+    def write(self, text: str) -> None:
+        self._file.write(text)
+
+    def commit(self) -> None:
+        if self._stream is not None:
+            self._stream.commit()
+            return
+        self._file.seek(0)
+        while piece := self._file.read(1 << 20):
+            sys.stdout.write(piece)
+
+    def discard(self) -> None:
+        if self._stream is not None:
+            self._stream.discard()
+        else:
+            self._file.close()
+
+
+def _row_error(
+    row: list[str], header: list[str], col: dict[str, int], path: str, line: int
+) -> LodelineError | None:
+    """The first fault of one row as the per-row reading names it (None for a blank row,
+    which is skipped); the row must be one a mask flagged."""
+    from geo.magnetic import validate_position
+
+    if not row or all(not cell.strip() for cell in row):
+        return None
+    try:
+        if len(row) != len(header):
+            raise InputError(
+                f"has {len(row)} fields, the header has {len(header)}", file=path, line=line
+            )
+        where = {"file": path, "line": line}
+        lat = _number(row[col["lat"]].strip(), "lat", **where)
+        lon = _number(row[col["lon"]].strip(), "lon", **where)
+        hcell = row[col["height_m"]].strip() if "height_m" in col else ""
+        height = _number(hcell, "height_m", **where) if hcell else 0.0
+        _date(row[col["date"]], **where)
+        try:
+            validate_position(lat, lon, height)
+        except LodelineError as err:
+            raise err.located(**where) from None
+    except LodelineError as err:
+        return err
+    raise AssertionError(f"{path}:{line}: a row the checks flagged reads as good")
+
+
+def _warning_cells(warnings: tuple) -> list[str]:
+    """The warnings column: "; "-joined, quoted as the csv module quotes a cell."""
+    cells = [""] * len(warnings)
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    for k, w in enumerate(warnings):
+        if w:
+            buffer.seek(0)
+            buffer.truncate()
+            writer.writerow(["; ".join(w), ""])
+            cells[k] = buffer.getvalue()[:-2]
+    return cells
+
+
+def _payload(result: Any, lo: int, hi: int) -> tuple[Any, np.ndarray, tuple]:
+    """Rows ``lo:hi`` of a :class:`geo.magnetic.FieldVector` as :func:`_format` takes them:
+    the model name(s), the float columns from ``declination_deg`` to ``declination_sigma_deg``
+    stacked, and the warnings (small to pass to a worker process)."""
+    model = result.model if isinstance(result.model, str) else result.model[lo:hi]
+    floats = np.stack([getattr(result, key).ravel()[lo:hi] for key in RESULT_KEYS[5:-1]])
+    return model, floats, tuple(result.warnings[lo:hi])
+
+
+def _format(payload: tuple[Any, np.ndarray, tuple], prefix: list[str]) -> str:
+    """The output lines of computed rows (:func:`_payload`): input part, then the results."""
+    model, floats, warnings = payload
+    n = len(prefix)
+    columns: list[list[str]] = [prefix, [model] * n if isinstance(model, str) else list(model)]
+    for values in floats[:-1]:
+        columns.append(list(map(repr, values.tolist())))
+    sigma = floats[-1]
+    sigma_cells = list(map(repr, sigma.tolist()))
+    for k in np.flatnonzero(~np.isfinite(sigma)).tolist():
+        sigma_cells[k] = ""
+    columns.append(sigma_cells)
+    columns.append(_warning_cells(warnings))
+    return "\n".join(map(",".join, zip(*columns, strict=True))) + "\n"
+
+
+def _cpu_times() -> tuple[int, int] | None:
+    """Idle and total CPU time of the machine so far (Linux /proc/stat), or None."""
+    try:
+        with open("/proc/stat", encoding="ascii") as fh:
+            fields = [int(v) for v in fh.readline().split()[1:]]
+    except (OSError, ValueError):
+        return None
+    return fields[3] + (fields[4] if len(fields) > 4 else 0), sum(fields[:8])
+
+
+def _idle_cores(since: tuple[int, int] | None) -> float | None:
+    """How many cores were idle, on average, since ``since`` (:func:`_cpu_times`), or None
+    where that is not known."""
+    import os
+
+    now = _cpu_times()
+    if since is None or now is None or now[1] <= since[1]:
+        return None
+    return (now[0] - since[0]) / (now[1] - since[1]) * (os.cpu_count() or 1)
+
+
+class _Writer:
+    """Formats computed chunks and writes them in order. From the first full chunk on, when
+    the machine has a core to spare (several cores, and on average half a core or more left
+    idle while this process read and computed the first chunk), the formatting (the shortest
+    round-trip text of ten floats a row: half of the work) runs in one worker process while
+    the next chunk is read and computed; at most two chunks are in flight, so memory stays
+    bounded. Otherwise it runs here (the worker costs about a tenth more work in all: fork,
+    passing the chunk and the text)."""
+
+    def __init__(self, sink: _Sink) -> None:
+        self._sink = sink
+        self._pool: Any = None
+        self._pending: list[Any] = []
+        self._chunks = 0
+        self._cpu_at_start = _cpu_times()  # while the first chunk is read and computed here
+
+    def write(self, result: Any, prefix: list[str], full: bool) -> None:
+        """Format and write the rows of ``result`` (``full``: a chunk of CHUNK_ROWS lines,
+        so more may follow; the last chunk is shared between the worker and this process)."""
+        self._chunks += 1
+        if self._pool is None and full and self._chunks == 1:
+            self._start()
+        n = len(prefix)
+        if self._pool is None:
+            self._sink.write(_format(_payload(result, 0, n), prefix))
+            return
+        half = n if full else n // 2
+        if half:
+            job = self._pool.submit(_format, _payload(result, 0, half), prefix[:half])
+            self._pending.append(job)
+        if half < n:
+            self._pending.append(_format(_payload(result, half, n), prefix[half:]))
+        while len(self._pending) > 1 and not isinstance(self._pending[0], str):
+            self._sink.write(self._pending.pop(0).result())
+
+    def _start(self) -> None:
+        import multiprocessing
+        import os
+
+        cores = os.cpu_count() or 1
+        if cores < 2 or "fork" not in multiprocessing.get_all_start_methods():
+            return
+        idle = _idle_cores(self._cpu_at_start)
+        if idle is not None and idle < 0.5:  # a worker gains only on a core left idle
+            return
+        from concurrent.futures import ProcessPoolExecutor
+
+        self._pool = ProcessPoolExecutor(1, mp_context=multiprocessing.get_context("fork"))
+
+    def finish(self) -> None:
+        """Write what is still being formatted."""
+        while self._pending:
+            item = self._pending.pop(0)
+            self._sink.write(item if isinstance(item, str) else item.result())
+
+    def close(self) -> None:
+        """Stop the worker (what it had not finished is dropped)."""
+        if self._pool is not None:
+            self._pool.shutdown(wait=True, cancel_futures=True)
+            self._pool = None
+
+
+def _checked(
+    chunk: _Chunk, col: dict[str, int], dates: dict[str, float]
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Latitude, longitude, height, decimal year of every row of ``chunk`` and the mask of
+    the rows that pass every check of the per-row reading (``dates``: decimal years of the
+    date texts seen so far, extended here)."""
+    from geo.magnetic import position_ok
+
+    n = len(chunk.lines)
+    lat, ok_lat = _numbers(chunk.columns[col["lat"]])
+    lon, ok_lon = _numbers(chunk.columns[col["lon"]])
+    if "height_m" in col:
+        height, ok_h = _numbers(chunk.columns[col["height_m"]], blank=0.0)
+    else:
+        height, ok_h = np.zeros(n), chunk.count_ok
+    cells = chunk.columns[col["date"]]
+    if len(dates) > _DATE_MEMORY:
+        dates.clear()
+    new = [c for c in dict.fromkeys(cells) if c not in dates]
+    if new:
+        dates.update(_decimal_years(new))
+    year = np.fromiter(map(dates.__getitem__, cells), float, n)
+    ok = chunk.count_ok & ok_lat & ok_lon & ok_h & np.isfinite(year)
+    ok &= position_ok(*(np.where(ok, v, 0.0) for v in (lat, lon, height)))
+    return lat, lon, height, year, ok
+
+
+def _covered(
+    model: str, years: np.ndarray, path: str, chunk: _Chunk, rows: np.ndarray
+) -> tuple[np.ndarray, list[LodelineError]]:
+    """Mask of the ``years`` (of chunk rows ``rows``) some model covers, and the error of each
+    other one, located at its line (the message made once per distinct year)."""
+    from geo.models import require, resolve
+
+    _names, covered = resolve(model, years)
+    errors: list[LodelineError] = []
+    messages: dict[float, LodelineError] = {}
+    for k in np.flatnonzero(~covered).tolist():
+        y = float(years[k])
+        if y not in messages:
+            try:
+                require(model, years[k : k + 1])
+            except LodelineError as err:
+                messages[y] = err
+        first = messages[y]
+        err = type(first)(first.message, field=first.field)
+        errors.append(err.located(file=path, line=chunk.lines[int(rows[k])]))
+    return covered, errors
+
+
+def _progress(path: str) -> Any:
+    """The bar on stderr (drawn only on a terminal; its total counts the file's lines)."""
+    from tui.progress import Progress
+
+    bar = Progress(total=0, unit="rows", description="field")
+    if bar.active:
+        with open(path, "rb") as raw:
+            bar.total = max(
+                0, sum(piece.count(b"\n") for piece in iter(lambda: raw.read(1 << 20), b"")) - 1
+            )
+    return bar
+
+
+def _run(args: Any, path: str, handle: Any) -> int:
+    lines = iter(handle)
+    header, col, base = _header(path, lines)
+    sink = _Sink(args.out, force=args.force, inputs=(path,))
+    try:
+        with tempfile.SpooledTemporaryFile(max_size=4 << 20, mode="w+", encoding="utf-8") as bad:
+            return _chunks(args, path, lines, header, col, base, sink, bad)
+    except BaseException:
+        sink.discard()  # nothing written (the temporary file removed)
+        raise
+
+
+def _chunks(
+    args: Any,
+    path: str,
+    lines: Iterator[str],
+    header: list[str],
+    col: dict[str, int],
+    base: int,
+    sink: _Sink,
+    bad: Any,
+) -> int:
+    """Read, check, compute and write every chunk; then list the skipped rows."""
+    from geo.magnetic import field_at
+
+    ncol = len(header)
+    dates: dict[str, float] = {}
+    progress = _progress(path)
+    nbad = ngood = 0
+    last_line = 1
+    range_error: LodelineError | None = None  # the first date no model covers
+    head = io.StringIO()
+    csv.writer(head, lineterminator="\n").writerow(header + list(RESULT_KEYS[4:]))
+    writer = _Writer(sink)
+    try:
+        sink.write(head.getvalue())
+        with progress:
+            while block := list(itertools.islice(lines, CHUNK_ROWS)):
+                chunk = _read_chunk(block, lines, base, last_line, ncol)
+                base += chunk.consumed
+                last_line = chunk.last_line
+                errors: list[LodelineError] = []
+                if chunk.lines:
+                    lat, lon, height, year, ok = _checked(chunk, col, dates)
+                    for k in np.flatnonzero(~ok).tolist():
+                        err = _row_error(chunk.row(k), header, col, path, chunk.lines[k])
+                        if err is None:
+                            continue
+                        if not args.skip_bad:
+                            raise err
+                        errors.append(err)
+                    keep = np.flatnonzero(ok)
+                    if keep.size:
+                        covered, uncovered = _covered(args.model, year[keep], path, chunk, keep)
+                        if uncovered and not args.skip_bad:
+                            range_error = range_error or uncovered[0]
+                        errors += uncovered
+                        keep = keep[covered]
+                    if keep.size and range_error is None:
+                        result = field_at(
+                            lat=lat[keep],
+                            lon=lon[keep],
+                            year=year[keep],
+                            height_m=height[keep],
+                            model=args.model,
+                        )
+                        prefix = (
+                            chunk.prefix
+                            if keep.size == len(chunk.prefix)
+                            else [chunk.prefix[k] for k in keep.tolist()]
+                        )
+                        writer.write(result, prefix, len(block) == CHUNK_ROWS)
+                        ngood += int(keep.size)
+                if chunk.failure is not None:
+                    raise _malformed(chunk.failure, path, chunk.last_line + 1) from None
+                if args.skip_bad and errors:
+                    errors.sort(key=lambda e: e.line or 0)
+                    bad.writelines(f"lodeline field: skipped {e}\n" for e in errors)
+                    nbad += len(errors)
+                progress.advance(chunk.consumed)
+            if range_error is not None:
+                raise range_error
+            writer.finish()
+        sink.commit()
+    finally:
+        writer.close()
+    if nbad:
+        bad.seek(0)
+        while piece := bad.read(1 << 20):
+            sys.stderr.write(piece)
+        print(f"lodeline field: {nbad} bad row(s) skipped, {ngood} written", file=sys.stderr)
+    return 0
