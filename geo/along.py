@@ -42,12 +42,12 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from geo.errors import DocumentError, LodelineError
-from geo.measures import RecordUnit, conversion_unit, document_foot, in_unit, length_text
+from .errors import DocumentError, LodelineError
+from .measures import RecordUnit, conversion_unit, document_foot, in_unit, length_text
 
 if TYPE_CHECKING:
-    from geo.document import Document
-    from geo.north import DocumentConversion
+    from .document import Document
+    from .north import DocumentConversion
 
 __all__ = [
     "MAX_ALONG_POINTS",
@@ -108,7 +108,7 @@ _EVENT_DISTANCE_WORDS = 4
 def _event_segment(part: str, foot: str | None, vara_inches: Any) -> tuple[str, str] | None:
     """``(distance text, note)`` of one comma-separated part of a call that reads as an event
     ("at 12 chains a run", "at 31.50 a blazed beech"), or ``None``."""
-    from geo.calls import parse_distance
+    from .calls import parse_distance
 
     words = part.split()
     if len(words) < 2 or words[0].casefold() != "at":
@@ -134,7 +134,7 @@ def split_call_events(
     "40 chains to a stake, at 2 rods from the brook" keeps its note whole. A call without
     such parts is returned unchanged with no events.
     """
-    from geo.calls import parse_call
+    from .calls import parse_call
 
     parts = text.split(",")
     if len(parts) < 3:
@@ -167,7 +167,7 @@ def split_call_events(
 def _first_m(doc: Document, file: str | None) -> float | None:
     if doc.plots is None or doc.plots.first is None:
         return None
-    from geo.document import document_distance
+    from .document import document_distance
 
     if doc.plots.first == 0.0:  # a plot at each course's start (a number: no unit needed)
         return 0.0
@@ -181,14 +181,14 @@ def _first_m(doc: Document, file: str | None) -> float | None:
 
 
 def _event_m(doc: Document, value: float | str, unit: str | None) -> float:
-    from geo.document import document_distance
+    from .document import document_distance
 
     return float(document_distance(doc, value, unit=unit).metres)
 
 
 def _course_events(doc: Document, course: Any) -> list[Any]:
     """The events of a course: those written in its call, then its ``[[course.at]]``."""
-    from geo.document import CourseEvent
+    from .document import CourseEvent
 
     out: list[Any] = []
     if course.call is not None and course.call.count(",") >= 2:  # see split_call_events
@@ -427,7 +427,7 @@ def plot_list(conv: DocumentConversion, *, adjust: str | None = None) -> AlongLi
     ends = bool(doc.plots.course_ends) if doc.plots is not None else False
     method, stations = "none", None
     if rows:
-        from geo.survey import adjusted_grid_stations
+        from .survey import adjusted_grid_stations
 
         method, e_st, n_st, _plane = adjusted_grid_stations(conv, adjust)
         stations = (e_st, n_st) if method != "none" else None
@@ -445,7 +445,7 @@ def _placed(
 ) -> AlongList:
     """Grid and WGS84 positions of the rows of :func:`plot_list` on ``figure`` (the
     adjustment and its stations, see :func:`course_points`), and the list."""
-    from geo import grid as _grid
+    from . import grid as _grid
 
     east = np.empty(len(rows))
     north = np.empty(len(rows))
@@ -506,7 +506,7 @@ def geojson_features(al: AlongList) -> list[dict[str, Any]]:
     """One RFC 7946 Point feature per event (``kind = "event"``), [longitude, latitude]
     rounded to 8 decimals, with its chainages. (The plots are the export's intermediate
     points, numbered and placed by :func:`plot_chainages`.)"""
-    from geo.export import COORD_DECIMALS
+    from .export import COORD_DECIMALS
 
     def point(lat: float, lon: float) -> dict[str, Any]:
         return {
@@ -560,7 +560,7 @@ EVENT_COLUMNS = (
 
 def plots_csv(al: AlongList) -> str:
     """The plot list as RFC 4180 CSV (columns :data:`PLOT_COLUMNS`)."""
-    from geo.export import csv_table
+    from .export import csv_table
 
     unit = al.record_unit.unit
     rows = [
@@ -575,7 +575,7 @@ def plots_csv(al: AlongList) -> str:
 
 def events_csv(al: AlongList) -> str:
     """The events as RFC 4180 CSV (columns :data:`EVENT_COLUMNS`)."""
-    from geo.export import csv_table
+    from .export import csv_table
 
     unit = al.record_unit.unit
     rows = [
@@ -637,7 +637,7 @@ EVENT_HEADERS = ("course", "at", "note", "on the course", "on the line", "eastin
 
 def report_blocks(al: AlongList, conv: DocumentConversion) -> list[Any]:
     """The report's plot-list and events sections (blocks of :mod:`geo.report`)."""
-    from geo.report import Heading, Paragraph, Table
+    from .report import Heading, Paragraph, Table
 
     out: list[Any] = []
     when = conv.target_date.isoformat() if conv.target_date else f"{conv.target_year:g}"

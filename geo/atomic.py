@@ -32,7 +32,7 @@ from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
-from geo.errors import OutputError, OutputExistsError
+from .errors import OutputError, OutputExistsError
 
 __all__ = ["AtomicStream", "check_targets", "same_file", "write_all", "write_atomic"]
 

@@ -60,8 +60,8 @@ from typing import Any, Literal, NamedTuple
 
 import numpy as np
 
-from geo.angles import normalize_azimuth
-from geo.errors import InputError, ParseError
+from .angles import normalize_azimuth
+from .errors import InputError, ParseError
 
 DEGREE = 1.0
 MINUTE = 1.0 / 60.0

@@ -41,7 +41,7 @@ from dataclasses import dataclass
 from fractions import Fraction
 from typing import Literal, NamedTuple
 
-from geo.bearings import (
+from .bearings import (
     COMMA,
     DASH,
     DEG,
@@ -61,8 +61,8 @@ from geo.bearings import (
     short,
     starts_bearing,
 )
-from geo.errors import InputError, LodelineError, ParseError
-from geo.units import (
+from .errors import InputError, LodelineError, ParseError
+from .units import (
     UNIT_ALIASES,
     UNIT_LABELS,
     Foot,

@@ -10,7 +10,7 @@ import datetime as _dt
 import math
 import re
 
-from geo.errors import ParseError
+from .errors import ParseError
 
 #: The years a date may fall in (a decimal year below ``MAX_YEAR + 1``): every date of this
 #: range has a decimal year and a following 1 January, which the date arithmetic needs.

@@ -35,12 +35,12 @@ import re
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Literal
 
-from geo.cautions import CAUTIONS
-from geo.errors import InputError
-from geo.measures import RecordUnit, area_text, conversion_unit, length_text
+from .cautions import CAUTIONS
+from .errors import InputError
+from .measures import RecordUnit, area_text, conversion_unit, length_text
 
 if TYPE_CHECKING:
-    from geo.north import DocumentConversion
+    from .north import DocumentConversion
 
 __all__ = ["BEARING_PRECISIONS", "Description", "write_description"]
 
@@ -92,7 +92,7 @@ class Description:
 
 
 def _dms(value: float, positive: str, negative: str) -> str:
-    from geo.bearings import format_declination
+    from .bearings import format_declination
 
     text = format_declination(abs(value), precision=0.01 / 3600.0)
     return f"{text.rstrip(' EW')} {positive if value >= 0 else negative}"
@@ -139,8 +139,8 @@ def _beginning(conv: DocumentConversion) -> str:
 
 
 def _basis(conv: DocumentConversion, north: str, rotation_deg: float) -> str:
-    from geo.bearings import format_declination
-    from geo.grid import projected_crs
+    from .bearings import format_declination
+    from .grid import projected_crs
 
     first = conv.courses[0]
     d2 = first.declination_target_deg
@@ -169,7 +169,7 @@ def _basis(conv: DocumentConversion, north: str, rotation_deg: float) -> str:
 
 
 def _record(conv: DocumentConversion) -> str:
-    from geo.bearings import format_declination
+    from .bearings import format_declination
 
     doc = conv.document
     what = doc.title or conv.file or "the document"
@@ -245,9 +245,9 @@ def write_description(
     with no known declination (true and grid north then cannot be given), and what
     :func:`geo.survey.close_document` raises.
     """
-    from geo.angles import normalize_azimuth
-    from geo.bearings import format_bearing
-    from geo.survey import close_document
+    from .angles import normalize_azimuth
+    from .bearings import format_bearing
+    from .survey import close_document
 
     if north not in ("true", "grid", "magnetic"):
         raise InputError(f"unknown north {north!r}: use grid, true or magnetic", field="north")

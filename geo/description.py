@@ -45,15 +45,15 @@ import re
 from dataclasses import dataclass
 from fractions import Fraction
 
-from geo.bearings import (
+from .bearings import (
     Reader,
     mark_unread,
     parse_declination,
     recorded_bearing,
 )
-from geo.calls import Call, parse_call
-from geo.errors import LodelineError, ParseError
-from geo.units import UNIT_LABELS, Foot, resolve_vara_inches, square_metres_per, unit_name
+from .calls import Call, parse_call
+from .errors import LodelineError, ParseError
+from .units import UNIT_LABELS, Foot, resolve_vara_inches, square_metres_per, unit_name
 
 
 @dataclass(frozen=True)
@@ -282,7 +282,7 @@ def _pieces(text: str) -> list[tuple[int, int]]:
 
 
 def _starts_call(words: str) -> bool:
-    from geo.bearings import starts_bearing
+    from .bearings import starts_bearing
 
     r = Reader(words)
     return bool(r.toks) and (starts_bearing(r, 0) or r.is_number(0))

@@ -130,12 +130,12 @@ from pydantic import (
 )
 from pydantic_core import PydanticCustomError
 
-from geo import units
-from geo.angles import normalize_azimuth
-from geo.bearings import parse_bearing
-from geo.calls import parse_call, parse_distance
-from geo.errors import DocumentError, LodelineError
-from geo.omitted import has_unknown
+from . import units
+from .angles import normalize_azimuth
+from .bearings import parse_bearing
+from .calls import parse_call, parse_distance
+from .errors import DocumentError, LodelineError
+from .omitted import has_unknown
 
 __all__ = [
     "FORMAT_VERSION",
@@ -273,7 +273,7 @@ class Place(_Table):
             raise _fail("lat", f"latitude {self.lat} is outside -90..90 degrees")
         if self.lon is not None and not -180.0 <= self.lon <= 180.0:
             raise _fail("lon", f"longitude {self.lon} is outside -180..180 degrees")
-        from geo.magnetic import HEIGHT_MAX_M, HEIGHT_MIN_M  # the one height range
+        from .magnetic import HEIGHT_MAX_M, HEIGHT_MIN_M  # the one height range
 
         if not HEIGHT_MIN_M <= self.height_m <= HEIGHT_MAX_M:
             raise _fail(
@@ -579,7 +579,7 @@ def dumps_document(
     (:func:`geo.toml_text.update_toml`). A ``base`` that is not a readable document gives
     fresh text.
     """
-    from geo.toml_text import update_toml
+    from .toml_text import update_toml
 
     data = document_to_dict(doc)
     if fmt == "toml" and base is not None:
@@ -605,7 +605,7 @@ def dumps_mapping(data: Mapping[str, Any], fmt: Literal["toml", "json"] = "toml"
     """Serialise the mapping of a document (checked or not) as fresh text: indented JSON, or
     TOML with the plain keys first, then the tables in the mapping's order (the schema's),
     one ``[[course]]`` per course (its events as ``[[course.at]]``), ``found`` inline."""
-    from geo.toml_text import dumps_toml
+    from .toml_text import dumps_toml
 
     if fmt == "json":
         return json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
@@ -653,7 +653,7 @@ def read_document_bytes(path: str | os.PathLike[str]) -> bytes:
     """The bytes of a document file: a regular file (after links) of at most
     :data:`MAX_DOCUMENT_BYTES`. A device, a pipe or a folder is refused without waiting on
     it. Raises :class:`DocumentError` naming the file."""
-    from geo.file_input import FileRefusedError, read_regular_file
+    from .file_input import FileRefusedError, read_regular_file
 
     try:
         return read_regular_file(path, MAX_DOCUMENT_BYTES, what="traverse document")
@@ -740,7 +740,7 @@ def save_document(
     is touched, so a failure never leaves a damaged file. Raises
     :class:`geo.errors.OutputError` naming the file when it cannot be written.
     """
-    from geo.atomic import write_atomic
+    from .atomic import write_atomic
 
     p = Path(path)
     fmt = _format_of(p, str(path))
@@ -858,7 +858,7 @@ def _without_events(text: str, ctx: dict[str, Any]) -> str:
     see :func:`geo.along.split_call_events`."""
     if "," not in text:
         return text
-    from geo.along import split_call_events
+    from .along import split_call_events
 
     return split_call_events(text, foot=ctx["foot"], vara_inches=ctx["vara_inches"])[0]
 
@@ -911,8 +911,8 @@ def document_distance(doc: Document, value: float | str, *, unit: str | None = N
 
 
 def _check_record(doc: Document, file: str | None) -> list[DocumentError]:
-    from geo.bearings import parse_declination
-    from geo.dates import parse_date
+    from .bearings import parse_declination
+    from .dates import parse_date
 
     problems: list[DocumentError] = []
     record = doc.record
@@ -1229,7 +1229,7 @@ def _parse_courses(doc: Document, file: str | None) -> tuple[RecordedCourse, ...
 
 
 def _read_omitted(course: Course, i: int, ctx_items: tuple, file: str | None) -> Any:
-    from geo.omitted import read_omitted
+    from .omitted import read_omitted
 
     try:
         return read_omitted(course, i, dict(ctx_items))
@@ -1241,7 +1241,7 @@ def _with_omitted(
     doc: Document, known: list[RecordedCourse], omitted: list[Any], file: str | None
 ) -> list[RecordedCourse]:
     """The courses in order, those written with "?" completed from the closure."""
-    from geo.omitted import solve_omitted
+    from .omitted import solve_omitted
 
     solved = solve_omitted(
         known, omitted, closed=doc.closed, reference=doc.record.reference, file=file
@@ -1284,7 +1284,7 @@ def document_problems(doc: Document, *, file: str | None = None) -> list[Documen
                 err if isinstance(err, DocumentError) else _locate(err, file, i, "call")
             )
             previous = None
-    from geo.along import along_problems
+    from .along import along_problems
 
     problems.extend(along_problems(doc, file=file))
     return problems
@@ -1296,7 +1296,7 @@ def check_document(doc: Document, *, file: str | None = None) -> None:
     if problems:
         raise problems[0]
     parse_courses(doc, file=file)
-    from geo.along import along_problems
+    from .along import along_problems
 
     problems = along_problems(doc, file=file)
     if problems:

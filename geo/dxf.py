@@ -32,8 +32,8 @@ import math
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
-    from geo.export import Position, Positions
-    from geo.north import DocumentConversion
+    from .export import Position, Positions
+    from .north import DocumentConversion
 
 __all__ = ["LAYERS", "dxf_text", "insunits"]
 
@@ -107,8 +107,8 @@ def dxf_text(conv: DocumentConversion, pos: Positions) -> str:
     """The DXF drawing of a traverse (see the module docstring)."""
     import ezdxf
 
-    from geo.export import positions
-    from geo.marks import marks
+    from .export import positions
+    from .marks import marks
 
     drawing = ezdxf.new("R2010")
     drawing.header["$INSUNITS"] = insunits(pos.grid_unit_m)

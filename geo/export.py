@@ -77,11 +77,11 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from geo.errors import InputError, LodelineError
+from .errors import InputError, LodelineError
 
 if TYPE_CHECKING:
-    from geo.north import DocumentConversion
-    from geo.survey import SurveyClosure
+    from .north import DocumentConversion
+    from .survey import SurveyClosure
 
 __all__ = [
     "COURSE_COLUMNS",
@@ -190,12 +190,12 @@ def positions(conv: DocumentConversion, *, adjust: str | None = None) -> Positio
     courses, TraverseError for an adjustment asked of an open traverse, GridError from the
     projection.
     """
-    from geo import grid as _grid
-    from geo.survey import adjusted_grid_stations
-    from geo.traverse import azimuth_of
+    from . import grid as _grid
+    from .survey import adjusted_grid_stations
+    from .traverse import azimuth_of
 
     if not conv.courses:
-        from geo.errors import DocumentError
+        from .errors import DocumentError
 
         raise DocumentError("has no courses: nothing to export", file=conv.file, field="course")
     method, e_st, n_st, plane = adjusted_grid_stations(conv, adjust)
@@ -249,7 +249,7 @@ def _intermediate(
     :func:`geo.along.plot_chainages` on each course's marched path
     (:attr:`geo.north.CourseConversion.path`), moved by the adjustment of the course's ends in
     proportion to the distance along it (:func:`geo.along.course_points`)."""
-    from geo.along import course_points, plot_chainages
+    from .along import course_points, plot_chainages
 
     pts: list[tuple[int, int, float, float, float]] = []
     for number, course, along, _end in plot_chainages(conv):
@@ -318,8 +318,8 @@ def geojson_collection(
 
     ``positions_``/``closure`` may be passed when already computed (same ``adjust``).
     """
-    from geo.cautions import CAUTIONS
-    from geo.survey import close_document
+    from .cautions import CAUTIONS
+    from .survey import close_document
 
     pos = positions_ if positions_ is not None else positions(conv, adjust=adjust)
     clo = closure if closure is not None else close_document(conv, adjust=pos.adjustment)
@@ -363,8 +363,8 @@ def geojson_collection(
                 },
             }
         )
-    from geo.along import geojson_features, plot_list
-    from geo.retrace import corner_features
+    from .along import geojson_features, plot_list
+    from .retrace import corner_features
 
     features += geojson_features(plot_list(conv, adjust=pos.adjustment))
     features += corner_features(conv, decimals=COORD_DECIMALS)
@@ -516,7 +516,7 @@ def write_exports(
     one of ``inputs`` (the document) is refused; if any file cannot be written none is
     replaced and the error names it.
     """
-    from geo.atomic import write_all
+    from .atomic import write_all
 
     if all(x is None for x in (geojson, csv_path, gpx, kml, dxf)):
         raise InputError("nothing to export: name a GeoJSON, CSV, GPX, KML or DXF file",
@@ -529,7 +529,7 @@ def write_exports(
     if geojson is not None and collection is not None:
         outputs.append((Path(geojson), geojson_text(collection)))
     if csv_path is not None:
-        from geo.along import events_csv, plot_list, plots_csv
+        from .along import events_csv, plot_list, plots_csv
 
         outputs.append((Path(csv_path), points_csv(pos)))
         outputs.append((courses_csv_path(csv_path), courses_csv(conv, pos)))
@@ -554,15 +554,15 @@ def _field_files(
     """The GPX, KML and DXF texts asked for, from ``pos`` (and the GeoJSON figure for KML)."""
     out: list[tuple[Path, str]] = []
     if gpx is not None:
-        from geo.gpx import gpx_text
+        from .gpx import gpx_text
 
         out.append((Path(gpx), gpx_text(conv, pos)))
     if kml is not None and collection is not None:
-        from geo.kml import kml_text
+        from .kml import kml_text
 
         out.append((Path(kml), kml_text(conv, pos, collection["features"][0]["geometry"])))
     if dxf is not None:
-        from geo.dxf import dxf_text
+        from .dxf import dxf_text
 
         out.append((Path(dxf), dxf_text(conv, pos)))
     return out

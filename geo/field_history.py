@@ -22,7 +22,7 @@ from typing import Any
 
 import numpy as np
 
-from geo.errors import InputError
+from .errors import InputError
 
 __all__ = ["DeclinationHistory", "declination_history", "history_years", "model_histories"]
 
@@ -95,8 +95,8 @@ def declination_history(
     *, lat: float, lon: float, years: Any, height_m: float = 0.0, model: str = "auto"
 ) -> DeclinationHistory:
     """D at (``lat``, ``lon``, ``height_m``) for every decimal year in ``years`` (see module)."""
-    from geo.magnetic import field_at, validate_position
-    from geo.models import resolve
+    from .magnetic import field_at, validate_position
+    from .models import resolve
 
     validate_position(lat, lon, height_m)
     yrs = np.atleast_1d(np.asarray(years, dtype=float))
@@ -132,7 +132,7 @@ def model_histories(
     The last few results are kept (keyed on the place, the step and the loaded models, so a
     model file that changes is evaluated afresh): the desk asks again on every keystroke.
     """
-    from geo.models import available_models, load_model
+    from .models import available_models, load_model
 
     models = tuple((info.name, load_model(info)) for info in available_models())
     key = (float(lat), float(lon), float(height_m), float(step), tuple(id(m) for _, m in models))

@@ -27,8 +27,8 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from geo.angles import angle_difference
-from geo.errors import FitError, InputError
+from .angles import angle_difference
+from .errors import FitError, InputError
 
 __all__ = ["MIN_SPREAD_M", "SimilarityFit", "fit_similarity"]
 

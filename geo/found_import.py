@@ -45,11 +45,11 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from geo.errors import InputError, LodelineError
+from .errors import InputError, LodelineError
 
 if TYPE_CHECKING:
-    from geo.north import DocumentConversion
-    from geo.point_files import FieldPoint
+    from .north import DocumentConversion
+    from .point_files import FieldPoint
 
 __all__ = ["FoundMatch", "FoundPlan", "plan_found", "save_found", "with_found"]
 
@@ -99,7 +99,7 @@ def _same_crs(a: str, b: str) -> bool:
 
 def _on_grid(conv: DocumentConversion, p: FieldPoint) -> tuple[float, float, dict[str, float]]:
     """(easting, northing) on the document's grid and the ``found`` value to write."""
-    from geo import grid
+    from . import grid
 
     if not p.grid:
         e, n = grid.to_grid(conv.crs, lat=p.lat, lon=p.lon)
@@ -126,7 +126,7 @@ def _corner_of_station(conv: DocumentConversion, station: int) -> int | None:
 
 
 def _by_name(conv: DocumentConversion, name: str | None) -> tuple[set[int], str]:
-    from geo.marks import corner_words
+    from .marks import corner_words
 
     if not name:
         return set(), "has no name"
@@ -268,8 +268,8 @@ def save_found(path: str | Path, plan: FoundPlan) -> Path:
     docstring); return the path. A TOML document is saved through
     :func:`geo.document.save_document`, which edits its text: only the ``found`` lines change.
     Raises DocumentError or OutputError naming the file."""
-    from geo.atomic import write_atomic
-    from geo.document import (
+    from .atomic import write_atomic
+    from .document import (
         _format_of,
         document_from_dict,
         document_to_dict,

@@ -27,11 +27,11 @@ import xml.etree.ElementTree as ET
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-from geo.errors import InputError
+from .errors import InputError
 
 if TYPE_CHECKING:
-    from geo.export import Positions
-    from geo.north import DocumentConversion
+    from .export import Positions
+    from .north import DocumentConversion
 
 __all__ = ["GPX_NS", "GpxPoint", "gpx_text", "gpx_waypoints"]
 
@@ -53,7 +53,7 @@ class GpxPoint:
 
 
 def _degrees(value: float) -> str:
-    from geo.export import COORD_DECIMALS
+    from .export import COORD_DECIMALS
 
     return f"{round(value, COORD_DECIMALS):.{COORD_DECIMALS}f}"
 
@@ -74,8 +74,8 @@ def _point(parent: ET.Element, tag: str, lat: float, lon: float) -> ET.Element:
 
 def gpx_text(conv: DocumentConversion, pos: Positions) -> str:
     """The GPX 1.1 document of a traverse (see the module docstring)."""
-    from geo.cautions import CAUTIONS
-    from geo.marks import marks, route_stations
+    from .cautions import CAUTIONS
+    from .marks import marks, route_stations
 
     ET.register_namespace("", GPX_NS)
     ET.register_namespace("xsi", _XSI)

@@ -32,7 +32,7 @@ from numpy.typing import ArrayLike, NDArray
 from pyproj import CRS, Proj, Transformer
 from pyproj.exceptions import CRSError, ProjError
 
-from geo.errors import GridError, InputError, clip
+from .errors import GridError, InputError, clip
 
 # No network at run time: PROJ never fetches grids from its content delivery network.
 pyproj.network.set_network_enabled(False)

@@ -24,8 +24,8 @@ from collections.abc import Mapping, Sequence
 from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:
-    from geo.export import Positions
-    from geo.north import DocumentConversion
+    from .export import Positions
+    from .north import DocumentConversion
 
 __all__ = ["KML_NS", "kml_text"]
 
@@ -40,7 +40,7 @@ def _sub(parent: ET.Element, tag: str, text: str | None = None) -> ET.Element:
 
 
 def _coordinates(points: Sequence[Sequence[float]]) -> str:
-    from geo.export import COORD_DECIMALS
+    from .export import COORD_DECIMALS
 
     d = COORD_DECIMALS
     return " ".join(f"{lon:.{d}f},{lat:.{d}f}" for lon, lat in points)
@@ -62,9 +62,9 @@ def _figure(doc: ET.Element, conv: DocumentConversion, figure: Mapping[str, Any]
 
 def kml_text(conv: DocumentConversion, pos: Positions, figure: Mapping[str, Any]) -> str:
     """The KML 2.2 document of a traverse (see the module docstring)."""
-    from geo.cautions import CAUTIONS
-    from geo.export import COORD_DECIMALS
-    from geo.marks import marks
+    from .cautions import CAUTIONS
+    from .export import COORD_DECIMALS
+    from .marks import marks
 
     ET.register_namespace("", KML_NS)
     root = ET.Element(f"{{{KML_NS}}}kml")

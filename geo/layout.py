@@ -32,11 +32,11 @@ from __future__ import annotations
 import math
 from typing import TYPE_CHECKING, Any
 
-from geo.errors import DocumentError, InputError, LodelineError
+from .errors import DocumentError, InputError, LodelineError
 
 if TYPE_CHECKING:
-    from geo.document import Document
-    from geo.north import DocumentConversion
+    from .document import Document
+    from .north import DocumentConversion
 
 __all__ = ["MAX_LINES", "lay_out_cruise"]
 
@@ -48,7 +48,7 @@ _DECIMALS = 4
 
 
 def _length_m(doc: Document, text: str, field: str) -> float:
-    from geo.document import document_distance
+    from .document import document_distance
 
     try:
         value = float(document_distance(doc, text).metres)
@@ -61,7 +61,7 @@ def _length_m(doc: Document, text: str, field: str) -> float:
 
 def _grid_azimuth(conv: DocumentConversion, bearing: str, north: str) -> float:
     """The baseline's grid azimuth (degrees) from ``bearing`` read in ``north``."""
-    from geo.bearings import parse_bearing
+    from .bearings import parse_bearing
 
     try:
         az = float(parse_bearing(bearing).azimuth_deg)
@@ -154,10 +154,10 @@ def lay_out_cruise(
     ``plot_spacing``, ``first``: distance texts ("5 chains"; a bare number is in the
     boundary's record.distance_unit). Raises InputError (field named) for a bad option,
     DocumentError for a boundary that is open or encloses nothing."""
-    from geo.bearings import format_bearing
-    from geo.document import document_from_dict
-    from geo.grid import to_geographic
-    from geo.measures import conversion_unit, in_unit
+    from .bearings import format_bearing
+    from .document import document_from_dict
+    from .grid import to_geographic
+    from .measures import conversion_unit, in_unit
 
     doc = conv.document
     if north not in ("magnetic", "true", "grid"):
@@ -203,7 +203,7 @@ def lay_out_cruise(
             course["every"] = f"{in_unit(plot_m, ru):.{_DECIMALS}f} {ru.unit}"
             plots += math.floor((ground - first_m) / plot_m) + 1
         courses.append(course)
-    from geo.along import MAX_ALONG_POINTS
+    from .along import MAX_ALONG_POINTS
 
     if plots > MAX_ALONG_POINTS:
         raise InputError(

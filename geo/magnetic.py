@@ -21,8 +21,8 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from geo.errors import InputError
-from geo.models import (
+from .errors import InputError
+from .models import (
     BLEND_END,
     BLEND_START,
     blend_label,
@@ -31,7 +31,7 @@ from geo.models import (
     load_model,
     require,
 )
-from geo.synthesis import synthesize
+from .synthesis import synthesize
 
 #: Horizontal intensity below which compass readings need caution, nT (WMM caution zone).
 CAUTION_H_NT = 6000.0

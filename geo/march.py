@@ -43,7 +43,7 @@ from typing import Any
 
 import numpy as np
 
-from geo.angles import angle_difference
+from .angles import angle_difference
 
 __all__ = [
     "CONVERGED_M",

@@ -26,8 +26,8 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
-    from geo.export import Position, Positions
-    from geo.north import CourseConversion, DocumentConversion
+    from .export import Position, Positions
+    from .north import CourseConversion, DocumentConversion
 
 __all__ = ["NAME_CHARS", "Mark", "corner_words", "marks", "route_stations"]
 
@@ -129,7 +129,7 @@ def _plot_mark(conv: DocumentConversion, p: Position) -> Mark:
 
 def _event_marks(conv: DocumentConversion, pos: Positions) -> list[Mark]:
     """The events of ``[[course.at]]``, placed on the figure of ``pos`` (geo.along)."""
-    from geo.along import plot_list
+    from .along import plot_list
 
     out = []
     for e in plot_list(conv, adjust=pos.adjustment).events:
@@ -146,7 +146,7 @@ def _event_marks(conv: DocumentConversion, pos: Positions) -> list[Mark]:
 def _corner_marks(conv: DocumentConversion) -> list[Mark]:
     """Where a retracement puts each corner of a document with found corners (found, held
     or restored from them: :func:`geo.retrace.restore_document`); none without found ones."""
-    from geo.retrace import restore_document
+    from .retrace import restore_document
 
     corners = restore_document(conv).corners
     if not any(c.status in ("found", "held") for c in corners if c.index > 0):

@@ -39,13 +39,13 @@ from collections import Counter
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
-from geo import units
-from geo.errors import LodelineError
+from . import units
+from .errors import LodelineError
 
 if TYPE_CHECKING:
-    from geo.document import Document
-    from geo.north import DocumentConversion
-    from geo.survey import SurveyClosure
+    from .document import Document
+    from .north import DocumentConversion
+    from .survey import SurveyClosure
 
 __all__ = [
     "AcresRoodsPerches",
@@ -159,7 +159,7 @@ def record_unit(
 
 def _written_units(doc: Document) -> list[str]:
     """The canonical unit of every course that reads (the same reader as the conversion)."""
-    from geo.document import parse_courses
+    from .document import parse_courses
 
     try:
         courses = parse_courses(doc)

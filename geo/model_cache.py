@@ -22,7 +22,7 @@ from pathlib import Path
 
 import numpy as np
 
-from geo.synthesis import SphericalHarmonicModel
+from .synthesis import SphericalHarmonicModel
 
 #: Bump when the layout of a cached file changes (older files are then rebuilt).
 CACHE_FORMAT = 1
@@ -64,7 +64,7 @@ def load_cached(
         cached = _read(_cache_file(key, name), key)
         if cached is not None:
             return cached
-    from geo.model_files import read_model_file
+    from .model_files import read_model_file
 
     model = read_model_file(path, name=name, title=title, fmt=fmt)
     if key is not None:
@@ -98,8 +98,8 @@ def _write(file: Path, key: str, model: SphericalHarmonicModel) -> None:
     """Keep ``model`` in ``file`` (atomically; a folder that cannot be written is skipped)."""
     import io
 
-    from geo.atomic import write_atomic
-    from geo.errors import LodelineError
+    from .atomic import write_atomic
+    from .errors import LodelineError
 
     text = {
         "name": model.name,

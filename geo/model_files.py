@@ -34,8 +34,8 @@ from pathlib import Path
 
 import numpy as np
 
-from geo.errors import ModelFileError
-from geo.synthesis import SphericalHarmonicModel, coefficient_count, coefficient_index
+from .errors import ModelFileError
+from .synthesis import SphericalHarmonicModel, coefficient_count, coefficient_index
 
 #: Formats understood by :func:`read_model_file`.
 FORMATS = ("shc", "cof", "gufm")
@@ -58,7 +58,7 @@ def _fail(path: str, line: int | None, message: str) -> ModelFileError:
 
 
 def _read_bytes(path: str | os.PathLike[str], head: int | None = None) -> bytes:
-    from geo.file_input import FileRefusedError, read_regular_file
+    from .file_input import FileRefusedError, read_regular_file
 
     try:
         return read_regular_file(path, MAX_MODEL_BYTES, what="model file", head=head)
@@ -555,7 +555,7 @@ def _shc_header(p: str) -> ModelHeader:
 
 
 def _cof_header(p: str) -> ModelHeader:
-    from geo.file_input import FileRefusedError, read_tail
+    from .file_input import FileRefusedError, read_tail
 
     _, lines = _read_lines(p, head=4096)
     epoch = float(next(t for t in lines if t.strip()).split()[0])

@@ -25,8 +25,8 @@ from pathlib import Path
 import numpy as np
 from numpy.typing import ArrayLike
 
-from geo.errors import InputError, ModelFileError, ModelRangeError
-from geo.synthesis import SphericalHarmonicModel
+from .errors import InputError, ModelFileError, ModelRangeError
+from .synthesis import SphericalHarmonicModel
 
 #: Name meaning "choose by date".
 AUTO = "auto"
@@ -90,14 +90,14 @@ def _user_model_dir(data: Path) -> Path:
 
 def shipped_path(info: ModelInfo) -> Path:
     """Absolute path of a shipped model's data file."""
-    import geo.data
+    from . import data as shipped_data
 
-    folder = getattr(geo.data, "__file__", None)
+    folder = getattr(shipped_data, "__file__", None)
     if folder:  # a package installed as files (the usual case): no importlib.resources
         return Path(folder).parent / info.path
     from importlib import resources
 
-    return Path(str(resources.files("geo.data").joinpath(str(info.path))))
+    return Path(str(resources.files(shipped_data).joinpath(str(info.path))))
 
 
 @functools.cache
@@ -155,7 +155,7 @@ def find_model(name: str) -> ModelInfo:
 
 @functools.lru_cache(maxsize=32)
 def _load(path: str, fmt: str, name: str, title: str, mtime_ns: int, size: int):
-    from geo.model_cache import load_cached
+    from .model_cache import load_cached
 
     return load_cached(path, fmt, name, title, mtime_ns, size)
 
@@ -188,7 +188,7 @@ def model_header(info: ModelInfo):
 
 @functools.lru_cache(maxsize=64)
 def _header(path: str, fmt: str, mtime_ns: int, size: int):
-    from geo.model_files import read_model_header
+    from .model_files import read_model_header
 
     return read_model_header(path, fmt)
 
@@ -323,8 +323,8 @@ def install_model(path: str | os.PathLike[str], *, name: str | None = None) -> M
     Raises :class:`ModelFileError` for a malformed file and :class:`InputError` for a bad or
     taken name. Returns the installed model's info.
     """
-    from geo.atomic import write_atomic
-    from geo.model_files import default_name, detect_format, read_model_file
+    from .atomic import write_atomic
+    from .model_files import default_name, detect_format, read_model_file
 
     src = Path(path)
     fmt = detect_format(src)

@@ -50,9 +50,9 @@ from typing import Any
 
 import numpy as np
 
-from geo.document import Document, RecordedCourse, parse_courses
-from geo.errors import DocumentError, LodelineError, ModelRangeError
-from geo.notes import Note, messages
+from .document import Document, RecordedCourse, parse_courses
+from .errors import DocumentError, LodelineError, ModelRangeError
+from .notes import Note, messages
 
 __all__ = [
     "CourseConversion",
@@ -375,7 +375,7 @@ class DocumentConversion:
 def _query(name: str) -> str:
     """A model name ``field_at`` accepts: a blend label (``gufm1+igrf14 (0.40/0.60)``) came
     from ``auto``."""
-    from geo.models import blend_parts
+    from .models import blend_parts
 
     return "auto" if blend_parts(name) is not None else name
 
@@ -392,7 +392,7 @@ def _cardinals_as_recorded(courses: Sequence[Any], texts: list[str] | None) -> N
     in place; the derived columns keep the quadrant form."""
     if texts is None:
         return
-    from geo.bearings import recorded_bearing
+    from .bearings import recorded_bearing
 
     for i, rc in enumerate(courses):
         if rc.bearing_style == "cardinal":
@@ -430,7 +430,7 @@ def _stated_declination(doc: Document, file: str | None) -> float | None:
         return None
     if isinstance(record.declination, float):
         return record.declination
-    from geo.bearings import parse_declination
+    from .bearings import parse_declination
 
     try:
         value = parse_declination(record.declination)
@@ -440,7 +440,7 @@ def _stated_declination(doc: Document, file: str | None) -> float | None:
 
 
 def _date(value: Any, *, file: str | None, field: str) -> tuple[_dt.date | None, float]:
-    from geo.dates import parse_date
+    from .dates import parse_date
 
     try:
         return parse_date(value)
@@ -584,7 +584,7 @@ def _parse_stage(
 ) -> _Setup:
     """Calls, dates, models, stated declination, place and CRS, balanced angles, and the
     notes of what was assumed (height, foot)."""
-    from geo.survey import angular_closure
+    from .survey import angular_closure
 
     courses = parse_courses(doc, file=file)
     record = doc.record
@@ -644,7 +644,7 @@ def _parse_stage(
 
 def _assumption_notes(doc: Document, courses: tuple[RecordedCourse, ...]) -> list[Note]:
     """Notes of what the document leaves unsaid and the conversion assumes."""
-    from geo import units as _units
+    from . import units as _units
 
     notes: list[Note] = []
     if "height_m" not in doc.place.model_fields_set:
@@ -674,7 +674,7 @@ def _target_model(doc: Document, model: str | None, record_model: str, tyear: fl
     if doc.target is not None and "model" in doc.target.model_fields_set:
         return doc.target.model
     if record_model.strip().lower() != "auto":
-        from geo.models import resolve
+        from .models import resolve
 
         with contextlib.suppress(LodelineError):
             _, ok = resolve(record_model, np.array([tyear]))
@@ -688,7 +688,7 @@ def _stated_sigma(doc: Document, file: str | None) -> float | None:
     value = getattr(doc.record, "declination_sigma", None)
     if value is None:
         return None
-    from geo.bearings import parse_declination
+    from .bearings import parse_declination
 
     try:
         sigma = float(parse_declination(value))
@@ -705,7 +705,7 @@ def _stated_sigma(doc: Document, file: str | None) -> float | None:
 
 def _place(doc: Document, file: str | None) -> tuple[str, float, float, float, float, float]:
     """``(crs, metres per grid unit, e0, n0, lat0, lon0)`` of the point of beginning."""
-    from geo import grid as _grid
+    from . import grid as _grid
 
     place = doc.place
     try:
@@ -768,7 +768,7 @@ class _Evaluator:
         return self.s.stated is not None or self.record_field is not None
 
     def _field(self, which: str, name: str, year: Any, lat: np.ndarray, lon: np.ndarray) -> Any:
-        from geo.magnetic import field_at
+        from .magnetic import field_at
 
         s = self.s
         when = (s.record_date if which == "record" else s.tday) or year
@@ -784,7 +784,7 @@ class _Evaluator:
     def _both(self, lat: np.ndarray, lon: np.ndarray) -> tuple[_Split | None, _Split | None]:
         """Both dates in one evaluation when they share a model (None, None if a date is
         not covered: the separate evaluations then say which)."""
-        from geo.magnetic import field_at
+        from .magnetic import field_at
 
         s, m = self.s, lat.size
         if not (self.record_usable and s.record_model == s.target_model):
@@ -822,7 +822,7 @@ class _Evaluator:
         return None
 
     def __call__(self, lat: np.ndarray, lon: np.ndarray) -> _NodeValues:
-        from geo import grid as _grid
+        from . import grid as _grid
 
         s, m = self.s, lat.size
         try:
@@ -863,8 +863,8 @@ class _Evaluator:
 
 def _march_stage(setup: _Setup, evaluate: _Evaluator) -> Any:
     """The stations and the nodes between them (:func:`geo.march.march`)."""
-    from geo import grid as _grid
-    from geo.march import march
+    from . import grid as _grid
+    from .march import march
 
     s = setup
 
@@ -897,8 +897,8 @@ def _probes(s: _Setup) -> tuple[np.ndarray, np.ndarray] | None:
     """Lat/lon of the point of beginning and of two probes 1 km grid east and north of it
     (None when they cannot be projected: the usual passes then start from the point of
     beginning alone)."""
-    from geo import grid as _grid
-    from geo.march import PROBE_M
+    from . import grid as _grid
+    from .march import PROBE_M
 
     step = PROBE_M / s.unit_m
     try:
@@ -937,7 +937,7 @@ class _Directions:
 
 def _directions(s: _Setup, v: _NodeValues, at: np.ndarray, unknown: bool) -> _Directions:
     """The course azimuths with D, gamma at the nodes ``at`` (one node per course)."""
-    from geo.angles import normalize_azimuth
+    from .angles import normalize_azimuth
 
     def norm(a: np.ndarray) -> np.ndarray:
         return np.asarray(normalize_azimuth(a), dtype=float)
@@ -962,7 +962,7 @@ def _directions(s: _Setup, v: _NodeValues, at: np.ndarray, unknown: bool) -> _Di
 def _texts(s: _Setup, d: _Directions) -> _Directions:
     """Bearing texts: the recorded reference at the call's precision, the others at the
     call's but never coarser than a minute."""
-    from geo.bearings import format_bearings
+    from .bearings import format_bearings
 
     own = [rc.precision_deg for rc in s.courses]
     derived = [min(p, _DERIVED_PRECISION_DEG) for p in own]
@@ -1024,7 +1024,7 @@ def _course_figures(
     """Stations, and per course: lengths, D, gamma, factors and rates at its start, its
     bearings in every north (at its start, and at its end when the target bearing differs
     there by more than the precision shown), its marched path and the warnings."""
-    from geo.march import node_distance_m
+    from .march import node_distance_m
 
     lay = marched.layout
     o = lay.offsets
@@ -1097,7 +1097,7 @@ def rec_of(marched: Any) -> _Split | None:
 def _ends(s: _Setup, az: _Directions, az_end: _Directions) -> dict[int, References]:
     """Bearing texts at the end of the courses whose magnetic (target) azimuth there differs
     from the one at their start by more than the precision it is shown to."""
-    from geo.angles import angle_difference
+    from .angles import angle_difference
 
     if az.mag2 is None or az_end.mag2 is None or not s.courses:
         return {}
@@ -1204,8 +1204,8 @@ def _forecast_note(which: str, name: str, year: float) -> Note | None:
 def _models_differ_note(s: _Setup, record_name: Any, target_name: Any) -> Note:
     """Record and target dates on different models, with the difference of their D at the
     point of beginning at the date nearest the target date both cover."""
-    from geo.magnetic import field_at
-    from geo.models import load_model
+    from .magnetic import field_at
+    from .models import load_model
 
     head = (
         f"the record date uses {record_name} and the target date {target_name}: the change "
@@ -1238,7 +1238,7 @@ def _linear(at_probes: np.ndarray, de: np.ndarray, dn: np.ndarray) -> np.ndarray
     values at the point of beginning and at the probes east and north of it; ``de``, ``dn``:
     offsets from the point of beginning in probe distances. Differences of angles are taken
     in (-180, 180] (:func:`geo.angles.angle_difference`; a factor differs by far less)."""
-    from geo.angles import angle_difference
+    from .angles import angle_difference
 
     v0, ve, vn = (float(x) for x in at_probes[:3])
     return v0 + angle_difference(ve, v0) * de + angle_difference(vn, v0) * dn
@@ -1310,7 +1310,7 @@ def _found_stations(
     doc: Document, courses: tuple[RecordedCourse, ...], crs: str, file: str | None
 ) -> list[Station | None]:
     """Measured end positions of the courses as Stations (grid CRS units and WGS84)."""
-    from geo import grid as _grid
+    from . import grid as _grid
 
     out: list[Station | None] = []
     for rc, course in zip(courses, doc.course, strict=True):

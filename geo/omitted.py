@@ -36,10 +36,10 @@ import math
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
-from geo.errors import DocumentError, LodelineError
+from .errors import DocumentError, LodelineError
 
 if TYPE_CHECKING:
-    from geo.document import Course, RecordedCourse
+    from .document import Course, RecordedCourse
 
 __all__ = ["OmittedCourse", "closure_notes", "has_unknown", "read_omitted", "solve_omitted"]
 
@@ -70,7 +70,7 @@ def has_unknown(course: Course) -> bool:
 
 
 def _unit(ctx: dict[str, Any], unit: str | None) -> tuple[str, float]:
-    from geo.units import metres_per, unit_name
+    from .units import metres_per, unit_name
 
     name = unit_name(unit or ctx.get("default_unit") or "m")
     return name, float(metres_per(name, foot=ctx.get("foot"), vara_inches=ctx.get("vara_inches")))
@@ -80,8 +80,8 @@ def read_omitted(course: Course, index: int, ctx: dict[str, Any]) -> OmittedCour
     """Read a course that has a "?" (see the module notes); ``ctx`` holds the document's
     ``default_unit``, ``foot`` and ``vara_inches``. Raises :class:`DocumentError` naming the
     course and key for anything else in it that does not read."""
-    from geo.bearings import parse_bearing
-    from geo.calls import parse_call
+    from .bearings import parse_bearing
+    from .calls import parse_call
 
     where = {"course": index}
     if course.back is not None or course.every is not None or course.angle is not None:
@@ -139,8 +139,8 @@ def read_omitted(course: Course, index: int, ctx: dict[str, Any]) -> OmittedCour
 
 
 def _from_keys(course: Course, index: int, ctx: dict[str, Any]) -> OmittedCourse:
-    from geo.bearings import parse_bearing
-    from geo.calls import parse_distance
+    from .bearings import parse_bearing
+    from .calls import parse_distance
 
     az = length = None
     unit_text = course.unit
@@ -233,7 +233,7 @@ def _solutions(
 
 
 def _described(o: OmittedCourse, az: float, length: float) -> str:
-    from geo.bearings import format_bearing
+    from .bearings import format_bearing
 
     bearing = format_bearing(az, precision=1.0 / 3600.0)
     return f"{bearing} {length / o.metres_per_unit:.4f} {o.length_unit}"
@@ -253,8 +253,8 @@ def solve_omitted(
     Raises :class:`DocumentError` (at the first omitted course) for an open figure, a count of
     unknowns other than two, no solution, or two solutions (both named: the ambiguous case).
     """
-    from geo.bearings import format_bearing
-    from geo.document import RecordedCourse
+    from .bearings import format_bearing
+    from .document import RecordedCourse
 
     first = omitted[0].index
     where = {"file": file, "course": first, "field": "call"}

@@ -36,7 +36,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from geo.errors import InputError
+from .errors import InputError
 
 __all__ = [
     "EASTING_COLUMNS",
@@ -111,7 +111,7 @@ def read_points_text(
 ) -> list[FieldPoint]:
     """The points of CSV, GeoJSON or GPX text (``fmt``; see the module docstring)."""
     if fmt == "gpx":
-        from geo.gpx import gpx_waypoints
+        from .gpx import gpx_waypoints
 
         if crs is not None:
             raise InputError("GPX positions are WGS84 latitude and longitude: leave out --crs",

@@ -40,7 +40,7 @@ from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from typing import Any, Literal
 
-from geo.cautions import CAUTIONS
+from .cautions import CAUTIONS
 
 __all__ = [
     "FIGURE_WIDTH_MM",
@@ -156,7 +156,7 @@ class Report:
 
 def _signed_angle(deg: float | None, precision: float = _MINUTE) -> str:
     """``1°45′ W`` / ``0°12′ E`` for a signed angle (east/clockwise positive)."""
-    from geo.bearings import format_declination
+    from .bearings import format_declination
 
     if deg is None or not math.isfinite(deg):
         return "–"
@@ -189,7 +189,7 @@ def _trim(value: float, digits: int = 4) -> str:
 
 
 def _unit_label(unit: str) -> str:
-    from geo.units import UNIT_LABELS
+    from .units import UNIT_LABELS
 
     return UNIT_LABELS.get(unit, unit)
 
@@ -680,8 +680,8 @@ def _scalar(values: Any) -> float:
 
 def _field_columns(conv: Any) -> list[_FieldColumn]:
     """field_at at the point of beginning for the record date (when it has one) and target."""
-    from geo.errors import LodelineError
-    from geo.magnetic import field_at
+    from .errors import LodelineError
+    from .magnetic import field_at
 
     p0 = conv.stations[0]
     wanted: list[tuple[str, float, str]] = []
@@ -806,7 +806,7 @@ def collect_report(
     document (crossing courses, too few found stations...) becomes a note in the report;
     bad input raises the core's :class:`~geo.errors.LodelineError`.
     """
-    from geo.errors import DocumentError
+    from .errors import DocumentError
 
     doc = conv.document
     if not conv.courses:
@@ -1071,8 +1071,8 @@ def _course_blocks(conv: Any) -> list[Block]:
 
 def _survey_blocks(conv: Any, adjust: str | None) -> tuple[list[Block], Any, str | None]:
     """The closure (or why it was not computed) and the record-to-found fit."""
-    from geo import survey
-    from geo.errors import LodelineError
+    from . import survey
+    from .errors import LodelineError
 
     blocks: list[Block] = []
     survey_error = None
@@ -1091,7 +1091,7 @@ def _survey_blocks(conv: Any, adjust: str | None) -> tuple[list[Block], Any, str
 
     if closure is not None and conv.document.closed:
         blocks += _description_blocks(conv, closure.adjustment)
-    from geo.along import plot_list, report_blocks
+    from .along import plot_list, report_blocks
 
     placed_on = closure.adjustment if closure is not None else adjust
     blocks += report_blocks(plot_list(conv, adjust=placed_on), conv)
@@ -1106,7 +1106,7 @@ def _survey_blocks(conv: Any, adjust: str | None) -> tuple[list[Block], Any, str
         else:
             blocks += _fit_blocks(conv, fit)
 
-    from geo.retrace_report import retracement_blocks
+    from .retrace_report import retracement_blocks
 
     blocks += retracement_blocks(conv, fit)
 
@@ -1128,7 +1128,7 @@ def _notes_blocks(conv: Any, when: _dt.date) -> list[Block]:
 
 def _stated_area_text(conv: Any, area: Any) -> str:
     """The deed's stated area (record.area) beside the computed ground area."""
-    from geo.description import compare_area
+    from .description import compare_area
 
     foot = area.foot if area is not None else conv.document.record.foot
     check = compare_area(
@@ -1157,7 +1157,7 @@ _NORTH_NAMES = {"true": "true north", "grid": "grid north", "magnetic": "magneti
 
 def _closure_facts(conv: Any, clo: Any) -> list[Block]:
     """Misclosure, precision, adjustment, area, angular misclosure and the closure's notes."""
-    from geo.measures import area_text, conversion_unit, length_text
+    from .measures import area_text, conversion_unit, length_text
 
     ru = conversion_unit(conv)
 
@@ -1359,7 +1359,7 @@ def _closure_tables(clo: Any) -> list[Block]:
 
 def _attraction_blocks(conv: Any, clo: Any) -> list[Block]:
     """Local attraction from the fore and back bearings."""
-    from geo.bearings import format_bearing, recorded_bearing
+    from .bearings import format_bearing, recorded_bearing
 
     out: list[Block] = []
     att = clo.attraction
@@ -1414,7 +1414,7 @@ def _attraction_blocks(conv: Any, clo: Any) -> list[Block]:
 
 def _record_unit_table(clo: Any, ru: Any) -> Table:
     """Lengths, latitudes, departures and the running distance in the record unit."""
-    from geo.measures import length_text
+    from .measures import length_text
 
     rows = []
     along = 0.0
@@ -1442,8 +1442,8 @@ def _record_unit_table(clo: Any, ru: Any) -> Table:
 
 def _description_blocks(conv: Any, adjust: str | None) -> list[Block]:
     """The new description (closed figures): see :mod:`geo.deed_text`."""
-    from geo.deed_text import write_description
-    from geo.errors import LodelineError
+    from .deed_text import write_description
+    from .errors import LodelineError
 
     out: list[Block] = [Heading("New description")]
     try:
@@ -1581,7 +1581,7 @@ def render_html(report: Report, *, paper: Paper = "auto") -> str:
     ``"letter"``; the layout fits both.
     """
     if paper not in _PAGE_SIZE:
-        from geo.errors import InputError
+        from .errors import InputError
 
         raise InputError(f"unknown paper {paper!r}: use auto, a4 or letter", field="paper")
     parts = [
@@ -1674,7 +1674,7 @@ def build_report(
     :func:`geo.north.convert_document`; ``adjust`` that of :func:`geo.survey.close_document`;
     ``paper`` that of :func:`render_html`. Raises the core's LodelineError for bad input.
     """
-    from geo.north import convert_document
+    from .north import convert_document
 
     conv = convert_document(
         doc, file=file, target_date=target_date, model=model, record_model=record_model
@@ -1684,6 +1684,6 @@ def build_report(
         return render_html(report, paper=paper)
     if fmt == "markdown":
         return render_markdown(report)
-    from geo.errors import InputError
+    from .errors import InputError
 
     raise InputError(f"unknown report format {fmt!r}: use html or markdown", field="format")

@@ -49,10 +49,10 @@ from typing import TYPE_CHECKING, Any, Literal
 
 import numpy as np
 
-from geo.errors import InputError
+from .errors import InputError
 
 if TYPE_CHECKING:
-    from geo.north import DocumentConversion
+    from .north import DocumentConversion
 
 __all__ = [
     "METHODS",
@@ -123,7 +123,7 @@ def record_unit(conv: DocumentConversion) -> tuple[str, float]:
         return "m", 1.0
     pick = courses[0]
     if want:
-        from geo.units import unit_name
+        from .units import unit_name
 
         try:
             name = unit_name(want)
@@ -134,7 +134,7 @@ def record_unit(conv: DocumentConversion) -> tuple[str, float]:
 
 
 def _unit_label(unit: str) -> str:
-    from geo.units import UNIT_LABELS
+    from .units import UNIT_LABELS
 
     return UNIT_LABELS.get(unit, unit)
 
@@ -180,7 +180,7 @@ class FoundGap:
 
 def found_gaps(conv: DocumentConversion) -> tuple[FoundGap, ...]:
     """The gap between the marched station and the found position of every found station."""
-    from geo.bearings import format_bearing
+    from .bearings import format_bearing
 
     unit, per = record_unit(conv)
     out: list[FoundGap] = []
@@ -241,7 +241,7 @@ def found_end_target(
     :mod:`geo.north`'s march) turned into that north (by ``rotation_deg`` less the grid's) and
     brought from grid to ground (divided by the length-weighted mean combined factor).
     """
-    from geo.angles import angle_difference
+    from .angles import angle_difference
 
     last = conv.courses[-1]
     if last.found is None:
@@ -525,7 +525,7 @@ def restore_corners(
             state[j % n_corners] = ("restored", method, (a % n_corners, b % n_corners))
     turn = 0.0
     if fit_rotation_deg is not None and order:
-        from geo.angles import angle_difference
+        from .angles import angle_difference
 
         first = conv.courses[0]
         grid_rot = float(angle_difference(first.azimuth.grid, first.recorded.azimuth_deg))
@@ -607,7 +607,7 @@ def _corners(
     n_corners: int,
 ) -> tuple[Corner, ...]:
     """Corner records with grid coordinates and latitude/longitude (one inverse projection)."""
-    from geo import grid as _grid
+    from . import grid as _grid
 
     p0 = conv.stations[0]
     u = conv.grid_unit_m
@@ -641,8 +641,8 @@ def restore_document(conv: DocumentConversion, *, method: Method = "proportion")
     """:func:`restore_corners` with the record-to-found fit's rotation when two or more
     stations are found (:func:`geo.survey.fit_document`), else without (the one call every
     interface uses)."""
-    from geo.errors import FitError
-    from geo.survey import fit_document, found_count
+    from .errors import FitError
+    from .survey import fit_document, found_count
 
     rotation = None
     if found_count(conv) >= 2:

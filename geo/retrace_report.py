@@ -24,7 +24,7 @@ _W, _H = 620.0, 260.0
 
 
 def _nice(lo: float, hi: float, count: int = 6) -> list[float]:
-    from geo.report import _nice_step
+    from .report import _nice_step
 
     step = _nice_step((hi - lo) / count)
     first = math.ceil(lo / step) * step
@@ -42,7 +42,7 @@ def declination_history_svg(
     title: str = "Declination at the point of beginning",
 ) -> str:
     """The history plot as an SVG element (NaN values leave gaps in the line)."""
-    from geo.report import _Svg
+    from .report import _Svg
 
     t = np.asarray(years, dtype=float)
     d = np.asarray(declination_deg, dtype=float)
@@ -98,7 +98,7 @@ def declination_history_svg(
 
 
 def _corner_table(restoration: Any) -> Any:
-    from geo.report import Table
+    from .report import Table
 
     rows = tuple(
         (
@@ -121,8 +121,8 @@ def _corner_table(restoration: Any) -> Any:
 
 
 def _stakeout_blocks(conv: Any, restoration: Any) -> list[Any]:
-    from geo.report import Paragraph, Table
-    from geo.stakeout import stakeout_list
+    from .report import Paragraph, Table
+    from .stakeout import stakeout_list
 
     sl = stakeout_list(conv, restoration)
     if not sl.lines:
@@ -151,10 +151,10 @@ def _stakeout_blocks(conv: Any, restoration: Any) -> list[Any]:
 
 
 def _date_blocks(conv: Any, fit: Any) -> list[Any]:
-    from geo.field_history import declination_history, history_years
-    from geo.models import available_models, load_model
-    from geo.report import Facts, Figure
-    from geo.survey_date import estimate_survey_date
+    from .field_history import declination_history, history_years
+    from .models import available_models, load_model
+    from .report import Facts, Figure
+    from .survey_date import estimate_survey_date
 
     out: list[Any] = []
     empirical = band = None
@@ -187,8 +187,8 @@ def _date_blocks(conv: Any, fit: Any) -> list[Any]:
 
 
 def _gap_blocks(conv: Any) -> list[Any]:
-    from geo.report import Table
-    from geo.retrace import found_gaps
+    from .report import Table
+    from .retrace import found_gaps
 
     gaps = found_gaps(conv)
     if not gaps:
@@ -217,8 +217,8 @@ def _gap_blocks(conv: Any) -> list[Any]:
 
 def retracement_blocks(conv: Any, fit: Any) -> list[Any]:
     """The report's blocks for corners, stakeout, survey date and declination history."""
-    from geo.report import Heading, Paragraph
-    from geo.retrace import restore_corners
+    from .report import Heading, Paragraph
+    from .retrace import restore_corners
 
     out: list[Any] = [Heading("Corners found, restored and to set")]
     if not any(c.found is not None for c in conv.courses):

@@ -24,11 +24,11 @@ from typing import TYPE_CHECKING, Any, Literal
 
 import numpy as np
 
-from geo.errors import InputError
+from .errors import InputError
 
 if TYPE_CHECKING:
-    from geo.north import DocumentConversion
-    from geo.retrace import Corner, Restoration
+    from .north import DocumentConversion
+    from .retrace import Corner, Restoration
 
 __all__ = ["COLUMNS", "ORIGINS", "StakeoutLine", "StakeoutList", "stakeout_list"]
 
@@ -181,9 +181,9 @@ def stakeout_list(
 
     Raises :class:`InputError` for an unknown ``origin``.
     """
-    from geo import grid as _grid
-    from geo.retrace import record_unit
-    from geo.units import UNIT_LABELS
+    from . import grid as _grid
+    from .retrace import record_unit
+    from .units import UNIT_LABELS
 
     if origin not in ORIGINS:
         raise InputError(f"unknown origin {origin!r}: use nearest or previous", field="--from")
@@ -223,8 +223,8 @@ def stakeout_list(
 def _target_declination(
     conv: DocumentConversion, lat: np.ndarray, lon: np.ndarray, notes: list[str]
 ) -> np.ndarray | None:
-    from geo.errors import ModelRangeError
-    from geo.magnetic import field_at
+    from .errors import ModelRangeError
+    from .magnetic import field_at
 
     try:
         fv = field_at(
@@ -245,7 +245,7 @@ def _line(
     per: float,
     label: str,
 ) -> StakeoutLine:
-    from geo.bearings import format_bearing
+    from .bearings import format_bearing
 
     de, dn = c.east_m - s.east_m, c.north_m - s.north_m
     grid_az = math.degrees(math.atan2(de, dn)) % 360.0

@@ -110,11 +110,11 @@ from typing import TYPE_CHECKING, Any, Literal
 
 import numpy as np
 
-from geo.errors import FitError, InputError, LodelineError, ModelRangeError, TraverseError
-from geo.notes import Note, messages
+from .errors import FitError, InputError, LodelineError, ModelRangeError, TraverseError
+from .notes import Note, messages
 
 if TYPE_CHECKING:
-    from geo.north import DocumentConversion
+    from .north import DocumentConversion
 
 __all__ = [
     "AngularClosure",
@@ -147,7 +147,7 @@ _SECOND_DEG = 1.0 / 3600.0
 def _fmt_bearing(azimuth_deg: float | None) -> str | None:
     if azimuth_deg is None:
         return None
-    from geo.bearings import format_bearing
+    from .bearings import format_bearing
 
     return format_bearing(azimuth_deg, precision=_SECOND_DEG)
 
@@ -213,7 +213,7 @@ def angular_closure(
     of ``document`` when it gives every angle of a closed figure, else ``(None, why not)``
     (``(None, None)`` when it gives none). :func:`geo.north.convert_document` marches the
     figure with the balanced azimuths (see the module docstring, *Angles*)."""
-    from geo.traverse import adjust_interior_angles
+    from .traverse import adjust_interior_angles
 
     given = [r.angle_deg is not None for r in rec]
     if not any(given):
@@ -578,7 +578,7 @@ def _north_rotation(conv: DocumentConversion, north: str) -> float:
 
 
 def _acre_foot(conv: DocumentConversion) -> str:
-    from geo import units
+    from . import units
 
     record = conv.document.record
     try:
@@ -590,8 +590,8 @@ def _acre_foot(conv: DocumentConversion) -> str:
 def _attraction(
     conv: DocumentConversion, tolerance_deg: float | None
 ) -> LocalAttractionResult | None:
-    from geo.bearings import parse_bearing
-    from geo.traverse import local_attraction
+    from .bearings import parse_bearing
+    from .traverse import local_attraction
 
     rec = [c.recorded for c in conv.courses]
     if all(r.back_azimuth_deg is None for r in rec):
@@ -636,7 +636,7 @@ def resolve_adjustment(conv: DocumentConversion, adjust: str | None) -> str:
         raise InputError(
             f"unknown adjustment {adjust!r}: use compass, transit or none", field="adjust"
         )
-    from geo.retrace import closes_on_found_end
+    from .retrace import closes_on_found_end
 
     closed = bool(conv.document.closed) or closes_on_found_end(conv)
     if adjust is None:
@@ -676,7 +676,7 @@ class PlaneFigure:
 
 def plane_figure(conv: DocumentConversion) -> PlaneFigure:
     """The conversion's marched stations as a plane figure (see :class:`PlaneFigure`)."""
-    from geo.traverse import azimuth_of
+    from .traverse import azimuth_of
 
     stations = conv.figure_stations
     unit = conv.grid_unit_m
@@ -725,7 +725,7 @@ def _adjusted(conv: DocumentConversion, plane: PlaneFigure, method: str) -> _Adj
     """Adjust the plane figure in grid north (the compass rule turns with the figure; the
     transit rule does not, so the figure is adjusted once, along grid north and east, and the
     result turned to the chosen north). An open traverse keeps its stations."""
-    from geo import traverse as tv
+    from . import traverse as tv
 
     try:
         if _closes_on(conv) is not None:
@@ -785,9 +785,9 @@ def _closure_courses(
 ) -> tuple[ClosureCourse, ...]:
     """Per course: the conversion's bearing in ``north`` (as every output shows it), the plane
     components turned to ``north``, corrections and adjusted course."""
-    from geo.angles import normalize_azimuth
-    from geo.bearings import format_bearings
-    from geo.traverse import azimuth_of
+    from .angles import normalize_azimuth
+    from .bearings import format_bearings
+    from .traverse import azimuth_of
 
     lat, dep = _turned(np.diff(plane.north_m), np.diff(plane.east_m), rotation)
     lat_c, dep_c = _turned(adj.lat_c, adj.dep_c, rotation)
@@ -842,7 +842,7 @@ def _misclosure(adj: _Adjusted, rotation: float, perimeter_m: float) -> tuple[An
     """``(north, east, length, azimuth, precision)`` of the gap from the point of beginning
     to the marched closing station, in the chosen north (all ``None`` for an open traverse;
     zero components and ``None`` direction and precision for a figure that closes exactly)."""
-    from geo.traverse import azimuth_of
+    from .traverse import azimuth_of
 
     clo = adj.closure
     if clo is None:
@@ -857,7 +857,7 @@ def _area(
     conv: DocumentConversion, adj: _Adjusted, plane: PlaneFigure, notes: list[Note]
 ) -> tuple[AreaFigures | None, tuple[int, int] | None]:
     """Shoelace area of the adjusted plane figure (ground), and the grid area."""
-    from geo import traverse as tv
+    from . import traverse as tv
 
     foot = _acre_foot(conv)
     try:
@@ -904,7 +904,7 @@ def _budget(
     conv: DocumentConversion, plane: PlaneFigure, bearing_sigma_deg: float | None
 ) -> tuple[float, float | None, tuple[BudgetStation, ...]]:
     """The error budget of the plane figure (see the module docstring, *Error budget*)."""
-    from geo import traverse as tv
+    from . import traverse as tv
 
     if bearing_sigma_deg is None:
         bearing_sigma_deg = 0.5 * max(c.recorded.precision_deg for c in conv.courses)
@@ -969,7 +969,7 @@ def close_document(
         Unknown ``north``/``adjust``, or magnetic north asked of a record that has none.
     """
     if not conv.courses:
-        from geo.errors import DocumentError
+        from .errors import DocumentError
 
         raise DocumentError("has no courses: nothing to close", file=conv.file, field="course")
     closed = bool(conv.document.closed)
@@ -983,7 +983,7 @@ def close_document(
         notes.append(
             Note("angles_balanced", "azimuths carried from course 1 with the balanced angles")
         )
-    from geo import omitted, retrace
+    from . import omitted, retrace
 
     extra = omitted.closure_notes([c.recorded for c in conv.courses])
     extra += retrace.closure_notes(conv)
@@ -1057,7 +1057,7 @@ def close_document(
 
 def _closes_on(conv: DocumentConversion) -> str | None:
     """ "beginning", "found end" or None (see SurveyClosure.closes_on)."""
-    from geo.retrace import closes_on_found_end
+    from .retrace import closes_on_found_end
 
     if conv.document.closed:
         return "beginning"
@@ -1069,7 +1069,7 @@ def _closing_point(conv: DocumentConversion, rotation: float, st: Any) -> tuple[
     end (geo.retrace.found_end_target)."""
     if conv.document.closed or _closes_on(conv) is None:
         return 0.0, 0.0
-    from geo.retrace import found_end_target
+    from .retrace import found_end_target
 
     return found_end_target(
         conv,
@@ -1080,7 +1080,7 @@ def _closing_point(conv: DocumentConversion, rotation: float, st: Any) -> tuple[
 
 
 def _found_gaps(conv: DocumentConversion) -> tuple[Any, ...]:
-    from geo.retrace import found_gaps
+    from .retrace import found_gaps
 
     return found_gaps(conv)
 
@@ -1180,7 +1180,7 @@ def _model_declination(
     """The field model's D at the record date (None when no model covers it)."""
     if conv.record_year is None:
         return None, None
-    from geo.magnetic import field_at
+    from .magnetic import field_at
 
     name = conv.record_model_query
     try:
@@ -1198,9 +1198,9 @@ def fit_document(conv: DocumentConversion, *, with_scale: bool = True) -> Survey
     Raises :class:`FitError` (one line, names the file) for fewer than two found stations or an
     undetermined rotation.
     """
-    from geo import grid as _grid
-    from geo.fit import fit_similarity
-    from geo.traverse import march
+    from . import grid as _grid
+    from .fit import fit_similarity
+    from .traverse import march
 
     found = _found(conv)
     if len(found) < 2:
@@ -1233,7 +1233,7 @@ def fit_document(conv: DocumentConversion, *, with_scale: bool = True) -> Survey
     except LodelineError as err:
         raise err.located(file=conv.file, field="found") from None
     gamma, cf = float(gf.convergence_deg), float(gf.combined_factor)
-    from geo.angles import angle_difference
+    from .angles import angle_difference
 
     true_rotation = float(angle_difference(fit.rotation_deg + gamma, 0.0))
     magnetic = conv.reference == "magnetic"

@@ -28,12 +28,12 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from geo.errors import InputError
+from .errors import InputError
 
 if TYPE_CHECKING:
-    from geo.field_history import DeclinationHistory
-    from geo.north import DocumentConversion
-    from geo.survey import SurveyFit
+    from .field_history import DeclinationHistory
+    from .north import DocumentConversion
+    from .survey import SurveyFit
 
 __all__ = ["STATED_SIGMA_DEG", "DateRange", "SurveyDateEstimate", "estimate_survey_date"]
 
@@ -151,7 +151,7 @@ def estimate_survey_date(
     :class:`InputError` for a record that is not magnetic or a fit without an empirical
     declination.
     """
-    from geo.field_history import model_histories
+    from .field_history import model_histories
 
     if fit.empirical_declination_deg is None:
         raise InputError(

@@ -25,9 +25,9 @@ from typing import Literal
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from geo.angles import angle_difference, normalize_azimuth, reverse_azimuth
-from geo.errors import InputError, TraverseError
-from geo.units import square_metres_per_acre
+from .angles import angle_difference, normalize_azimuth, reverse_azimuth
+from .errors import InputError, TraverseError
+from .units import square_metres_per_acre
 
 __all__ = [
     "Adjustment",

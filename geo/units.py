@@ -43,8 +43,8 @@ from dataclasses import dataclass
 from fractions import Fraction
 from typing import Literal
 
-from geo.dates import parse_date
-from geo.errors import InputError
+from .dates import parse_date
+from .errors import InputError
 
 Foot = Literal["us", "international"]
 

@@ -1,4 +1,4 @@
-"""Plot list and events along the courses (geo.along), checked against pyproj and hand work."""
+"""Plot list and events along the courses (lodeline.geo.along), checked against pyproj and hand work."""
 
 from __future__ import annotations
 
@@ -11,11 +11,11 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from pyproj import CRS, Transformer
 
-from geo.along import course_points, plot_list
-from geo.document import document_from_dict, dumps_document, loads_document
-from geo.errors import DocumentError
-from geo.north import convert_document
-from tui.cli import main
+from lodeline.geo.along import course_points, plot_list
+from lodeline.geo.document import document_from_dict, dumps_document, loads_document
+from lodeline.geo.errors import DocumentError
+from lodeline.geo.north import convert_document
+from lodeline.tui.cli import main
 
 # Gunter's chain = 66 US survey feet = 792/39.37 m (NIST Handbook 44, Appendix C).
 CHAIN = float(66 * Fraction(1200, 3937))
@@ -68,7 +68,7 @@ def test_hand_worked_plot_list():
 def test_default_plots_are_the_export_points():
     # Without [plots], the plots are the intermediate points of the export (every multiple
     # of the spacing short of the course's end), numbered 1.. across courses.
-    from geo.export import positions
+    from lodeline.geo.export import positions
 
     doc = _doc([{"call": "N 10 E 40 chains", "every": "5 chains"},
                 {"call": "S 80 E 10 chains"},
@@ -234,7 +234,7 @@ def test_cli_outputs_carry_plots_and_events(tmp_path, capsys):
 
 
 def test_events_written_in_a_call():
-    from geo.along import split_call_events
+    from lodeline.geo.along import split_call_events
 
     # The form of the field notes: events between the bearing and the course's distance.
     text = "N 10 E, at 12 chains a run, at 31.50 a blazed beech, 40 chains to a stake"
@@ -263,7 +263,7 @@ def test_events_written_in_a_call():
 @settings(max_examples=200, deadline=None)
 @given(st.text(alphabet="NSEW 0123456789.,at chains rods°'", max_size=60))
 def test_split_call_events_never_raises_and_keeps_calls_without_events(text):
-    from geo.along import split_call_events
+    from lodeline.geo.along import split_call_events
 
     clean, events = split_call_events(text, foot="us")
     if not events:

@@ -15,8 +15,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from geo.angles import angle_difference
-from geo.bearings import (
+from lodeline.geo.angles import angle_difference
+from lodeline.geo.bearings import (
     DEGREE,
     MINUTE,
     SECOND,
@@ -27,7 +27,7 @@ from geo.bearings import (
     parse_bearing,
     parse_declination,
 )
-from geo.errors import InputError, ParseError
+from lodeline.geo.errors import InputError, ParseError
 
 D = 1
 M = F(1, 60)
@@ -453,7 +453,7 @@ _STEPS = [1.0, 1.0 / 60.0, 1.0 / 3600.0, 0.1 / 3600.0, 0.5, 0.25, 1.0 / 120.0, "
 def test_many_bearings_at_once_read_as_each_alone(pairs, ascii, one_step):
     # format_bearings writes many azimuths in one call (numpy rounding, texts reused across
     # calls, one step for all taken at once): every text must be format_bearing's own.
-    from geo.bearings import format_bearings
+    from lodeline.geo.bearings import format_bearings
 
     azimuths = [a for a, _ in pairs]
     steps = [pairs[0][1]] * len(pairs) if one_step else [p for _, p in pairs]
@@ -465,7 +465,7 @@ def test_many_bearings_at_once_read_as_each_alone(pairs, ascii, one_step):
 
 @pytest.mark.parametrize("bad", [[True, True], [float("nan")] * 2, [None, None], [-1.0, -1.0]])
 def test_many_bearings_refuse_a_bad_step_as_one_bearing_does(bad):
-    from geo.bearings import format_bearings
+    from lodeline.geo.bearings import format_bearings
 
     with pytest.raises(InputError):
         format_bearing(10.0, precision=bad[0])

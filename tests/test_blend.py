@@ -1,4 +1,4 @@
-"""The hand-over from gufm1 to IGRF-14 under auto (geo.models, geo.magnetic, lodeline field).
+"""The hand-over from gufm1 to IGRF-14 under auto (lodeline.geo.models, lodeline.geo.magnetic, lodeline field).
 
 gufm1 is read from the shared data folder (the authors' file, not redistributed); the tests
 skip with the reason when it is absent. Check values: the linearity of the field in the Gauss
@@ -13,10 +13,10 @@ import json
 import numpy as np
 import pytest
 
-from geo.magnetic import field_at
-from geo.models import install_model
+from lodeline.geo.magnetic import field_at
+from lodeline.geo.models import install_model
+from lodeline.tui.cli import main
 from tests.shared_data import GUFM1
-from tui.cli import main
 
 PLACES = [(50.73, -3.53), (41.2, -77.9), (-33.9, 18.4), (35.7, 139.7), (64.1, -21.9)]
 
@@ -79,8 +79,8 @@ def test_without_a_historical_model_auto_is_igrf_alone(tmp_path, monkeypatch):
 
 
 def test_a_blended_record_date_is_a_note_of_the_conversion(with_gufm1):
-    from geo.document import document_from_dict
-    from geo.north import convert_document
+    from lodeline.geo.document import document_from_dict
+    from lodeline.geo.north import convert_document
 
     doc = document_from_dict(
         {

@@ -14,8 +14,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from geo.calls import parse_call
-from geo.errors import ParseError
+from lodeline.geo.calls import parse_call
+from lodeline.geo.errors import ParseError
 
 US_FT = F(1200, 3937)  # NIST SP 811 App. B: U.S. survey foot = 1200/3937 m exactly
 PERCH = F(33, 2) * US_FT  # Handbook 44: rod = pole = perch = 16 1/2 ft

@@ -14,9 +14,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from geo.calls import format_length, parse_call, parse_distance
-from geo.errors import InputError, ParseError
-from geo.units import metres_per
+from lodeline.geo.calls import format_length, parse_call, parse_distance
+from lodeline.geo.errors import InputError, ParseError
+from lodeline.geo.units import metres_per
 from tests.test_bearings import _line_events
 
 US_FT = F(1200, 3937)  # NIST SP 811 App. B: U.S. survey foot = 1200/3937 m exactly

@@ -12,7 +12,7 @@ from pathlib import Path
 
 import pytest
 
-from tui.cli import main
+from lodeline.tui.cli import main
 
 DEMOS = Path(__file__).parents[1] / "demo_traverses"
 WOODLOT = DEMOS / "greyfen_woodlot_1925.toml"
@@ -93,7 +93,7 @@ def test_grid_crs_that_reads_files_or_fails_in_proj_is_one_line_of_bad_input(
 def test_crs_definitions_without_files_are_accepted():
     from pyproj import CRS
 
-    from geo.grid import grid_factors
+    from lodeline.geo.grid import grid_factors
 
     # WKT and PROJJSON of the same grid as the EPSG code give its factors (pyproj itself)
     code = "EPSG:32145"
@@ -105,7 +105,7 @@ def test_crs_definitions_without_files_are_accepted():
 def test_proj_network_is_off():
     import pyproj.network
 
-    import geo.grid  # noqa: F401  (importing the module turns it off)
+    import lodeline.geo.grid  # noqa: F401  (importing the module turns it off)
 
     assert not pyproj.network.is_network_enabled()
 
@@ -152,12 +152,12 @@ def test_report_output_that_is_the_document_is_refused(capsys, tmp_path):
 def test_export_that_fails_on_its_third_file_replaces_none(capsys, tmp_path, monkeypatch):
     import errno
 
-    import geo.atomic
+    import lodeline.geo.atomic
 
     out = {name: tmp_path / name for name in ("x.geojson", "x.csv", "x-courses.csv")}
     for path in out.values():
         path.write_text("previous " + path.name, encoding="utf-8")
-    real_fsync, calls = geo.atomic.os.fsync, []
+    real_fsync, calls = lodeline.geo.atomic.os.fsync, []
 
     def full_disk_on_third(fd):  # the disk fills while the third file is written
         calls.append(fd)
@@ -165,7 +165,7 @@ def test_export_that_fails_on_its_third_file_replaces_none(capsys, tmp_path, mon
             raise OSError(errno.ENOSPC, "No space left on device")
         return real_fsync(fd)
 
-    monkeypatch.setattr(geo.atomic.os, "fsync", full_disk_on_third)
+    monkeypatch.setattr(lodeline.geo.atomic.os, "fsync", full_disk_on_third)
     status, _, err = run(
         capsys, "export", WOODLOT, "--geojson", out["x.geojson"], "--csv", out["x.csv"], "--force"
     )
@@ -180,22 +180,22 @@ def test_export_that_fails_on_its_third_file_replaces_none(capsys, tmp_path, mon
 def test_a_failed_rename_puts_back_the_files_already_replaced(tmp_path, monkeypatch):
     import errno
 
-    import geo.atomic
-    from geo.errors import OutputError
+    import lodeline.geo.atomic
+    from lodeline.geo.errors import OutputError
 
     first, second = tmp_path / "a.txt", tmp_path / "b.txt"
     first.write_text("old a", encoding="utf-8")
-    real_replace = geo.atomic.os.replace
+    real_replace = lodeline.geo.atomic.os.replace
 
     def fail_on_b(src, dst):
         if Path(dst) == second:
             raise OSError(errno.EIO, "Input/output error")
         return real_replace(src, dst)
 
-    monkeypatch.setattr(geo.atomic.os, "replace", fail_on_b)
+    monkeypatch.setattr(lodeline.geo.atomic.os, "replace", fail_on_b)
     with pytest.raises(OutputError, match="b.txt"):
-        geo.atomic.write_all([(first, "new a"), (second, "new b")], overwrite=True)
-    monkeypatch.setattr(geo.atomic.os, "replace", real_replace)
+        lodeline.geo.atomic.write_all([(first, "new a"), (second, "new b")], overwrite=True)
+    monkeypatch.setattr(lodeline.geo.atomic.os, "replace", real_replace)
     assert first.read_text(encoding="utf-8") == "old a"
     assert not second.exists()
     assert sorted(p.name for p in tmp_path.iterdir()) == ["a.txt"]
@@ -212,7 +212,7 @@ def test_export_into_a_directory_says_it_is_a_directory(capsys, tmp_path):
 
 def _lodeline(*argv, **kwargs):
     return subprocess.Popen(
-        [sys.executable, "-m", "tui.cli", *map(str, argv)], stderr=subprocess.PIPE, **kwargs
+        [sys.executable, "-m", "lodeline", *map(str, argv)], stderr=subprocess.PIPE, **kwargs
     )
 
 
@@ -280,7 +280,7 @@ def test_unterminated_csv_quote_is_named_as_such(capsys, tmp_path):
 
 
 def test_height_has_one_range_in_the_document_and_the_conversion(capsys, tmp_path):
-    from geo.magnetic import HEIGHT_MIN_M
+    from lodeline.geo.magnetic import HEIGHT_MIN_M
 
     doc = _document_with(tmp_path, "height_m = 540.0", "height_m = -5000.0")
     status, _, err = run(capsys, "convert", doc)
@@ -315,7 +315,7 @@ def test_an_empty_model_option_is_refused(capsys, option):
 def test_every_that_would_make_too_many_points_is_refused_at_once(capsys, tmp_path, spacing):
     import time
 
-    from geo.along import MAX_ALONG_POINTS
+    from lodeline.geo.along import MAX_ALONG_POINTS
 
     doc = tmp_path / "long.toml"
     doc.write_text(
@@ -332,7 +332,7 @@ def test_every_that_would_make_too_many_points_is_refused_at_once(capsys, tmp_pa
 
 
 def test_points_are_counted_over_the_whole_document(capsys, tmp_path):
-    from geo.along import MAX_ALONG_POINTS
+    from lodeline.geo.along import MAX_ALONG_POINTS
 
     # 60 % of the bound on each of two courses: the second passes the document's bound
     n = int(MAX_ALONG_POINTS * 0.6)

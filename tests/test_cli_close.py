@@ -8,8 +8,8 @@ from pathlib import Path
 import pytest
 from pyproj import Geod
 
-from geo.cautions import SHORT_CAUTION
-from tui.cli import main
+from lodeline.geo.cautions import SHORT_CAUTION
+from lodeline.tui.cli import main
 
 DEMOS = sorted((Path(__file__).parents[1] / "demo_traverses").glob("*.toml"))
 CLOSED_DEMOS = [d for d in DEMOS if "closed = true" in d.read_text(encoding="utf-8")]
@@ -51,7 +51,7 @@ CLOSE_KEYS = CLOSE_REQUIRED | {
     "closes_on",
     "found_gaps",
 }
-# Record-unit values (geo.measures) and the plot list and events (geo.along), beside the
+# Record-unit values (lodeline.geo.measures) and the plot list and events (lodeline.geo.along), beside the
 # metres, under names of their own.
 CLOSE_KEYS |= {
     "record_unit",
@@ -159,7 +159,7 @@ def test_human_output_ends_with_the_caution(capsys, demo):
 
 
 def _ends_on_found(demo: Path) -> bool:
-    from geo.document import load_document
+    from lodeline.geo.document import load_document
 
     return load_document(demo).course[-1].found is not None
 

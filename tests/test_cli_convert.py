@@ -9,15 +9,15 @@ from pathlib import Path
 
 import pytest
 
-from geo.cautions import SHORT_CAUTION
-from tui.cli import main
+from lodeline.geo.cautions import SHORT_CAUTION
+from lodeline.tui.cli import main
 
 DEMOS = sorted((Path(__file__).parents[1] / "demo_traverses").glob("*.toml"))
 WOODLOT = next(d for d in DEMOS if "woodlot" in d.name)
 
 # The keys of the issue that defines `lodeline convert --json`.
 TOP_KEYS = {"record_date", "target_date", "model", "crs", "grid_unit_m", "notes", "courses"}
-# beside the metres: the record unit (geo.measures), the plot list and events (geo.along)
+# beside the metres: the record unit (lodeline.geo.measures), the plot list and events (lodeline.geo.along)
 TOP_KEYS |= {"record_unit", "plot_numbering", "plots", "events"}
 COURSE_KEYS = {
     "index",
@@ -143,7 +143,7 @@ def test_bad_target_date_option(capsys):
 
 def test_console_script_does_not_import_textual(tmp_path):
     code = (
-        "import sys; from tui.cli import main; "
+        "import sys; from lodeline.tui.cli import main; "
         f"rc = main(['convert', {str(WOODLOT)!r}, '--json']); "
         "assert 'textual' not in sys.modules, 'textual imported'; sys.exit(rc)"
     )

@@ -16,9 +16,9 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from shared_data import GUFM1  # noqa: E402
 
-from geo.magnetic import field_at
-from tui.cli import main
-from tui.commands.field import RESULT_KEYS
+from lodeline.geo.magnetic import field_at
+from lodeline.tui.cli import main
+from lodeline.tui.commands.field import RESULT_KEYS
 
 JSON_KEYS = [
     "lat", "lon", "date", "height_m", "model", "declination_deg", "inclination_deg",
@@ -114,16 +114,16 @@ def test_bad_input_exit_2_one_line(capsys, argv, words):
 def test_subprocess_exit_code_and_no_textual(tmp_path):
     code = (
         "import sys\n"
-        "from tui.cli import main\n"
+        "from lodeline.tui.cli import main\n"
         "rc = main(['field','--lat','41.2','--lon','-77.9','--date','1931-07-04','--json'])\n"
-        "for name in ('textual', 'pyproj', 'pydantic', 'rich', 'tui.commands.convert'):\n"
+        "for name in ('textual', 'pyproj', 'pydantic', 'rich', 'lodeline.tui.commands.convert'):\n"
         "    assert name not in sys.modules, name + ' imported'\n"
         "sys.exit(rc)\n"
     )
     ok = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60)
     assert ok.returncode == 0, ok.stderr
     bad = subprocess.run(
-        [sys.executable, "-m", "tui.cli", "field", "--lat", "91", "--lon", "0", "--date", "2000"],
+        [sys.executable, "-m", "lodeline", "field", "--lat", "91", "--lon", "0", "--date", "2000"],
         capture_output=True,
         text=True,
         timeout=60,
@@ -269,7 +269,7 @@ def test_add_gufm1_then_1820_declination(capsys):
 
 
 def test_help_lists_every_subcommand_and_a_named_one_parses_alone(capsys):
-    from tui.cli import SUBCOMMANDS
+    from lodeline.tui.cli import SUBCOMMANDS
 
     with pytest.raises(SystemExit):
         main(["--help"])

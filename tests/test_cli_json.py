@@ -14,8 +14,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from tui.cli import main
-from tui.commands.common import json_text
+from lodeline.tui.cli import main
+from lodeline.tui.commands.common import json_text
 
 DEMO = Path(__file__).parents[1] / "demo_traverses" / "wrenfield_glebe_1911.toml"
 COMMANDS = (

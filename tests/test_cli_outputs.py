@@ -11,7 +11,7 @@ from pathlib import Path
 
 import pytest
 
-from tui.cli import main
+from lodeline.tui.cli import main
 
 DEMO = Path(__file__).parents[1] / "demo_traverses" / "greyfen_woodlot_1925.toml"
 SHIPPED_SHC = Path(__file__).parents[1] / "geo" / "data" / "IGRF14.shc"
@@ -171,10 +171,10 @@ def test_model_messages_name_the_real_problem(argv, expected, capsys):
 
 
 def test_atomic_write_into_a_missing_folder_is_a_project_error(tmp_path):
-    """Bug: geo.atomic.write_atomic let OSError escape, so the terminal application's report
+    """Bug: lodeline.geo.atomic.write_atomic let OSError escape, so the terminal application's report
     and export (which catch the project's errors) could fail with a traceback."""
-    from geo.atomic import write_atomic
-    from geo.errors import OutputError
+    from lodeline.geo.atomic import write_atomic
+    from lodeline.geo.errors import OutputError
 
     target = tmp_path / "missing" / "out.html"
     with pytest.raises(OutputError) as info:

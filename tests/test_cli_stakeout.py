@@ -11,8 +11,8 @@ from pathlib import Path
 
 import pytest
 
-from geo.cautions import SHORT_CAUTION
-from tui.cli import main
+from lodeline.geo.cautions import SHORT_CAUTION
+from lodeline.tui.cli import main
 
 DEMO = Path(__file__).parents[1] / "demo_traverses" / "wrenfield_glebe_1911.toml"
 

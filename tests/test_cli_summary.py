@@ -17,8 +17,8 @@ from pathlib import Path
 
 import pytest
 
-from tui.cli import main
-from tui.summary import COLUMNS
+from lodeline.tui.cli import main
+from lodeline.tui.summary import COLUMNS
 
 DEMO_DIR = Path(__file__).parents[1] / "demo_traverses"
 DEMOS = sorted(DEMO_DIR.glob("*.toml"))

@@ -1,4 +1,4 @@
-"""The new description (geo.deed_text, lodeline describe) and record units in close/report."""
+"""The new description (lodeline.geo.deed_text, lodeline describe) and record units in close/report."""
 
 from __future__ import annotations
 
@@ -11,10 +11,10 @@ from pathlib import Path
 import pytest
 from pyproj import CRS, Transformer
 
-from geo.deed_text import write_description
-from geo.document import document_from_dict, dumps_document, load_document
-from geo.north import convert_document
-from tui.cli import main
+from lodeline.geo.deed_text import write_description
+from lodeline.geo.document import document_from_dict, dumps_document, load_document
+from lodeline.geo.north import convert_document
+from lodeline.tui.cli import main
 
 DEMOS = Path(__file__).parents[1] / "demo_traverses"
 # US survey foot = 1200/3937 m; chain = 66 ft; perch = 16.5 ft (NIST Handbook 44, App. C).
@@ -75,7 +75,7 @@ def test_grid_north_turns_by_the_convergence_from_pyproj():
     gamma = -math.degrees(math.atan2(e2 - e1, n2 - n1))
     d = write_description(conv, north="grid", bearing_precision="second")
 
-    from geo.bearings import parse_bearing
+    from lodeline.geo.bearings import parse_bearing
 
     # The description gives the adjusted courses of the marched figure, which holds true
     # bearings and so turns with gamma along each course and closes only to a few mm on the
@@ -97,7 +97,7 @@ def test_magnetic_north_at_the_target_date_against_pygeomag():
         glat=p0.lat, glon=p0.lon, alt=0.0, time=year
     )
     d = write_description(conv, north="magnetic")
-    from geo.bearings import format_bearing
+    from lodeline.geo.bearings import format_bearing
 
     # magnetic = true - D; course 1 runs true north
     assert f"thence {format_bearing((0.0 - ref.d) % 360.0, precision=1 / 60)}, " in d.courses

@@ -1,4 +1,4 @@
-"""Whole legal descriptions read as written (geo.description and ``lodeline read``).
+"""Whole legal descriptions read as written (lodeline.geo.description and ``lodeline read``).
 
 The corpus in tests/data/descriptions holds descriptions written for the tests with the
 values their words were written from (see its README). Acre = 43,560 sq ft (NIST Handbook
@@ -15,12 +15,12 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from geo.bearings import format_bearing, parse_declination
-from geo.calls import format_length, parse_call
-from geo.description import compare_area, read_description, stated_area_m2
-from geo.document import load_document
-from geo.errors import ParseError
-from tui.cli import main
+from lodeline.geo.bearings import format_bearing, parse_declination
+from lodeline.geo.calls import format_length, parse_call
+from lodeline.geo.description import compare_area, read_description, stated_area_m2
+from lodeline.geo.document import load_document
+from lodeline.geo.errors import ParseError
+from lodeline.tui.cli import main
 
 DATA = Path(__file__).parent / "data" / "descriptions"
 CASES = sorted(p.stem for p in DATA.glob("*.txt"))
@@ -282,7 +282,7 @@ def test_read_does_not_import_textual(tmp_path):
     src = tmp_path / "deed.txt"
     src.write_text(ISSUE_EXAMPLE, encoding="utf-8")
     code = (
-        "import sys; from tui.cli import main; "
+        "import sys; from lodeline.tui.cli import main; "
         f"rc = main(['read', {str(src)!r}, '--lat', '40', '--lon', '-77', '--out', "
         f"{str(tmp_path / 'doc.toml')!r}]); "
         "assert 'textual' not in sys.modules, 'textual imported'; sys.exit(rc)"

@@ -13,7 +13,7 @@ from fuzz import examples
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from geo.document import (
+from lodeline.geo.document import (
     Document,
     check_document,
     document_from_dict,
@@ -25,7 +25,7 @@ from geo.document import (
     parse_courses,
     save_document,
 )
-from geo.errors import DocumentError
+from lodeline.geo.errors import DocumentError
 
 DEMOS = sorted((Path(__file__).parents[1] / "demo_traverses").glob("*.toml"))
 
@@ -244,7 +244,7 @@ def test_schema_keys_are_those_of_format_version_1():
         "plots",
         "course",
     ]
-    from geo.document import Course, CourseEvent, Found, Place, Plots, Record, Target
+    from lodeline.geo.document import Course, CourseEvent, Found, Place, Plots, Record, Target
 
     # events along a course and the plot list's numbering (documented beside target)
     assert set(CourseEvent.model_fields) == {"distance", "note"}
@@ -510,7 +510,7 @@ def test_a_course_given_by_parts_reads_the_same_written_as_its_call():
     # 1547 vara"; typed back as a call it must give the same azimuth, length and precision
     # (the demo's field notes turn interior angles to the left; demo data, invented). The
     # first course keeps its angle at the point of beginning beside its call.
-    from geo.document import course_call_text, parse_courses
+    from lodeline.geo.document import course_call_text, parse_courses
 
     demo = Path(__file__).parents[1] / "demo_traverses" / "piedra_lisa_survey_1887.toml"
     doc = load_document(demo)
@@ -541,7 +541,7 @@ def test_a_course_given_by_parts_reads_the_same_written_as_its_call():
     ],
 )
 def test_angle_calls_that_cannot_be_read_name_the_course(call, extra, words):
-    from geo.document import check_document
+    from lodeline.geo.document import check_document
 
     doc = document_from_dict(
         {

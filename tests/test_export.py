@@ -1,4 +1,4 @@
-"""Positions, GeoJSON (RFC 7946) and CSV export (geo.export, ``lodeline export``)."""
+"""Positions, GeoJSON (RFC 7946) and CSV export (lodeline.geo.export, ``lodeline export``)."""
 
 from __future__ import annotations
 
@@ -13,8 +13,8 @@ import pytest
 from geojson_pydantic import FeatureCollection
 from pyproj import Geod
 
-from geo.document import document_from_dict, load_document
-from geo.export import (
+from lodeline.geo.document import document_from_dict, load_document
+from lodeline.geo.export import (
     COURSE_COLUMNS,
     POINT_COLUMNS,
     courses_csv_path,
@@ -22,8 +22,8 @@ from geo.export import (
     geojson_text,
     positions,
 )
-from geo.north import convert_document
-from tui.cli import main
+from lodeline.geo.north import convert_document
+from lodeline.tui.cli import main
 
 DEMOS = sorted((Path(__file__).parents[1] / "demo_traverses").glob("*.toml"))
 CRUISE = next(d for d in DEMOS if "cruise" in d.name)

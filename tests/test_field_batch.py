@@ -19,10 +19,10 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-import tui.commands.field_batch as batch
-from geo.errors import LodelineError
-from tui.cli import main
-from tui.commands.field import RESULT_KEYS, _csv_value, _date, _number, _record
+import lodeline.tui.commands.field_batch as batch
+from lodeline.geo.errors import LodelineError
+from lodeline.tui.cli import main
+from lodeline.tui.commands.field import RESULT_KEYS, _csv_value, _date, _number, _record
 
 
 @pytest.fixture(autouse=True)
@@ -33,8 +33,8 @@ def user_dir(tmp_path, monkeypatch):
 
 def reference(path: str, model: str = "auto", skip_bad: bool = False) -> tuple[str, list[str]]:
     """The output text and stderr lines of the row-by-row reading (raises its first error)."""
-    from geo.magnetic import field_at, validate_position
-    from geo.models import require, resolve
+    from lodeline.geo.magnetic import field_at, validate_position
+    from lodeline.geo.models import require, resolve
 
     text = Path(path).read_text(encoding="utf-8-sig")
     reader = csv.reader(io.StringIO(text, newline=""), strict=True)
@@ -67,7 +67,7 @@ def reference(path: str, model: str = "auto", skip_bad: bool = False) -> tuple[s
                     raise
                 bad.append(err)
     except csv.Error as exc:
-        from tui.commands.field import _malformed
+        from lodeline.tui.commands.field import _malformed
 
         raise _malformed(exc, path, line + 1) from None
     if good:
@@ -300,7 +300,7 @@ def test_masks_accept_exactly_what_the_row_by_row_reading_accepts(capsys, tmp_pa
 def test_numpy_dates_give_the_decimal_years_of_geo_dates():
     import datetime as dt
 
-    from geo.dates import parse_date
+    from lodeline.geo.dates import parse_date
 
     days = [dt.date(1, 1, 1), dt.date(1899, 12, 31), dt.date(9998, 12, 31)]
     days += [dt.date(1900, 1, 1) + dt.timedelta(days=k) for k in range(0, 48_000, 7)]
@@ -311,12 +311,12 @@ def test_numpy_dates_give_the_decimal_years_of_geo_dates():
 
 
 def test_progress_bar_only_on_a_terminal(capsys, tmp_path, monkeypatch):
-    import tui.progress
+    import lodeline.tui.progress
 
     src = _write(tmp_path / "in.csv", [list(GOOD_ROWS[k % 5]) for k in range(30)])
     code, out, err = run(capsys, "field", "--csv", src, "--out", tmp_path / "a.csv")
     assert code == 0 and out == "" and err == ""  # stderr is not a terminal: silent
-    monkeypatch.setattr(tui.progress, "_stderr_is_terminal", lambda: True)
+    monkeypatch.setattr(lodeline.tui.progress, "_stderr_is_terminal", lambda: True)
     monkeypatch.setattr(batch, "CHUNK_ROWS", 7)
     code, out, err = run(capsys, "field", "--csv", src, "--out", tmp_path / "b.csv")
     assert code == 0 and out == ""

@@ -14,11 +14,11 @@ from fastkml import kml as fkml
 from fastkml.validator import validate
 from pyproj import Transformer
 
-from geo.document import load_document
-from geo.export import positions, write_exports
-from geo.marks import NAME_CHARS
-from geo.north import convert_document
-from tui.cli import main
+from lodeline.geo.document import load_document
+from lodeline.geo.export import positions, write_exports
+from lodeline.geo.marks import NAME_CHARS
+from lodeline.geo.north import convert_document
+from lodeline.tui.cli import main
 
 DEMOS = sorted((Path(__file__).parents[1] / "demo_traverses").glob("*.toml"))
 TARGET = "2026-01-01"
@@ -259,7 +259,7 @@ def test_dxf_course_text_carries_the_record_bearing_and_distance(tmp_path):
 
 @pytest.mark.parametrize(("unit_m", "code"), [(1.0, 6), (0.3048, 2), (1200 / 3937, 21), (0.5, 0)])
 def test_dxf_units_code(unit_m, code):
-    from geo.dxf import insunits
+    from lodeline.geo.dxf import insunits
 
     # $INSUNITS codes of the DXF reference (6 metres, 2 feet, 21 US survey feet; from memory)
     assert insunits(unit_m) == code
@@ -317,7 +317,7 @@ def test_field_files_carry_events_and_the_retraced_corners(tmp_path):
     assert sum(mark_key(n)[0] == "corner" for n in names) == len(corners)
     # read back as a receiver's file that lost the waypoint types, a restored corner's name
     # is no corner number: it is never taken for a found corner
-    from geo.found_import import _by_name
+    from lodeline.geo.found_import import _by_name
 
     conv = convert_file(demos["wrenfield_glebe_1911"])
     for k, status in corners.items():

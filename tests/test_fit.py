@@ -10,10 +10,10 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from pyproj import Geod
 
-from geo.errors import FitError, InputError
-from geo.fit import fit_similarity
-from geo.grid import grid_factors, to_grid
-from geo.traverse import march
+from lodeline.geo.errors import FitError, InputError
+from lodeline.geo.fit import fit_similarity
+from lodeline.geo.grid import grid_factors, to_grid
+from lodeline.geo.traverse import march
 
 RECORD_AZ = np.array([12.5, 97.25, 171.0, 255.75, 300.0])
 RECORD_LEN = np.array([402.3, 251.5, 380.0, 310.2, 120.7])

@@ -12,12 +12,12 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from pyproj import Transformer
 
-from geo.document import load_document
-from geo.errors import InputError
-from geo.export import write_exports
-from geo.north import convert_document
-from geo.point_files import read_points_text
-from tui.cli import main
+from lodeline.geo.document import load_document
+from lodeline.geo.errors import InputError
+from lodeline.geo.export import write_exports
+from lodeline.geo.north import convert_document
+from lodeline.geo.point_files import read_points_text
+from lodeline.tui.cli import main
 
 DEMOS = Path(__file__).parents[1] / "demo_traverses"
 ASHGROVE = DEMOS / "ashgrove_hollow_1796.toml"
@@ -169,7 +169,7 @@ def test_nearest_match_within_the_distance(tmp_path, capsys):
 
 
 def test_json_document(tmp_path, capsys):
-    from geo.document import dumps_document
+    from lodeline.geo.document import dumps_document
 
     doc = tmp_path / "farm.json"
     doc.write_text(dumps_document(load_document(BRINDLE), "json"))

@@ -2,7 +2,7 @@
 
 - the call reader: any text gives a call or a ParseError, never another exception, within
   the call-length limit, at once beyond it;
-- the desk's recomputation (:func:`tui.results.compute_results`) from random document states:
+- the desk's recomputation (:func:`lodeline.tui.results.compute_results`) from random document states:
   whatever the mapping holds, no exception other than the project's own errors escapes, and
   the results hold one row per course;
 - the command line on mutated documents: exit 0 or 2 (never 1, never a traceback), one line
@@ -23,8 +23,8 @@ from fuzz import examples
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from geo.calls import MAX_CALL_CHARS, parse_call
-from geo.errors import LodelineError
+from lodeline.geo.calls import MAX_CALL_CHARS, parse_call
+from lodeline.geo.errors import LodelineError
 
 DEMOS = sorted((Path(__file__).parents[1] / "demo_traverses").glob("*.toml"))
 
@@ -98,8 +98,8 @@ _KEYS = {
 }
 _BASE = json.loads(
     json.dumps(
-        __import__("geo.document", fromlist=["x"]).document_to_dict(
-            __import__("geo.document", fromlist=["x"]).load_document(DEMOS[0])
+        __import__("lodeline.geo.document", fromlist=["x"]).document_to_dict(
+            __import__("lodeline.geo.document", fromlist=["x"]).load_document(DEMOS[0])
         )
     )
 )
@@ -137,7 +137,7 @@ def _document_states(draw):
 )
 @given(_document_states())
 def test_desk_recomputation_raises_only_the_projects_errors(data):
-    from tui.results import compute_results
+    from lodeline.tui.results import compute_results
 
     try:
         results = compute_results(data, path=Path("fuzz.toml"))
@@ -167,7 +167,7 @@ _MUTATIONS = st.lists(
     st.sampled_from(DEMOS), _MUTATIONS, st.sampled_from(["convert", "close", "export", "report"])
 )
 def test_cli_exit_codes_on_mutated_documents(tmp_path, capsys, demo, mutations, command):
-    from tui.cli import main
+    from lodeline.tui.cli import main
 
     text = demo.read_text(encoding="utf-8")
     for start, length, insert in mutations:

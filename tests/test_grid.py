@@ -11,8 +11,8 @@ from pyproj import CRS, Transformer
 from pyproj.aoi import AreaOfInterest
 from pyproj.database import query_utm_crs_info
 
-from geo.errors import GridError, InputError
-from geo.grid import (
+from lodeline.geo.errors import GridError, InputError
+from lodeline.geo.grid import (
     GridFactors,
     grid_factors,
     grid_unit_m,
@@ -435,7 +435,7 @@ def test_utm_crs_for_agrees_with_pyproj_database():
 def test_utm_crs_for_polar_is_an_error_whose_advice_works():
     import re
 
-    from geo.grid import projected_crs, to_grid
+    from lodeline.geo.grid import projected_crs, to_grid
 
     for lat in (85.0, -80.5):
         with pytest.raises(GridError, match="UTM range") as caught:
@@ -483,7 +483,7 @@ def test_bad_coordinates_are_input_errors():
 
 
 def test_crs_object_accepted_and_cached_per_crs():
-    from geo import grid as grid_module
+    from lodeline.geo import grid as grid_module
 
     a = grid_module._grid("EPSG:32618")
     assert grid_module._grid("EPSG:32618") is a

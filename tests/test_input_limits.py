@@ -15,8 +15,8 @@ from pathlib import Path
 
 import pytest
 
-from geo.errors import DocumentError, ModelFileError, ParseError
-from tui.cli import main
+from lodeline.geo.errors import DocumentError, ModelFileError, ParseError
+from lodeline.tui.cli import main
 
 DEMOS = Path(__file__).parents[1] / "demo_traverses"
 WOODLOT = DEMOS / "greyfen_woodlot_1925.toml"
@@ -61,7 +61,7 @@ def user_dir(tmp_path, monkeypatch):
 
 
 def test_a_model_file_larger_than_the_limit_is_refused_unread(capsys, tmp_path, user_dir):
-    from geo.model_files import MAX_MODEL_BYTES
+    from lodeline.geo.model_files import MAX_MODEL_BYTES
 
     big = tmp_path / "big.shc"
     with big.open("wb") as handle:  # sparse: the size is there, nothing to read
@@ -82,7 +82,7 @@ def test_a_model_file_larger_than_the_limit_is_refused_unread(capsys, tmp_path, 
     ],
 )
 def test_a_cof_coefficient_beyond_the_bound_is_refused_naming_the_line(tmp_path, old, new, said):
-    from geo.model_files import read_cof
+    from lodeline.geo.model_files import read_cof
 
     path = tmp_path / "test.cof"
     path.write_text(COF.replace(old, new, 1))
@@ -92,7 +92,7 @@ def test_a_cof_coefficient_beyond_the_bound_is_refused_naming_the_line(tmp_path,
 
 
 def test_an_shc_coefficient_beyond_the_bound_is_refused_naming_the_line(tmp_path):
-    from geo.model_files import read_shc
+    from lodeline.geo.model_files import read_shc
 
     path = tmp_path / "test.shc"
     path.write_text(HISTORIC_SHC.replace("-2300.0", "2.3e7"))
@@ -102,33 +102,33 @@ def test_an_shc_coefficient_beyond_the_bound_is_refused_naming_the_line(tmp_path
 
 
 def test_the_shipped_models_are_within_the_bounds():
-    from geo.models import load_model, shipped_models
+    from lodeline.geo.models import load_model, shipped_models
 
     for info in shipped_models():
         load_model(info)  # read through the same checks
 
 
 def test_models_listing_reads_only_headers(capsys, tmp_path, user_dir, monkeypatch):
-    import geo.model_files
-    import geo.models
+    import lodeline.geo.model_files
+    import lodeline.geo.models
 
     src = tmp_path / "oldfield.shc"
     src.write_text(HISTORIC_SHC)
     assert run(capsys, "models", "add", src)[0] == 0
-    geo.models._load.cache_clear()
+    lodeline.geo.models._load.cache_clear()
 
     def whole_file_read(*args, **kwargs):
         raise AssertionError("a model file was read whole")
 
-    monkeypatch.setattr(geo.model_files, "read_model_file", whole_file_read)
+    monkeypatch.setattr(lodeline.geo.model_files, "read_model_file", whole_file_read)
     status, out, err = run(capsys, "models")
     assert status == 0, err
     assert "oldfield   1700.0-1900.0  1" in out and "wmmhr2025  2025.0-2030.0  133" in out
 
 
 def test_model_headers_agree_with_the_whole_files():
-    from geo.model_files import read_model_file, read_model_header
-    from geo.models import shipped_models
+    from lodeline.geo.model_files import read_model_file, read_model_header
+    from lodeline.geo.models import shipped_models
 
     for info in shipped_models():
         model = read_model_file(info.path, fmt=info.fmt)
@@ -150,7 +150,7 @@ def test_a_document_that_is_a_fifo_does_not_block(tmp_path):
     fifo = tmp_path / "pipe.toml"
     os.mkfifo(fifo)
     proc = subprocess.run(
-        [sys.executable, "-m", "tui.cli", "convert", str(fifo)],
+        [sys.executable, "-m", "lodeline", "convert", str(fifo)],
         capture_output=True,
         timeout=60,
         text=True,
@@ -159,7 +159,7 @@ def test_a_document_that_is_a_fifo_does_not_block(tmp_path):
 
 
 def test_a_document_larger_than_the_limit_is_refused(capsys, tmp_path):
-    from geo.document import MAX_DOCUMENT_BYTES
+    from lodeline.geo.document import MAX_DOCUMENT_BYTES
 
     doc = tmp_path / "huge.toml"
     with doc.open("wb") as handle:
@@ -172,7 +172,7 @@ def test_a_document_larger_than_the_limit_is_refused(capsys, tmp_path):
 
 
 def test_a_call_longer_than_the_limit_is_refused_at_once():
-    from geo.calls import MAX_CALL_CHARS, parse_call, parse_distance
+    from lodeline.geo.calls import MAX_CALL_CHARS, parse_call, parse_distance
 
     long_call = "N 45 E 20 perches to " + "a white oak, " * 1_000_000
     started = time.monotonic()

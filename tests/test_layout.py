@@ -1,4 +1,4 @@
-"""Systematic cruise layout (geo.layout, lodeline layout), checked by hand and by geometry."""
+"""Systematic cruise layout (lodeline.geo.layout, lodeline layout), checked by hand and by geometry."""
 
 from __future__ import annotations
 
@@ -7,12 +7,12 @@ from pathlib import Path
 
 import pytest
 
-from geo.along import plot_list
-from geo.document import document_from_dict, load_document
-from geo.errors import LodelineError
-from geo.layout import lay_out_cruise
-from geo.north import convert_document
-from tui.cli import main
+from lodeline.geo.along import plot_list
+from lodeline.geo.document import document_from_dict, load_document
+from lodeline.geo.errors import LodelineError
+from lodeline.geo.layout import lay_out_cruise
+from lodeline.geo.north import convert_document
+from lodeline.tui.cli import main
 
 DEMOS = Path(__file__).parents[1] / "demo_traverses"
 

@@ -1,7 +1,7 @@
 """Lines run as a compass runs them, the target model following the record's, and the notes
-of every assumption (geo.north, geo.march, geo.survey's error budget).
+of every assumption (lodeline.geo.north, lodeline.geo.march, lodeline.geo.survey's error budget).
 
-Check values: pyproj's ``Proj.get_factors`` (point scale factor, independent of geo.grid's
+Check values: pyproj's ``Proj.get_factors`` (point scale factor, independent of lodeline.geo.grid's
 use of it for one point at a time), ppigrf (independent IGRF), Simpson's rule for the mean
 scale factor of a line (state plane coordinate manuals), plane-survey formulas (Ghilani &
 Wolf, *Elementary Surveying*).
@@ -15,9 +15,9 @@ import math
 import numpy as np
 import pytest
 
-from geo.document import document_from_dict
-from geo.north import convert_document
-from geo.survey import close_document
+from lodeline.geo.document import document_from_dict
+from lodeline.geo.north import convert_document
+from lodeline.geo.survey import close_document
 
 MAINE = {"lat": 45.2, "lon": -68.9, "height_m": 0.0}  # invented place in Maine (UTM 19)
 ZONE_EDGE = {"lat": 45.0, "lon": -72.05, "height_m": 0.0}  # near the edge of UTM zone 18
@@ -75,12 +75,12 @@ def test_a_long_magnetic_course_is_the_line_of_its_short_pieces(place, date):
 
 
 def test_halving_the_steps_moves_the_end_by_less_than_a_millimetre(monkeypatch):
-    import geo.march
+    import lodeline.geo.march
 
     course = [{"bearing": "N 80 E", "distance": 30000.0}]
     base = convert_document(doc(course), target_date="2026-01-01")
     assert base.courses[0].steps >= 30
-    monkeypatch.setattr(geo.march, "FIRST_STEP_M", 125.0)  # 8 times finer to begin with
+    monkeypatch.setattr(lodeline.geo.march, "FIRST_STEP_M", 125.0)  # 8 times finer to begin with
     fine = convert_document(doc(course), target_date="2026-01-01")
     assert fine.courses[0].steps >= 8 * base.courses[0].steps // 2
     a, b = base.stations[-1], fine.stations[-1]

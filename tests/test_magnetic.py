@@ -9,9 +9,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from geo.errors import InputError
-from geo.magnetic import declination_at, field_at
-from geo.models import load_model
+from lodeline.geo.errors import InputError
+from lodeline.geo.magnetic import declination_at, field_at
+from lodeline.geo.models import load_model
 
 
 @pytest.mark.parametrize(
@@ -157,7 +157,7 @@ def test_points_computed_before_give_the_same_field(model):
     # field_at keeps the components of points it has computed (an editor evaluates the same
     # stations on every keystroke); a batch mixing such points with new ones, in another
     # order, must give what the synthesis gives for every point afresh.
-    from geo.synthesis import synthesize
+    from lodeline.geo.synthesis import synthesize
 
     rng = np.random.default_rng(7)
     lat = rng.uniform(-80, 80, 40)
@@ -182,7 +182,7 @@ def test_points_computed_before_give_the_same_field(model):
 def test_a_model_file_that_changes_is_evaluated_afresh(tmp_path, monkeypatch):
     # The components kept for computed points belong to the loaded model: when an installed
     # model file changes (another size or time), the field comes from the new file.
-    from geo.models import install_model, shipped_models, shipped_path
+    from lodeline.geo.models import install_model, shipped_models, shipped_path
 
     monkeypatch.setenv("LODELINE_DATA", str(tmp_path / "data"))
     igrf = next(m for m in shipped_models() if m.name == "igrf14")
@@ -204,7 +204,7 @@ def test_a_model_file_that_changes_is_evaluated_afresh(tmp_path, monkeypatch):
 
 
 def synthesize_declination(model, lat: float, lon: float, year: float) -> float:
-    from geo.synthesis import synthesize
+    from lodeline.geo.synthesis import synthesize
 
     res = synthesize(model, lat_deg=lat, lon_deg=lon, height_m=0.0, year=year)
     return math.degrees(math.atan2(float(res.east), float(res.north)))

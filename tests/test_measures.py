@@ -1,4 +1,4 @@
-"""Record units beside metres: chains and links, perches, acres-roods-perches (geo.measures)."""
+"""Record units beside metres: chains and links, perches, acres-roods-perches (lodeline.geo.measures)."""
 
 from __future__ import annotations
 
@@ -8,8 +8,8 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from geo.document import document_from_dict
-from geo.measures import (
+from lodeline.geo.document import document_from_dict
+from lodeline.geo.measures import (
     acres_roods_perches,
     area_text,
     in_unit,
@@ -125,7 +125,7 @@ def test_running_distances_are_the_correctly_rounded_prefix_sums():
     import math
     import random
 
-    from geo.measures import _running
+    from lodeline.geo.measures import _running
 
     rng = random.Random(1925)
     for _ in range(100):

@@ -12,10 +12,10 @@ import os
 import numpy as np
 import pytest
 
-import geo.model_cache as model_cache
-import geo.models
-from geo.magnetic import field_at
-from geo.model_files import read_model_file
+import lodeline.geo.model_cache as model_cache
+import lodeline.geo.models
+from lodeline.geo.magnetic import field_at
+from lodeline.geo.model_files import read_model_file
 
 # An invented degree-1 COF model (test data only; not a real field model).
 COF = """    2025.0            TESTCOF              01/01/2025
@@ -30,20 +30,20 @@ COF = """    2025.0            TESTCOF              01/01/2025
 def folders(tmp_path, monkeypatch):
     monkeypatch.setenv("LODELINE_CACHE", str(tmp_path / "cache"))
     monkeypatch.setenv("LODELINE_DATA", str(tmp_path / "data"))
-    geo.models._load.cache_clear()
+    lodeline.geo.models._load.cache_clear()
     yield tmp_path
-    geo.models._load.cache_clear()
+    lodeline.geo.models._load.cache_clear()
 
 
 def _fresh(name: str):
     """The model loaded anew (nothing kept in memory), through the cache folder."""
-    geo.models._load.cache_clear()
-    return geo.models.load_model(name)
+    lodeline.geo.models._load.cache_clear()
+    return lodeline.geo.models.load_model(name)
 
 
 @pytest.mark.parametrize("name", ["igrf14", "wmm2025", "wmmhr2025"])
 def test_cached_model_has_the_bits_of_the_text(folders, name):
-    info = geo.models.find_model(name)
+    info = lodeline.geo.models.find_model(name)
     text = read_model_file(info.path, name=info.name, title=info.title, fmt=info.fmt)
     first = _fresh(name)  # parsed, then written to the cache
     assert list((folders / "cache").glob(f"{name}-*.npz"))
@@ -58,7 +58,7 @@ def test_cached_model_has_the_bits_of_the_text(folders, name):
     lat, lon = rng.uniform(-89, 89, 50), rng.uniform(-180, 180, 50)
     year = rng.uniform(cached.start, cached.end - 1e-3, 50)
     a = field_at(lat=lat, lon=lon, year=year, model=name)
-    geo.models._load.cache_clear()
+    lodeline.geo.models._load.cache_clear()
     os.environ["LODELINE_CACHE"] = str(folders / "elsewhere")  # no cache: parsed again
     b = field_at(lat=lat, lon=lon, year=year, model=name)
     assert a.declination_deg.tobytes() == b.declination_deg.tobytes()
@@ -89,7 +89,7 @@ def test_a_cache_that_does_not_read_is_not_trusted(folders):
     assert _fresh("testcof").coeffs[0, 0, 0] == -29351.8
     assert cached.read_bytes()[:2] == b"PK"  # rewritten whole
     # a cached file under the right name but made from another file's text is not used
-    info = geo.models.find_model("testcof")
+    info = lodeline.geo.models.find_model("testcof")
     other = read_model_file(info.path, name="testcof", fmt="cof")
     other.coeffs[0, 0, 0] = 1.0
     model_cache._write(cached, "another key", other)

@@ -11,8 +11,8 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from geo.errors import ModelFileError
-from geo.model_files import (
+from lodeline.geo.errors import ModelFileError
+from lodeline.geo.model_files import (
     bspline_to_piecewise,
     detect_format,
     read_cof,
@@ -20,8 +20,8 @@ from geo.model_files import (
     read_model_file,
     read_shc,
 )
-from geo.models import shipped_models
-from geo.synthesis import coefficient_index
+from lodeline.geo.models import shipped_models
+from lodeline.geo.synthesis import coefficient_index
 
 DATA_DIR = Path(__file__).parents[1] / "geo" / "data"
 from shared_data import GUFM1  # noqa: E402

@@ -6,9 +6,9 @@ import numpy as np
 import pytest
 from shared_data import GUFM1  # noqa: E402
 
-from geo.errors import InputError, ModelFileError, ModelRangeError
-from geo.magnetic import field_at
-from geo.models import (
+from lodeline.geo.errors import InputError, ModelFileError, ModelRangeError
+from lodeline.geo.magnetic import field_at
+from lodeline.geo.models import (
     data_dir,
     find_model,
     install_model,

@@ -10,9 +10,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from geo.document import document_from_dict, load_document
-from geo.errors import DocumentError, ModelRangeError
-from geo.north import convert_document
+from lodeline.geo.document import document_from_dict, load_document
+from lodeline.geo.errors import DocumentError, ModelRangeError
+from lodeline.geo.north import convert_document
 
 DEMOS = sorted((Path(__file__).parents[1] / "demo_traverses").glob("*.toml"))
 REFERENCES = ("magnetic", "true", "grid")
@@ -70,7 +70,7 @@ def test_worked_conversion_magnetic_1925_to_2024_against_ppigrf():
 def test_target_model_wmm2025_against_pygeomag():
     # WMM2025 at the target date against pygeomag's own WMM2025 coefficients (test only).
     pygeomag = pytest.importorskip("pygeomag")
-    from geo.models import available_models  # noqa: F401  (the model must be registered)
+    from lodeline.geo.models import available_models  # noqa: F401  (the model must be registered)
 
     lat, lon, h = 44.5, -72.2, 300.0
     doc = doc_with([{"bearing": "N 30 E", "distance": 100}])
@@ -92,7 +92,7 @@ def test_declination_and_convergence_are_taken_at_each_course_start():
     courses = [{"bearing": az, "distance": 30000} for az in ("N 60 E", "S 70 E", "N 20 E")]
     doc = doc_with(courses)
     conv = convert_document(doc, target_date="2020-01-01")
-    from geo.grid import grid_factors
+    from lodeline.geo.grid import grid_factors
 
     gammas = []
     for c, start in zip(conv.courses, conv.stations[:-1], strict=True):
@@ -277,7 +277,7 @@ def test_found_positions_in_both_forms():
     f1, f2, f3 = (c.found for c in conv.courses)
     assert f3 is None
     assert (f1.lat, f1.lon) == (44.5009, -72.2)
-    from geo.grid import to_grid
+    from lodeline.geo.grid import to_grid
 
     e, n = to_grid(conv.crs, lat=44.5009, lon=-72.2)
     assert f1.easting == pytest.approx(float(e)) and f1.northing == pytest.approx(float(n))
@@ -285,16 +285,16 @@ def test_found_positions_in_both_forms():
 
 
 def test_field_is_evaluated_once_per_pass_for_all_stations(monkeypatch):
-    import geo.magnetic
+    import lodeline.geo.magnetic
 
     calls = []
-    real = geo.magnetic.field_at
+    real = lodeline.geo.magnetic.field_at
 
     def counting(**kw):
         calls.append(np.size(kw["lat"]))
         return real(**kw)
 
-    monkeypatch.setattr(geo.magnetic, "field_at", counting)
+    monkeypatch.setattr(lodeline.geo.magnetic, "field_at", counting)
     courses = [{"bearing": "N 10 E", "distance": 100}] * 50
     convert_document(doc_with(courses), target_date="2024-01-01")
     # a first pass at the point of beginning and its two probes (three points at both dates),
@@ -305,7 +305,7 @@ def test_field_is_evaluated_once_per_pass_for_all_stations(monkeypatch):
 
 @pytest.mark.parametrize("reference", ["magnetic", "true", "grid"])
 def test_stations_are_a_fixed_point_of_the_march(reference):
-    # The stations must be where the march puts them (the definition in geo.march): each
+    # The stations must be where the march puts them (the definition in lodeline.geo.march): each
     # step of a magnetic or true course runs along recorded + mean D - mean gamma of its two
     # nodes for its ground length times the mean combined factor (trapezoidal rule); a grid
     # course is straight with Simpson's mean factor (k1 + 4 km + k2) / 6 (state plane
@@ -313,8 +313,8 @@ def test_stations_are_a_fixed_point_of_the_march(reference):
     # at the reported nodes, re-march with them: no station may move by more than 1 mm.
     from pyproj import Transformer
 
-    from geo.grid import grid_factors
-    from geo.magnetic import field_at
+    from lodeline.geo.grid import grid_factors
+    from lodeline.geo.magnetic import field_at
 
     courses = [{"bearing": f"N {10 + 7 * (i % 11)} E", "distance": 400} for i in range(40)]
     doc = doc_with(courses, reference=reference, place={"lat": 64.5, "lon": -147.7})

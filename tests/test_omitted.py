@@ -15,10 +15,10 @@ import pytest
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
-from geo.document import document_from_dict, document_problems, parse_courses
-from geo.errors import DocumentError
-from geo.north import convert_document
-from geo.survey import close_document
+from lodeline.geo.document import document_from_dict, document_problems, parse_courses
+from lodeline.geo.errors import DocumentError
+from lodeline.geo.north import convert_document
+from lodeline.geo.survey import close_document
 
 PERCH = 16.5 * 1200 / 3937  # metres, US survey foot (exact definition)
 
@@ -179,8 +179,8 @@ def test_blanked_parts_come_back(azimuths, lengths, case, data):
 )
 def test_reader_fuzz_refuses_with_one_document_error(before, after):
     # any text with a "?" either reads or is refused as a DocumentError naming the course
-    from geo.document import Course
-    from geo.omitted import read_omitted
+    from lodeline.geo.document import Course
+    from lodeline.geo.omitted import read_omitted
 
     text = f"{before}?{after}"
     ctx = {"default_unit": "perch", "foot": "us", "vara_inches": None}

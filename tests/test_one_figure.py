@@ -16,7 +16,7 @@ from pathlib import Path
 import pytest
 from pyproj import Geod, Transformer
 
-from tui.cli import main
+from lodeline.tui.cli import main
 
 DEMOS = sorted((Path(__file__).parents[1] / "demo_traverses").glob("*.toml"))
 CLOSED_DEMOS = [d for d in DEMOS if "closed = true" in d.read_text(encoding="utf-8")]
@@ -210,7 +210,7 @@ def _walked_gap(lat, lon, year, side_m, step_m):
     """The square walked independently: pyproj geodesic steps, each along the true azimuth
     magnetic + D with D from the field model at the step's middle (the line a compass runs);
     returns the gap between the end and the beginning (metres, on the ellipsoid)."""
-    from geo.magnetic import field_at
+    from lodeline.geo.magnetic import field_at
 
     lon0, lat0 = lon, lat
     for mag in (10.0, 100.0, 190.0, 280.0):  # N 10 E, S 80 E, S 10 W, N 80 W
@@ -226,9 +226,9 @@ def _walked_gap(lat, lon, year, side_m, step_m):
 @pytest.mark.reference
 @pytest.mark.parametrize(("which", "step"), [(0, 20.0), (1, 4.0)], ids=["utm_edge", "arctic"])
 def test_the_misclosure_is_that_of_the_square_walked_by_compass(which, step, tmp_path, capsys):
-    # Independent of geo.north, geo.march and geo.grid: pyproj's geodesics and the field
+    # Independent of lodeline.geo.north, lodeline.geo.march and lodeline.geo.grid: pyproj's geodesics and the field
     # model's D (itself checked against ppigrf in test_north). Height 0: ground = ellipsoid.
-    from geo.dates import decimal_year
+    from lodeline.geo.dates import decimal_year
 
     path = _docs(tmp_path)[which]
     lat, lon = (44.5, -72.0) if which == 0 else (68.6, 19.0)

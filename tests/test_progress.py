@@ -6,7 +6,7 @@ import io
 
 from rich.console import Console
 
-from tui.progress import Progress
+from lodeline.tui.progress import Progress
 
 
 def test_silent_when_stderr_is_not_a_terminal(capsys) -> None:

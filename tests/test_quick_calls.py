@@ -1,10 +1,10 @@
 """The quick reader of the common call forms gives exactly what the general reader gives.
 
-Reference: the general call reader of :mod:`geo.calls` (``_read_call``), whose every form is
+Reference: the general call reader of :mod:`lodeline.geo.calls` (``_read_call``), whose every form is
 checked against handbook unit definitions and deed practice in tests/test_calls.py and
 tests/test_call_reading.py. Here every generated text, in and around the common forms
 (``N 45 30 E 20 perches to a stake``, ``S 10° W 10 chains 50 links``), must give the same
-:class:`~geo.calls.Call` (or the same error) through :func:`geo.calls.parse_call`, whichever
+:class:`~lodeline.geo.calls.Call` (or the same error) through :func:`lodeline.geo.calls.parse_call`, whichever
 reader takes it.
 """
 
@@ -13,8 +13,8 @@ from __future__ import annotations
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from geo.calls import _quick_call, _read_call, parse_call
-from geo.errors import LodelineError
+from lodeline.geo.calls import _quick_call, _read_call, parse_call
+from lodeline.geo.errors import LodelineError
 from tests.fuzz import examples
 
 CONTEXTS = (

@@ -9,14 +9,14 @@ from pathlib import Path
 
 import pytest
 
-from geo.bearings import recorded_bearing
-from geo.document import document_from_dict, load_document, loads_document
-from geo.errors import DocumentError
-from geo.export import geojson_collection
-from geo.north import convert_document
-from geo.report import build_report
-from geo.units import resolve_vara_inches
-from tui.cli import main
+from lodeline.geo.bearings import recorded_bearing
+from lodeline.geo.document import document_from_dict, load_document, loads_document
+from lodeline.geo.errors import DocumentError
+from lodeline.geo.export import geojson_collection
+from lodeline.geo.north import convert_document
+from lodeline.geo.report import build_report
+from lodeline.geo.units import resolve_vara_inches
+from lodeline.tui.cli import main
 
 DEMOS = Path(__file__).resolve().parents[1] / "demo_traverses"
 TARGET = "2026-05-01"
@@ -123,7 +123,7 @@ def test_record_vara_inches_takes_names_and_fractions_exactly(value, inches):
             "course": [{"call": "N 45 E 100 varas"}],
         }
     )
-    from geo.document import parse_courses
+    from lodeline.geo.document import parse_courses
 
     (course,) = parse_courses(doc)
     assert course.length_m == pytest.approx(float(100 * inches / 12 * Fraction(1200, 3937)))

@@ -15,11 +15,11 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from geo.bearings import format_declination
-from geo.cautions import CAUTIONS
-from geo.document import load_document
-from geo.north import convert_document
-from geo.report import (
+from lodeline.geo.bearings import format_declination
+from lodeline.geo.cautions import CAUTIONS
+from lodeline.geo.document import load_document
+from lodeline.geo.north import convert_document
+from lodeline.geo.report import (
     BODY_WIDTH_MM,
     build_report,
     collect_report,
@@ -27,8 +27,8 @@ from geo.report import (
     render_html,
     render_markdown,
 )
-from geo.survey import close_document, fit_document
-from tui.cli import main
+from lodeline.geo.survey import close_document, fit_document
+from lodeline.tui.cli import main
 
 DEMOS = sorted((Path(__file__).parents[1] / "demo_traverses").glob("*.toml"))
 TARGET = "2026-06-01"

@@ -11,16 +11,16 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from pyproj import Proj, Transformer
 
-from geo.document import document_from_dict, load_document
-from geo.north import convert_document
-from geo.retrace import (
+from lodeline.geo.document import document_from_dict, load_document
+from lodeline.geo.north import convert_document
+from lodeline.geo.retrace import (
     found_gaps,
     proportion_run,
     restore_corners,
     restore_document,
     rotate_scale_run,
 )
-from geo.survey import close_document
+from lodeline.geo.survey import close_document
 
 DEMOS = Path(__file__).resolve().parent.parent / "demo_traverses"
 CRS = "EPSG:32617"
@@ -43,7 +43,7 @@ def _doc(courses, *, closed=False, place=None, unit="chain"):
 
 
 def _k(easting: float, northing: float) -> float:
-    """Point scale factor of UTM 17N from pyproj's own factors (independent of geo.grid)."""
+    """Point scale factor of UTM 17N from pyproj's own factors (independent of lodeline.geo.grid)."""
     lon, lat = Transformer.from_crs(CRS, "EPSG:4326", always_xy=True).transform(easting, northing)
     return Proj(CRS).get_factors(lon, lat).meridional_scale
 
@@ -190,7 +190,7 @@ def test_document_rotate_scale_keeps_the_record_shape():
 
 def test_open_line_closes_on_its_found_end():
     # Grid record of three courses from a point placed by grid coordinates; the end point is
-    # computed here with pyproj's point scale factor (independent of geo.north's march), and
+    # computed here with pyproj's point scale factor (independent of lodeline.geo.north's march), and
     # the found end put 0.30 m west and 0.40 m north of it: a gap of 0.50 m.
     calls = [("N 10 E", 40), ("S 80 E", 10), ("S 10 W", 30)]
     e, n = E0, N0
@@ -280,7 +280,7 @@ def test_no_found_corner_every_corner_is_record_only():
 
 def test_unknown_method_is_refused():
     conv, _, _ = _straight_line_document()
-    from geo.errors import InputError
+    from lodeline.geo.errors import InputError
 
     with pytest.raises(InputError, match="proportion or rotate-scale"):
         restore_corners(conv, method="shift")  # type: ignore[arg-type]

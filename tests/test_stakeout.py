@@ -13,10 +13,10 @@ import numpy as np
 import pytest
 from pyproj import Geod
 
-from geo.document import load_document
-from geo.north import convert_document
-from geo.retrace import restore_document
-from geo.stakeout import COLUMNS, stakeout_list
+from lodeline.geo.document import load_document
+from lodeline.geo.north import convert_document
+from lodeline.geo.retrace import restore_document
+from lodeline.geo.stakeout import COLUMNS, stakeout_list
 
 DEMOS = Path(__file__).resolve().parent.parent / "demo_traverses"
 WGS84 = Geod(ellps="WGS84")

@@ -1,4 +1,4 @@
-"""Document-level closure and record-to-found fit (geo.survey)."""
+"""Document-level closure and record-to-found fit (lodeline.geo.survey)."""
 
 from __future__ import annotations
 
@@ -10,10 +10,10 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from pyproj import Geod, Transformer
 
-from geo.document import document_from_dict
-from geo.errors import DocumentError, FitError, InputError, TraverseError
-from geo.north import convert_document
-from geo.survey import close_document, fit_document, found_count, record_figure
+from lodeline.geo.document import document_from_dict
+from lodeline.geo.errors import DocumentError, FitError, InputError, TraverseError
+from lodeline.geo.north import convert_document
+from lodeline.geo.survey import close_document, fit_document, found_count, record_figure
 
 TARGET = "2026-01-01"
 PLACE = {"lat": 40.4312, "lon": -77.6034, "height_m": 300.0}
@@ -427,7 +427,7 @@ def fit_doc(found_lats, found_lons, *, stated="2 30 E", date="1790-04-01", which
 
 
 def pyproj_convergence(lat, lon):
-    """gamma by finite differences of the projection (independent of geo.grid): the grid
+    """gamma by finite differences of the projection (independent of lodeline.geo.grid): the grid
     azimuth of true north is -gamma (DESIGN.md sign convention)."""
     t = Transformer.from_crs("EPSG:4326", CRS, always_xy=True)
     e1, n1 = t.transform(lon, lat - 1e-5)
@@ -461,7 +461,7 @@ def test_fit_and_magnetic_closure_need_no_declination_at_the_record_date():
     """Regression: a magnetic record of 1790 with neither a stated declination nor a model
     covering the date made every command fail, the fit included, which is the tool for
     exactly that case. Found corners walked with pyproj's Geod (independent of geo.*)."""
-    from geo.errors import ModelRangeError
+    from lodeline.geo.errors import ModelRangeError
 
     lat0, lon0 = PLACE["lat"], PLACE["lon"]
     lats, lons = found_by_geodesic(lat0, lon0, -1.4, 1.003, PLACE["height_m"])

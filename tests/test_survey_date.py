@@ -14,13 +14,13 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from shared_data import GUFM1
 
-from geo.document import document_from_dict
-from geo.errors import InputError
-from geo.field_history import declination_history, history_years
-from geo.fit import fit_similarity
-from geo.north import convert_document
-from geo.survey import fit_document
-from geo.survey_date import estimate_survey_date
+from lodeline.geo.document import document_from_dict
+from lodeline.geo.errors import InputError
+from lodeline.geo.field_history import declination_history, history_years
+from lodeline.geo.fit import fit_similarity
+from lodeline.geo.north import convert_document
+from lodeline.geo.survey import fit_document
+from lodeline.geo.survey_date import estimate_survey_date
 
 LAT, LON = 52.0, 10.0  # central Europe: D rose through +2.5 deg about 2015 at ~10' a year
 
@@ -45,7 +45,7 @@ def _ppigrf_d(lat: float, lon: float, year: float) -> float:
 def test_history_against_ppigrf_in_one_synthesis_call():
     years = history_years(1900, 2029, 1)
     assert years.size == 130
-    from geo import magnetic
+    from lodeline.geo import magnetic
 
     with mock.patch.object(magnetic, "field_at", wraps=magnetic.field_at) as spy:
         hist = declination_history(lat=LAT, lon=LON, years=years)
@@ -70,7 +70,7 @@ def test_history_marks_uncovered_dates_and_refuses_bad_spans():
 @pytest.mark.slow
 @pytest.mark.skipif(not GUFM1.exists(), reason=f"{GUFM1} (gufm1 authors' file) is not present")
 def test_history_before_1900_comes_from_gufm1_once_installed():
-    from geo.models import install_model
+    from lodeline.geo.models import install_model
 
     install_model(GUFM1, name="gufm1")
     hist = declination_history(lat=LAT, lon=LON, years=history_years(1750, 2029, 1))
@@ -198,7 +198,7 @@ def test_rotation_sigma_matches_the_scatter_of_repeated_fits(noise, seed):
 
 def test_cli_history_csv_and_errors(tmp_path):
     out = tmp_path / "d.csv"
-    run = [sys.executable, "-m", "tui.cli", "field", "--lat", "52", "--lon", "10"]
+    run = [sys.executable, "-m", "lodeline", "field", "--lat", "52", "--lon", "10"]
     ok = subprocess.run(
         [*run, "--from", "2000", "--to", "2010", "--csv", str(out)], text=True, capture_output=True
     )

@@ -16,9 +16,9 @@ import numpy as np
 import pytest
 from shared_data import DATA  # noqa: E402
 
-from geo.magnetic import field_at
-from geo.models import load_model
-from geo.synthesis import SphericalHarmonicModel, geodetic_to_geocentric, synthesize
+from lodeline.geo.magnetic import field_at
+from lodeline.geo.models import load_model
+from lodeline.geo.synthesis import SphericalHarmonicModel, geodetic_to_geocentric, synthesize
 
 GUFM1 = DATA / "gufm1.txt"
 
@@ -171,7 +171,7 @@ def test_gufm1_against_chaosmagpy():
     from chaosmagpy import coordinate_utils as cu
     from chaosmagpy import data_utils as du
 
-    from geo.model_files import read_gufm
+    from lodeline.geo.model_files import read_gufm
 
     model = read_gufm(GUFM1, name="gufm1")
     ref = cp.load_gufm1_txtfile(str(GUFM1))
@@ -267,8 +267,8 @@ def test_table_of_every_order_gives_the_same_bits_as_one_order_at_a_time(model_n
     # Small chunks build the Legendre tables of every order in one pass of the recursion;
     # larger ones build one order at a time. Both take the same operations in the same order,
     # so the field must be identical to the last bit, for points at several dates.
-    import geo.synthesis as gs
-    from geo.models import load_model
+    import lodeline.geo.synthesis as gs
+    from lodeline.geo.models import load_model
 
     model = load_model(model_name)
     rng = np.random.default_rng(3)
@@ -289,7 +289,7 @@ def test_a_place_at_several_dates_is_the_field_at_each_date():
     # segment and one of the next, so places are shared and sorted by segment) shares the
     # time polynomials of a place within a segment; the result must be what each date gives
     # on its own.
-    from geo.models import load_model
+    from lodeline.geo.models import load_model
 
     rng = np.random.default_rng(11)
     lat = rng.uniform(-85, 85, 30)

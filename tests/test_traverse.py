@@ -9,9 +9,9 @@ import pytest
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
-from geo.angles import angle_difference
-from geo.errors import InputError, TraverseError
-from geo.traverse import (
+from lodeline.geo.angles import angle_difference
+from lodeline.geo.errors import InputError, TraverseError
+from lodeline.geo.traverse import (
     SelfCrossingError,
     adjust,
     adjust_interior_angles,
@@ -586,8 +586,8 @@ def test_a_figure_that_closes_up_to_rounding_closes_exactly():
     rounding instead of closing exactly (precision None)."""
     import math as _m
 
-    from geo.traverse import closure as _closure
-    from geo.traverse import latitudes_departures as _ld
+    from lodeline.geo.traverse import closure as _closure
+    from lodeline.geo.traverse import latitudes_departures as _ld
 
     lat, dep = _ld(np.array([10.0, 130.0]), np.array([101.7, 87.3]))
     n, e = -float(lat.sum()), -float(dep.sum())
@@ -612,7 +612,7 @@ def test_running_sums_meet_the_sum2_error_bound(values):
     # exact sum computed in rational arithmetic (Python's fractions).
     from fractions import Fraction
 
-    from geo.traverse import _cumsum
+    from lodeline.geo.traverse import _cumsum
 
     eps = 2.0**-53
     sums = _cumsum(np.array(values))

@@ -3,7 +3,7 @@
 ``reference_crossing`` is the plain scan every geometry text describes (each edge against every
 later non-adjacent edge, orientation signs for a proper crossing, a collinear end point inside
 the other edge's box for a touch; common practice), written here without any pre-filter. The
-sweep in geo.traverse must report the same first pair, with the same touching and collinear
+sweep in lodeline.geo.traverse must report the same first pair, with the same touching and collinear
 rules, on random figures, on figures drawn on a small integer grid (where touches, shared
 vertices and overlaps are frequent and exact) and on traverses with repeated bearings.
 """
@@ -14,7 +14,7 @@ import numpy as np
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from geo.traverse import _find_crossing, march
+from lodeline.geo.traverse import _find_crossing, march
 
 
 def _orient(ax, ay, bx, by, cx, cy):

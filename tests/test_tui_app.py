@@ -4,7 +4,7 @@ Type a call and see the bearings change, undo, save, reopen and compare the file
 do not read are kept and marked; the quit question; the recovery offer after a crash; file
 prompts that never overwrite silently; the layout at 80x24.
 
-Expected bearings are those of ``geo.bearings.format_bearing`` for the azimuth typed: the
+Expected bearings are those of ``lodeline.geo.bearings.format_bearing`` for the azimuth typed: the
 record here is in true bearings, so the true column repeats the call (common practice: a
 record in true bearings needs no declination).
 """
@@ -17,14 +17,14 @@ from pathlib import Path
 
 import pytest
 
-from geo.document import document_to_dict, load_document
-from tui.app import LodelineApp, load_workspace
-from tui.dialogs.choice import ChoiceDialog
-from tui.dialogs.file_prompt import FileNamePrompt
-from tui.screens.key_guide import KeyGuide
-from tui.widgets.call_table import CallEditor, CallTable
-from tui.widgets.findings import wrap_lines
-from tui.workspace import read_recovery, write_recovery
+from lodeline.geo.document import document_to_dict, load_document
+from lodeline.tui.app import LodelineApp, load_workspace
+from lodeline.tui.dialogs.choice import ChoiceDialog
+from lodeline.tui.dialogs.file_prompt import FileNamePrompt
+from lodeline.tui.screens.key_guide import KeyGuide
+from lodeline.tui.widgets.call_table import CallEditor, CallTable
+from lodeline.tui.widgets.findings import wrap_lines
+from lodeline.tui.workspace import read_recovery, write_recovery
 
 DOC = """\
 format_version = 1
@@ -200,7 +200,7 @@ async def test_course_the_schema_refuses_waits_like_a_call_that_does_not_read(do
 def test_every_refused_or_unread_course_is_marked_and_counted(doc_path: Path):
     # Courses 2 and 4 both wrong (one refused by the schema, one that does not read, in
     # either order): both are marked and counted, course 1 still converts.
-    from tui.results import compute_results
+    from lodeline.tui.results import compute_results
 
     ws = load_workspace(doc_path)
     for second, fourth in (
@@ -362,7 +362,7 @@ async def test_save_as_refuses_other_suffixes_and_asks_before_replacing(doc_path
 
 @sync
 async def test_key_guide_lists_every_key_and_the_cautions(doc_path: Path):
-    from geo.cautions import CAUTIONS
+    from lodeline.geo.cautions import CAUTIONS
 
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
@@ -556,7 +556,7 @@ async def test_a_document_the_schema_refuses_opens_to_be_put_right(doc_path: Pat
 
 
 def test_a_file_that_is_not_a_traverse_document_still_refuses_to_open(tmp_path: Path):
-    from geo.errors import DocumentError
+    from lodeline.geo.errors import DocumentError
 
     for name, text in (
         ("other.toml", "format_version = 3\n"),

@@ -8,7 +8,7 @@ import functools
 
 import pytest
 
-from tui.app import LodelineApp, load_workspace
+from lodeline.tui.app import LodelineApp, load_workspace
 
 DOC = """\
 format_version = 1
@@ -75,7 +75,7 @@ async def test_desk_opens_a_document_with_a_date_outside_the_calendar(tmp_path, 
 async def test_a_large_export_runs_off_the_main_thread_and_quit_answers(tmp_path):
     import time
 
-    from geo.along import MAX_ALONG_POINTS
+    from lodeline.geo.along import MAX_ALONG_POINTS
 
     path = tmp_path / "long.toml"
     path.write_text(

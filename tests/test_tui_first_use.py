@@ -15,13 +15,13 @@ from pathlib import Path
 
 import pytest
 
-from geo.document import document_from_dict
-from geo.errors import DocumentError
-from tui.app import LodelineApp, load_workspace
-from tui.dialogs.choice import ChoiceDialog
-from tui.widgets.call_table import CallEditor, CallTable
-from tui.widgets.job_form import JobForm
-from tui.workspace import SETTING_LABELS, Workspace, recovery_path, write_recovery
+from lodeline.geo.document import document_from_dict
+from lodeline.geo.errors import DocumentError
+from lodeline.tui.app import LodelineApp, load_workspace
+from lodeline.tui.dialogs.choice import ChoiceDialog
+from lodeline.tui.widgets.call_table import CallEditor, CallTable
+from lodeline.tui.widgets.job_form import JobForm
+from lodeline.tui.workspace import SETTING_LABELS, Workspace, recovery_path, write_recovery
 
 SQUARE = """\
 format_version = 1
@@ -96,7 +96,7 @@ def keyboard_text(app) -> str:
 def test_a_magnetic_record_without_date_or_declination_raises_a_document_error():
     # The conversion used to fail with a TypeError deep in the march; it is a document
     # problem naming the key to fill in.
-    from geo.north import convert_document
+    from lodeline.geo.north import convert_document
 
     doc = document_from_dict(
         {
@@ -155,7 +155,7 @@ async def test_every_setting_half_typed_in_any_order_is_shown_never_raised():
 
 @sync
 async def test_an_unforeseen_failure_is_shown_and_logged_and_editing_goes_on(square, monkeypatch):
-    import tui.results as results_module
+    import lodeline.tui.results as results_module
 
     def broken(doc):
         raise RuntimeError("a failure nobody foresaw")
@@ -198,7 +198,7 @@ async def test_a_recovery_file_that_cannot_be_restored_is_offered_to_be_kept_asi
 
 @sync
 async def test_a_recovery_whose_findings_fail_unforeseen_is_not_replayed(square, monkeypatch):
-    import tui.results as results_module
+    import lodeline.tui.results as results_module
 
     crashed = load_workspace(square)
     crashed.set_course_field(0, "call", "N 12 E 10 chains")
@@ -224,7 +224,7 @@ async def test_a_recovery_whose_findings_fail_unforeseen_is_not_replayed(square,
 def test_the_exit_status_after_a_crash_is_not_zero(square, monkeypatch, capsys):
     import argparse
 
-    from tui.commands import open as open_command
+    from lodeline.tui.commands import open as open_command
 
     def crashing_run(self):
         self.workspace.set_course_field(0, "call", "N 11 E 10 chains")
@@ -403,7 +403,7 @@ async def test_an_empty_document_draws_no_plot_frame():
 def test_the_north_arrows_stand_apart_beside_the_figure():
     import numpy as np
 
-    from tui.widgets.sketch import NORTH_COLUMNS, NorthMark, SketchFigure, TraverseSketch
+    from lodeline.tui.widgets.sketch import NORTH_COLUMNS, NorthMark, SketchFigure, TraverseSketch
 
     async def check() -> None:
         from textual.app import App
@@ -571,9 +571,9 @@ KEYS = st.one_of(
 )
 @given(keys=st.lists(KEYS, min_size=1, max_size=40))
 def test_random_keys_leave_the_desk_running_and_the_document_whole(keys, tmp_path_factory):
-    from geo.document import document_to_dict, load_document, save_document
-    from geo.errors import LodelineError
-    from tui.workspace import read_recovery, saveable_document
+    from lodeline.geo.document import document_to_dict, load_document, save_document
+    from lodeline.geo.errors import LodelineError
+    from lodeline.tui.workspace import read_recovery, saveable_document
 
     folder = tmp_path_factory.mktemp("keys")
 
@@ -613,8 +613,8 @@ def test_random_keys_leave_the_desk_running_and_the_document_whole(keys, tmp_pat
 
 @sync
 async def test_a_new_document_from_the_start_screen_types_saves_and_reopens(tmp_path):
-    from geo.document import document_to_dict, load_document
-    from tui.screens.start import StartScreen
+    from lodeline.geo.document import document_to_dict, load_document
+    from lodeline.tui.screens.start import StartScreen
 
     app = LodelineApp(Workspace(), start=True)
     async with app.run_test(size=(120, 40)) as pilot:
@@ -657,7 +657,7 @@ async def test_a_new_document_from_the_start_screen_types_saves_and_reopens(tmp_
 
 @sync
 async def test_the_start_screen_opens_a_file_of_the_folder_and_a_demo(square):
-    from tui.screens.start import StartScreen, demo_files
+    from lodeline.tui.screens.start import StartScreen, demo_files
 
     assert {p.name for p in demo_files()} >= {"brindlecombe_farm_1854.toml"}
     app = LodelineApp(Workspace(), start=True)
@@ -693,7 +693,7 @@ async def test_escape_on_the_start_screen_gives_an_empty_desk():
 async def test_a_new_document_restored_from_the_start_screen_is_shown_on_the_desk():
     # `lodeline` with no document opens the start screen and offers a kept new document;
     # restoring it once left the start screen in front of the restored calls.
-    from tui.screens.desk import Desk
+    from lodeline.tui.screens.desk import Desk
 
     kept = Workspace()
     kept.set_course_field(0, "call", "N 12 E 6 chains to a larch")
@@ -714,7 +714,7 @@ async def test_a_new_document_restored_from_the_start_screen_is_shown_on_the_des
 async def test_the_key_guide_fits_one_screen_at_120x40(square):
     from textual.containers import VerticalScroll
 
-    from tui.screens.key_guide import KeyGuide
+    from lodeline.tui.screens.key_guide import KeyGuide
 
     app = LodelineApp(load_workspace(square))
     async with app.run_test(size=(120, 40)) as pilot:
@@ -728,7 +728,7 @@ async def test_the_key_guide_fits_one_screen_at_120x40(square):
 
 
 def test_the_guide_columns_are_about_equal_and_keep_the_order():
-    from tui.screens.key_guide import split_in_two
+    from lodeline.tui.screens.key_guide import split_in_two
 
     assert split_in_two([13, 9, 9, 4]) == ([0, 3], [1, 2])
     assert split_in_two([1]) == ([0], [])
@@ -736,7 +736,7 @@ def test_the_guide_columns_are_about_equal_and_keep_the_order():
 
 @sync
 async def test_the_key_guide_is_by_task(square):
-    from tui.screens.key_guide import KeyGuide
+    from lodeline.tui.screens.key_guide import KeyGuide
 
     app = LodelineApp(load_workspace(square))
     async with app.run_test(size=(100, 40)) as pilot:

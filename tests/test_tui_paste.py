@@ -6,9 +6,9 @@ from pathlib import Path
 
 from textual import events
 
+from lodeline.tui.app import LodelineApp, load_workspace
+from lodeline.tui.widgets.call_table import CallEditor, looks_like_description
 from tests.test_tui_app import DOC, _settle, sync
-from tui.app import LodelineApp, load_workspace
-from tui.widgets.call_table import CallEditor, looks_like_description
 
 DEED = (
     "Beginning at a hickory on the west side of the branch, thence S 14 W 36 poles to a "

@@ -8,9 +8,9 @@ from pathlib import Path
 
 import pytest
 
-from tui.app import LodelineApp, load_workspace
-from tui.dialogs.retrace_sheet import RetraceSheet
-from tui.widgets.declination_plot import DeclinationPlot
+from lodeline.tui.app import LodelineApp, load_workspace
+from lodeline.tui.dialogs.retrace_sheet import RetraceSheet
+from lodeline.tui.widgets.declination_plot import DeclinationPlot
 
 DEMO = Path(__file__).parents[1] / "demo_traverses" / "wrenfield_glebe_1911.toml"
 

@@ -9,9 +9,9 @@ from pathlib import Path
 import pytest
 from textual.widgets import Static
 
-from tui.app import LodelineApp, load_workspace
-from tui.dialogs.file_prompt import FileNamePrompt
-from tui.screens.sheets import DescriptionSheet, PlotSheet
+from lodeline.tui.app import LodelineApp, load_workspace
+from lodeline.tui.dialogs.file_prompt import FileNamePrompt
+from lodeline.tui.screens.sheets import DescriptionSheet, PlotSheet
 
 # A square of 10 chains in true bearings: 100 square chains = 10 acres = 10 a 0 r 0 p
 # (1 acre = 10 square chains = 4 roods = 160 square perches; NIST Handbook 44, App. C).
@@ -112,8 +112,8 @@ async def test_plot_sheet_lists_plots_and_events(tmp_path: Path):
 
 @sync
 async def test_layout_key_writes_the_cruise_lines(tmp_path: Path):
-    from geo.document import load_document
-    from tui.dialogs.layout_form import LayoutForm
+    from lodeline.geo.document import load_document
+    from lodeline.tui.dialogs.layout_form import LayoutForm
 
     path = tmp_path / "square.toml"
     path.write_text(DOC, encoding="utf-8")

@@ -10,7 +10,7 @@ from pathlib import Path
 
 import pytest
 
-from tui.app import LodelineApp, load_workspace
+from lodeline.tui.app import LodelineApp, load_workspace
 
 DEMO = Path(__file__).parents[1] / "demo_traverses" / "brindlecombe_farm_1854.toml"
 
@@ -78,7 +78,7 @@ def test_desk_side_by_side_200x50_with_the_job_form(snap_compare, farm):
 
 
 def test_start_screen_80x24(snap_compare, farm):
-    from tui.workspace import Workspace
+    from lodeline.tui.workspace import Workspace
 
     assert snap_compare(
         LodelineApp(Workspace(), start=True), terminal_size=(80, 24), run_before=_ready

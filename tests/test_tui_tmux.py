@@ -13,7 +13,7 @@ from pathlib import Path
 import pytest
 from tmux_terminal import alive, console_script, needs_tmux, pane, start, tmux, wait_for
 
-from geo.document import load_document
+from lodeline.geo.document import load_document
 
 pytestmark = [pytest.mark.tmux, pytest.mark.slow]
 

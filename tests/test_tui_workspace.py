@@ -9,8 +9,8 @@ from pathlib import Path
 
 import pytest
 
-from tui.app import parse_found
-from tui.workspace import (
+from lodeline.tui.app import parse_found
+from lodeline.tui.workspace import (
     Workspace,
     discard_recovery,
     is_blank_course,
@@ -142,8 +142,8 @@ def test_found_positions_read_or_kept(text, expected):
 def test_call_text_of_parts_reads_as_in_the_commands():
     """Regression: the desk joined a course's parts by itself and showed an interior-angle
     course of the 1887 demo as "1547 vara" (angle lost) while every command showed
-    "angle 98 16, 1547 vara"; both now come from geo.document.course_call_text."""
-    from tui.workspace import course_call_text
+    "angle 98 16, 1547 vara"; both now come from lodeline.geo.document.course_call_text."""
+    from lodeline.tui.workspace import course_call_text
 
     assert course_call_text({"angle": "98 16", "distance": 1547.0, "unit": "vara"}) == (
         "angle 98 16, 1547 vara"
@@ -155,9 +155,9 @@ def test_editing_the_call_of_a_course_given_by_parts_keeps_its_meaning():
     # The desk shows a course given by angle and distance as its call ("angle 98 16, 1547
     # vara"); writing that call replaces the parts and the course reads the same. The first
     # course (bearing, distance and the angle at the point of beginning) keeps its angle.
-    from geo.document import document_from_dict, parse_courses
-    from tui.app import load_workspace
-    from tui.workspace import course_call_text
+    from lodeline.geo.document import document_from_dict, parse_courses
+    from lodeline.tui.app import load_workspace
+    from lodeline.tui.workspace import course_call_text
 
     demo = Path(__file__).parents[1] / "demo_traverses" / "piedra_lisa_survey_1887.toml"
     ws = load_workspace(demo)
@@ -175,7 +175,7 @@ def test_editing_the_call_of_a_course_given_by_parts_keeps_its_meaning():
 
 
 def test_each_new_document_has_its_own_recovery_entry():
-    from tui.workspace import untitled_recoveries
+    from lodeline.tui.workspace import untitled_recoveries
 
     first, second = Workspace(), Workspace()
     first.set_course_field(0, "call", "N 1 E 1 chain")
@@ -191,7 +191,7 @@ def test_a_new_document_another_running_session_keeps_is_not_offered():
     import subprocess
     import sys
 
-    from tui.workspace import untitled_recoveries
+    from lodeline.tui.workspace import untitled_recoveries
 
     ws = Workspace()
     ws.set_course_field(0, "call", "N 1 E 1 chain")
@@ -213,7 +213,7 @@ def test_keeper_writes_while_changes_keep_coming_and_a_discard_holds():
     import json
     import time
 
-    from tui.workspace import RECOVERY_INTERVAL_S, RecoveryKeeper
+    from lodeline.tui.workspace import RECOVERY_INTERVAL_S, RecoveryKeeper
 
     ws = Workspace()
     keeper = RecoveryKeeper(ws)

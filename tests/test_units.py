@@ -26,8 +26,8 @@ from fractions import Fraction
 
 import pytest
 
-from geo.errors import InputError, ParseError
-from geo.units import (
+from lodeline.geo.errors import InputError, ParseError
+from lodeline.geo.units import (
     FOOT_METRES,
     NAMED_VARAS,
     UNIT_ALIASES,

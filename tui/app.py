@@ -21,14 +21,15 @@ from textual.app import App, SystemCommand
 from textual.binding import Binding
 from textual.screen import Screen
 
-from geo.errors import DocumentError, LodelineError
-from tui.dialogs.choice import ChoiceDialog
-from tui.dialogs.file_prompt import FileNamePrompt
-from tui.screens.desk import Desk
-from tui.screens.key_guide import KeyGuide
-from tui.widgets.call_table import CallTable
-from tui.widgets.sketch import TraverseSketch
-from tui.workspace import (
+from lodeline.geo.errors import DocumentError, LodelineError
+
+from .dialogs.choice import ChoiceDialog
+from .dialogs.file_prompt import FileNamePrompt
+from .screens.desk import Desk
+from .screens.key_guide import KeyGuide
+from .widgets.call_table import CallTable
+from .widgets.sketch import TraverseSketch
+from .workspace import (
     RecoveryKeeper,
     Workspace,
     new_document,
@@ -56,7 +57,7 @@ def load_workspace(path: Path | None) -> Workspace:
     is not a traverse document at all (not TOML or JSON, another format_version, no table of
     courses), before any screen opens.
     """
-    from geo.document import document_to_dict, load_document
+    from lodeline.geo.document import document_to_dict, load_document
 
     if path is None:
         return Workspace(doc=new_document())
@@ -78,7 +79,7 @@ def _as_written(path: Path) -> dict[str, Any] | None:
     """The data of a TOML or JSON file that has the shape of a traverse document of a
     format_version this version reads (tables where the document has tables, a list of
     course tables), with dates as text, or ``None``."""
-    from geo.document import load_mapping, plain_values
+    from lodeline.geo.document import load_mapping, plain_values
 
     try:
         data = load_mapping(path)
@@ -93,13 +94,13 @@ def restore_problem(doc: Any) -> str | None:
     """Why the document of a recovery file cannot be restored into the desk, or ``None``:
     it must have a document's shape, and computing its findings must not fail unforeseen
     (a problem of the document itself is shown as usual, not refused here)."""
-    from tui.results import compute_results, compute_safely
+    from .results import compute_results, compute_safely
 
     if not _has_document_shape(doc):
         return "it does not hold a traverse document of a format_version this version reads"
     _results, ok = compute_safely(lambda: compute_results(doc), doc)
     if not ok:
-        from tui.results import error_log_path
+        from .results import error_log_path
 
         return f"computing it fails unforeseen (details in {error_log_path()})"
     return None
@@ -108,7 +109,7 @@ def restore_problem(doc: Any) -> str | None:
 def _has_document_shape(data: Any) -> bool:
     """Tables where the document has tables, a list of course tables, a format_version this
     version reads."""
-    from geo.document import READABLE_VERSIONS
+    from lodeline.geo.document import READABLE_VERSIONS
 
     if not isinstance(data, dict) or data.get("format_version") not in READABLE_VERSIONS:
         return False
@@ -265,7 +266,7 @@ class LodelineApp(App[int]):
     def on_mount(self) -> None:
         self.push_screen(Desk())
         if self.start:
-            from tui.screens.start import StartScreen
+            from .screens.start import StartScreen
 
             self.push_screen(StartScreen())
         self.call_after_refresh(self._offer_recovery)
@@ -349,7 +350,7 @@ class LodelineApp(App[int]):
 
     def _leave_start_screen(self) -> None:
         """Close the start screen if it is open (a restored document is shown on the desk)."""
-        from tui.screens.start import StartScreen
+        from .screens.start import StartScreen
 
         for screen in list(self.screen_stack):
             if isinstance(screen, StartScreen):
@@ -597,14 +598,14 @@ class LodelineApp(App[int]):
 
     def action_sheet(self, name: str) -> None:
         """Show the new description or the plot list and events (tui.screens.sheets)."""
-        from tui.screens.sheets import DescriptionSheet, PlotSheet
+        from .screens.sheets import DescriptionSheet, PlotSheet
 
         self.push_screen(DescriptionSheet() if name == "description" else PlotSheet())
 
     def action_layout(self) -> None:
         """Ask for a cruise layout's options and file, and write the layout document."""
-        from tui import outputs
-        from tui.dialogs.layout_form import LayoutForm
+        from . import outputs
+        from .dialogs.layout_form import LayoutForm
 
         ws = self.workspace
         stem = ws.path.with_suffix("") if ws.path else Path("boundary")
@@ -657,7 +658,7 @@ class LodelineApp(App[int]):
 
     def save_to(self, path: Path) -> bool:
         """Write the document to ``path`` atomically (previous file kept as .bak)."""
-        from geo.document import document_from_dict, save_document
+        from lodeline.geo.document import document_from_dict, save_document
 
         ws = self.workspace
         try:
@@ -711,7 +712,7 @@ class LodelineApp(App[int]):
 
     def action_export(self, kind: str) -> None:
         """Ask for a file name and write the GeoJSON, CSV or report there."""
-        from tui import outputs
+        from . import outputs
 
         spec = outputs.OUTPUTS[kind]
         ws = self.workspace
@@ -741,7 +742,7 @@ class LodelineApp(App[int]):
         self, kind: str, doc: dict[str, Any], path: Path, file: Path | None, replace: bool
     ) -> None:
         """Write one output (in a worker thread) and say how it went."""
-        from tui import outputs
+        from . import outputs
 
         title = outputs.OUTPUTS[kind].title
         try:
@@ -756,7 +757,7 @@ class LodelineApp(App[int]):
 
     def action_found_from(self) -> None:
         """Set found corners from a point file (see :mod:`tui.found_from`)."""
-        from tui.found_from import found_from_file
+        from .found_from import found_from_file
 
         found_from_file(self)
 

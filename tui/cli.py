@@ -14,7 +14,7 @@ import sys
 from collections.abc import Sequence
 from typing import NoReturn
 
-from geo import __version__
+from lodeline.geo import __version__
 
 #: Subcommands, in the order ``--help`` lists them: (name, module under tui.commands).
 SUBCOMMANDS: list[tuple[str, str]] = [
@@ -59,13 +59,13 @@ def build_parser(only: str | None = None) -> argparse.ArgumentParser:
     for name, module in SUBCOMMANDS:
         if only is not None and name != only:
             continue
-        importlib.import_module(f"tui.commands.{module}").register(subparsers)
+        importlib.import_module(f".commands.{module}", __package__).register(subparsers)
     return parser
 
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Entry point of the ``lodeline`` console script; returns the exit status."""
-    from geo.errors import LodelineError
+    from lodeline.geo.errors import LodelineError
 
     args_list = list(sys.argv[1:] if argv is None else argv)
     if not args_list and any(name == "open" for name, _ in SUBCOMMANDS):
@@ -76,7 +76,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     if not getattr(args, "func", None):
         parser.print_help()
         return 2
-    from tui.commands.common import StandardOutput
+    from .commands.common import StandardOutput
 
     stdout = sys.stdout = StandardOutput(sys.stdout)
     try:

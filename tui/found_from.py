@@ -10,8 +10,8 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
-from tui.dialogs.choice import ChoiceDialog
-from tui.dialogs.file_prompt import FileNamePrompt
+from .dialogs.choice import ChoiceDialog
+from .dialogs.file_prompt import FileNamePrompt
 
 #: Point files the prompt accepts.
 POINT_SUFFIXES = (".csv", ".gpx", ".geojson", ".json", ".txt")
@@ -21,11 +21,12 @@ WITHIN_M = 5.0
 
 def _plan(app: Any, path: Path, rule: str) -> Any:
     """The :class:`geo.found_import.FoundPlan` of ``path`` for the workspace's document."""
-    from geo.document import document_from_dict
-    from geo.found_import import plan_found
-    from geo.north import convert_document
-    from geo.point_files import read_points
-    from tui.workspace import saveable_document
+    from lodeline.geo.document import document_from_dict
+    from lodeline.geo.found_import import plan_found
+    from lodeline.geo.north import convert_document
+    from lodeline.geo.point_files import read_points
+
+    from .workspace import saveable_document
 
     ws = app.workspace
     name = ws.path.name if ws.path else None
@@ -36,8 +37,9 @@ def _plan(app: Any, path: Path, rule: str) -> Any:
 
 
 def _offer(app: Any, path: Path, plan: Any) -> None:
-    from geo.found_import import with_found
-    from tui.commands.found import report_lines
+    from lodeline.geo.found_import import with_found
+
+    from .commands.found import report_lines
 
     text = "\n".join(report_lines(plan, wrote=True))
     if not plan.matched:
@@ -64,7 +66,7 @@ def _offer(app: Any, path: Path, plan: Any) -> None:
 
 def found_from_file(app: Any) -> None:
     """Ask for a point file, then the matching rule; show and offer the matches."""
-    from geo.errors import LodelineError
+    from lodeline.geo.errors import LodelineError
 
     def ruled(path: Path, rule: str | None) -> None:
         if rule not in ("name", "nearest"):

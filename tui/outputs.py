@@ -27,7 +27,7 @@ OUTPUTS: dict[str, OutputSpec] = {
 def companions(kind: str, path: Path) -> list[Path]:
     """Every file output ``kind`` writes for the name ``path`` (the CSV writes two)."""
     if kind == "csv":
-        from geo.export import courses_csv_path, csv_path_beside
+        from lodeline.geo.export import courses_csv_path, csv_path_beside
 
         beside = [csv_path_beside(path, t) for t in ("plots", "events")]
         return [path, courses_csv_path(path), *(p for p in beside if p.exists())]
@@ -36,9 +36,10 @@ def companions(kind: str, path: Path) -> list[Path]:
 
 def converted(data: Mapping[str, Any], file: Path | None = None) -> Any:
     """The conversion of document ``data`` (every call must read). Raises LodelineError."""
-    from geo.document import document_from_dict
-    from geo.north import convert_document
-    from tui.workspace import saveable_document
+    from lodeline.geo.document import document_from_dict
+    from lodeline.geo.north import convert_document
+
+    from .workspace import saveable_document
 
     name = file.name if file else None
     return convert_document(document_from_dict(saveable_document(data), file=name), file=name)
@@ -59,26 +60,27 @@ def write_output(
     of a document with a call that does not read is refused with that call's error.
     Raises :class:`geo.errors.LodelineError`.
     """
-    from geo.document import document_from_dict
-    from geo.north import convert_document
-    from tui.workspace import saveable_document
+    from lodeline.geo.document import document_from_dict
+    from lodeline.geo.north import convert_document
+
+    from .workspace import saveable_document
 
     name = file.name if file else None
     doc = document_from_dict(saveable_document(data), file=name)
     if kind == "report":
-        from geo.atomic import write_all
-        from geo.report import build_report
+        from lodeline.geo.atomic import write_all
+        from lodeline.geo.report import build_report
 
         fmt = "markdown" if path.suffix.lower() == ".md" else "html"
         text = build_report(doc, fmt=fmt, file=name)
         return write_all([(path, text)], overwrite=replace, inputs=(file,) if file else ())
-    from geo.export import write_exports
+    from lodeline.geo.export import write_exports
 
     conv = convert_document(doc, file=name)
     inputs = (file,) if file else ()  # the document itself is never replaced by an output
     if kind == "description":
-        from geo.atomic import write_all
-        from geo.deed_text import write_description
+        from lodeline.geo.atomic import write_all
+        from lodeline.geo.deed_text import write_description
 
         text = write_description(conv).text
         return write_all([(path, text)], overwrite=replace, inputs=inputs)
@@ -98,9 +100,9 @@ def write_layout(
     """Write the cruise layout across document ``data`` (a closed boundary) to ``path`` with
     the options of :class:`tui.dialogs.layout_form.LayoutForm` (see geo.layout). Raises
     :class:`geo.errors.LodelineError`."""
-    from geo.atomic import write_atomic
-    from geo.document import dumps_document
-    from geo.layout import lay_out_cruise
+    from lodeline.geo.atomic import write_atomic
+    from lodeline.geo.document import dumps_document
+    from lodeline.geo.layout import lay_out_cruise
 
     lines = lay_out_cruise(
         converted(data, file),

@@ -21,10 +21,11 @@ from typing import Any
 
 import numpy as np
 
-from geo.errors import DocumentError, LodelineError, ModelRangeError
-from tui.widgets.call_table import CallRow
-from tui.widgets.sketch import NorthMark, SketchFigure
-from tui.workspace import course_call_text, distance_unit_of, is_blank_course
+from lodeline.geo.errors import DocumentError, LodelineError, ModelRangeError
+
+from .widgets.call_table import CallRow
+from .widgets.sketch import NorthMark, SketchFigure
+from .workspace import course_call_text, distance_unit_of, is_blank_course
 
 MARK_BAD = "✗"
 MARK_CAUTION = "!"
@@ -89,7 +90,7 @@ def _length_text(value: float, unit: str) -> str:
 
 
 def _deg(value: float | None, precision: float = 1.0 / 60.0) -> str:
-    from geo.bearings import format_declination
+    from lodeline.geo.bearings import format_declination
 
     if value is None or not math.isfinite(value):
         return "—"
@@ -148,7 +149,7 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
     """The first stage: check the document, convert every course (one vectorised
     :func:`geo.north.convert_document`), and the field, grid and sketch. The closure panels
     say they are being computed; :func:`closure_stage` fills them."""
-    from geo.document import document_from_dict, document_problems
+    from lodeline.geo.document import document_from_dict, document_problems
 
     file = path.name if path else None
     raw = list(data.get("course") or [])
@@ -199,7 +200,7 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
         break
     # Every course that reads is converted, those after a course that does not read too
     # (placed as if it were absent); the closure and the sketch wait for every course.
-    from geo.north import convert_document
+    from lodeline.geo.north import convert_document
 
     try:
         # the common case: everything reads, and the conversion parses every course itself
@@ -322,7 +323,7 @@ def closure_stage(results: Results) -> Results:
 
 
 def _crs_hint(doc: Any) -> str:
-    from geo.grid import utm_crs_for
+    from lodeline.geo.grid import utm_crs_for
 
     place = doc.place
     if place.lat is None:
@@ -375,7 +376,7 @@ def _field_panel_cached(conv: Any) -> PanelText:
 
 def _field_panel(conv: Any) -> PanelText:
     """The field at the point of beginning at both dates (geo.magnetic.field_at)."""
-    from geo.magnetic import field_at
+    from lodeline.geo.magnetic import field_at
 
     pob = conv.stations[0]
     doc = conv.document
@@ -450,7 +451,7 @@ def _grid_text(crs: str, gamma: float, k: float, elevation: float) -> PanelText:
 
 def _grid_lines(crs: str, lat: float, lon: float, height_m: float) -> PanelText:
     """Grid convergence and factors at one place (geo.grid.grid_factors)."""
-    from geo.grid import grid_factors
+    from lodeline.geo.grid import grid_factors
 
     f = grid_factors(crs, lat=lat, lon=lon, height_m=height_m)
     return _grid_text(
@@ -461,7 +462,7 @@ def _grid_lines(crs: str, lat: float, lon: float, height_m: float) -> PanelText:
 def _place_grid_panel(data: Mapping[str, Any]) -> PanelText:
     """The grid at the place of a document whose record stops the conversion: empty when the
     place itself is not yet given as numbers (the document check names what is missing)."""
-    from geo.grid import to_geographic, utm_crs_for
+    from lodeline.geo.grid import to_geographic, utm_crs_for
 
     place = data.get("place") if isinstance(data.get("place"), Mapping) else {}
     grid = data.get("grid") if isinstance(data.get("grid"), Mapping) else {}
@@ -491,7 +492,7 @@ def _unknown_declination(conv: Any) -> bool:
 def _closure(conv: Any) -> Any:
     """The closure of the converted document (geo.survey.close_document), in true north, or
     in magnetic north of the record date when the declination then is not known."""
-    from geo.survey import close_document
+    from lodeline.geo.survey import close_document
 
     return close_document(conv, north="magnetic" if _unknown_declination(conv) else "true")
 
@@ -499,7 +500,7 @@ def _closure(conv: Any) -> Any:
 def _closure_panel(closure: Any, conv: Any = None) -> PanelText:
     """Misclosure, precision and area from the closure; with the conversion, the lengths in
     the record unit too and the area in acres, roods and perches for a perch or chain deed."""
-    from geo.measures import acres_roods_perches, conversion_unit, length_text, uses_roods
+    from lodeline.geo.measures import acres_roods_perches, conversion_unit, length_text, uses_roods
 
     ru = None if conv is None else conversion_unit(conv)
 
@@ -546,7 +547,7 @@ def _closure_panel(closure: Any, conv: Any = None) -> PanelText:
 def _attraction_panel(closure: Any, stated_tolerance: float | None = None) -> PanelText:
     """Fore and back bearings compared at each station, from the closure, in plain words.
     ``stated_tolerance``: the document's record.attraction_tolerance (degrees), if given."""
-    from geo.bearings import format_declination
+    from lodeline.geo.bearings import format_declination
 
     la = closure.attraction
     if la is None:
@@ -584,7 +585,7 @@ def _attraction_panel(closure: Any, stated_tolerance: float | None = None) -> Pa
 
 def _fit_panel(conv: Any) -> PanelText:
     """The record-to-found fit (geo.survey.fit_document)."""
-    from geo.survey import fit_document, found_count
+    from lodeline.geo.survey import fit_document, found_count
 
     found = found_count(conv)
     if found < 2:
@@ -601,7 +602,7 @@ def _fit_panel(conv: Any) -> PanelText:
         lines.append(f"model D {_deg(fit.model_declination_deg)} ({fit.model})")
     if fit.record_length_factor is not None:
         lines.append(f"record length factor {fit.record_length_factor:.5f}")
-    from tui.retrace_view import survey_date_line
+    from .retrace_view import survey_date_line
 
     when = survey_date_line(conv, fit)
     if when:
@@ -630,7 +631,7 @@ def _sketch(conv: Any, upto: int | None = None) -> tuple[SketchFigure | None, st
     if not courses:
         return None, "no courses yet: the sketch follows the first call"
     if _unknown_declination(conv):
-        from geo.traverse import march
+        from lodeline.geo.traverse import march
 
         st = march([c.recorded.azimuth_deg for c in courses], [c.length_m for c in courses])
         when = _when(conv.record_date, conv.record_year)
@@ -670,7 +671,7 @@ def _sketch(conv: Any, upto: int | None = None) -> tuple[SketchFigure | None, st
 def error_log_path() -> Path:
     """The file unforeseen failures of the desk are written to: ``errors.log`` beside the
     recovery folder (``$LODELINE_STATE/errors.log``, else the user's state folder)."""
-    from tui.workspace import recovery_dir
+    from .workspace import recovery_dir
 
     return recovery_dir().parent / "errors.log"
 

@@ -9,7 +9,7 @@ from typing import Any
 
 import numpy as np
 
-from geo.errors import LodelineError
+from lodeline.geo.errors import LodelineError
 
 
 @dataclass
@@ -29,7 +29,7 @@ class RetraceView:
 
 def survey_date_line(conv: Any, fit: Any) -> str | None:
     """``needle matches the field of 1906–1912 (igrf14)`` for a magnetic record's fit."""
-    from geo.survey_date import estimate_survey_date
+    from lodeline.geo.survey_date import estimate_survey_date
 
     if fit is None or fit.empirical_declination_deg is None:
         return None
@@ -39,12 +39,12 @@ def survey_date_line(conv: Any, fit: Any) -> str | None:
 
 def build_view(conv: Any, *, method: str = "proportion", origin: str = "nearest") -> RetraceView:
     """Everything the sheet shows for a converted document (errors become text lines)."""
-    from geo.field_history import declination_history, history_years
-    from geo.models import available_models, load_model
-    from geo.retrace import restore_corners
-    from geo.stakeout import stakeout_list
-    from geo.survey import fit_document, found_count
-    from geo.survey_date import estimate_survey_date
+    from lodeline.geo.field_history import declination_history, history_years
+    from lodeline.geo.models import available_models, load_model
+    from lodeline.geo.retrace import restore_corners
+    from lodeline.geo.stakeout import stakeout_list
+    from lodeline.geo.survey import fit_document, found_count
+    from lodeline.geo.survey_date import estimate_survey_date
 
     view = RetraceView(record_year=conv.record_year, target_year=conv.target_year)
     fit = None

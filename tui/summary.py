@@ -129,7 +129,7 @@ def summary_row(path: str, *, adjust: str | None = None, north: str = "true") ->
     Never raises for a document that does not read or close: the one-line error goes to
     ``problems`` (an unexpected failure too, as ``internal error: …``).
     """
-    from geo.magnetic import forget_computed_points
+    from lodeline.geo.magnetic import forget_computed_points
 
     forget_computed_points()  # the same bits as `lodeline close` of this document alone
     try:
@@ -139,15 +139,15 @@ def summary_row(path: str, *, adjust: str | None = None, north: str = "true") ->
 
 
 def _internal(err: BaseException) -> str:
-    from geo.errors import clip
+    from lodeline.geo.errors import clip
 
     return f"internal error: {type(err).__name__}: {clip(err, 300)}"
 
 
 def _row(path: str, *, adjust: str | None, north: str) -> SummaryRow:
-    from geo.document import load_document
-    from geo.errors import LodelineError
-    from geo.north import convert_document
+    from lodeline.geo.document import load_document
+    from lodeline.geo.errors import LodelineError
+    from lodeline.geo.north import convert_document
 
     row = SummaryRow(path)
     try:
@@ -188,8 +188,8 @@ def _conversion_values(row: SummaryRow, conv: object) -> None:
 
 
 def _closure_values(row: SummaryRow, conv: object, *, adjust: str | None, north: str) -> None:
-    from geo.errors import LodelineError
-    from geo.survey import close_document
+    from lodeline.geo.errors import LodelineError
+    from lodeline.geo.survey import close_document
 
     try:
         closure = close_document(conv, adjust=adjust, north=north)  # type: ignore[arg-type]
@@ -214,8 +214,8 @@ def _closure_values(row: SummaryRow, conv: object, *, adjust: str | None, north:
 
 
 def _fit_values(row: SummaryRow, conv: object) -> None:
-    from geo.errors import LodelineError
-    from geo.survey import fit_document, found_count
+    from lodeline.geo.errors import LodelineError
+    from lodeline.geo.survey import fit_document, found_count
 
     from .commands.fit import survey_date_of
 
@@ -276,9 +276,9 @@ def summarise(
     from concurrent.futures import ProcessPoolExecutor, as_completed
 
     # the engine imported once here: workers forked from this process start with it
-    import geo.document
-    import geo.north
-    import geo.survey  # noqa: F401
+    import lodeline.geo.document
+    import lodeline.geo.north
+    import lodeline.geo.survey  # noqa: F401
 
     done: dict[int, list[SummaryRow]] = {}
     pool = ProcessPoolExecutor(max_workers=min(jobs, len(chunks)), initializer=_quiet_worker)
@@ -295,6 +295,6 @@ def summarise(
 
 def summary_csv(rows: Iterable[SummaryRow]) -> str:
     """The summary as RFC 4180 CSV text (the export's CSV writer: CRLF, floats by repr)."""
-    from geo.export import csv_table
+    from lodeline.geo.export import csv_table
 
     return csv_table(COLUMNS, [r.cells() for r in rows])

@@ -25,8 +25,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from geo.atomic import write_atomic
-from geo.document import VERSION_2_KEYS
+from lodeline.geo.atomic import write_atomic
+from lodeline.geo.document import VERSION_2_KEYS
 
 #: The keys of a course the application edits, in the order the editor offers them.
 COURSE_FIELDS = ("call", "back", "found", "every", "note")
@@ -113,8 +113,8 @@ def course_call_text(course: Mapping[str, Any], default_unit: str | None = None)
         return str(course["call"])
     from pydantic import ValidationError
 
-    from geo.document import Course
-    from geo.document import course_call_text as document_call_text
+    from lodeline.geo.document import Course
+    from lodeline.geo.document import course_call_text as document_call_text
 
     try:
         return document_call_text(Course.model_validate(dict(course)), default_unit)
@@ -140,9 +140,9 @@ def read_pasted(text: str, doc: Mapping[str, Any]) -> tuple[list[str], dict[str,
     vara: ``(calls, settings, summary)`` where ``settings`` are the dotted keys it states
     (point of beginning, area, variation, date) and ``summary`` one line for the editor.
     Raises the reader's :class:`geo.errors.ParseError` (course named, unread words marked)."""
-    from geo.description import read_description, read_form, stated_facts
-    from geo.errors import LodelineError
-    from geo.units import choose_foot
+    from lodeline.geo.description import read_description, read_form, stated_facts
+    from lodeline.geo.errors import LodelineError
+    from lodeline.geo.units import choose_foot
 
     record = doc.get("record") or {}
     date = record.get("date") or stated_facts(text).get("date")

@@ -2,7 +2,7 @@
 
 Run: ``python tests/bench/bench_batch.py [--documents 10000] [--jobs 2] [--old CHECKOUT]``
 (not collected by pytest). In a temporary folder it generates, then times as whole processes
-(``python -m tui.cli …``, imports and model loading included):
+(``python -m lodeline …``, imports and model loading included):
 
 - ``close DIR --summary OUT.csv --jobs N`` on ``--documents`` invented deeds of ``--courses``
   courses each (goal: 10,000 documents of 10 courses in under 60 s on two cores), and beside
@@ -29,7 +29,6 @@ import tempfile
 import time
 from pathlib import Path
 
-ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 from bench_document import make_document  # noqa: E402
@@ -85,11 +84,16 @@ def make_deeds(folder: Path, documents: int, courses: int, seed: int = 1925) -> 
     return starts
 
 
-def _timed(args: list[str], checkout: Path, cwd: Path) -> float:
-    env = dict(os.environ, PYTHONPATH=str(checkout))
+def _timed(args: list[str], checkout: Path | None, cwd: Path) -> float:
+    """Seconds of one whole command: the installed ``lodeline`` (``checkout`` None), or an
+    earlier checkout from before the install name, run from its folders (``-m tui.cli``)."""
+    if checkout is None:
+        env, module = dict(os.environ), "lodeline"
+    else:
+        env, module = dict(os.environ, PYTHONPATH=str(checkout)), "tui.cli"
     t0 = time.perf_counter()
     done = subprocess.run(
-        [sys.executable, "-m", "tui.cli", *args],
+        [sys.executable, "-m", module, *args],
         cwd=cwd,
         env=env,
         stdout=subprocess.DEVNULL,
@@ -141,7 +145,7 @@ def main() -> int:
             starts = make_deeds(folder, args.documents, args.courses)
             new = _timed(
                 ["close", str(folder), "--summary", str(work / "s.csv"), "--jobs", str(args.jobs)],
-                ROOT,
+                None,
                 work,
             )
             ref = _ppigrf_time(starts)
@@ -167,7 +171,7 @@ def main() -> int:
             ),
         )
         for label, command, goal in runs:
-            new = _timed(command, ROOT, work)
+            new = _timed(command, None, work)
             old = _timed(command, args.old, work) if args.old else None
             print(_line(label, new, old, goal))
     return 0

@@ -1,7 +1,7 @@
 """Speed of reading a whole legal description: 200 courses (budget 1 s).
 
 Run: ``python tests/bench/bench_description.py [--repeat 7] [--courses 200]`` (not collected
-by pytest). Prints the median time of :func:`geo.description.read_description` on a
+by pytest). Prints the median time of :func:`lodeline.geo.description.read_description` on a
 generated description (invented: "Beginning at ..., thence N 12 1/2 E 14 perches to a post;
 thence ..." in the styles of the test corpus: quadrant bearings in degrees and minutes or
 words, perches, chains and links, monument phrases, a stated area and variation) against the
@@ -16,14 +16,10 @@ import argparse
 import random
 import re
 import statistics
-import sys
 import time
 import tomllib
-from pathlib import Path
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
-
-from geo.description import read_description  # noqa: E402
+from lodeline.geo.description import read_description  # noqa: E402
 
 BUDGET_S = 1.0
 _FORMS = (

@@ -3,17 +3,17 @@
 Run: ``python tests/bench/bench_document.py [--repeat 5]`` (not collected by pytest). Prints, for
 each size, the time of
 
-- ``load``: :func:`geo.document.load_document` of the file (TOML, schema, every call parsed),
+- ``load``: :func:`lodeline.geo.document.load_document` of the file (TOML, schema, every call parsed),
   with the parsed-course cache and the field engine's memory of computed points emptied
   first (opening a document);
-- ``convert``: :func:`geo.north.convert_document` right after the load (the courses are then
+- ``convert``: :func:`lodeline.geo.north.convert_document` right after the load (the courses are then
   cached, as in the terminal application after a keystroke);
-- ``close``: :func:`geo.survey.close_document` of that conversion;
+- ``close``: :func:`lodeline.geo.survey.close_document` of that conversion;
 
 with the budgets of the terminal application as ratios (open = load + convert + close of 5,000
 courses in 2 s; recompute = convert + close of 200 courses after a keystroke in 50 ms; the
 redraw that follows is measured by bench_tui.py). For comparison, the same process times pyproj alone doing exactly
-the projection work the conversion asked of :mod:`geo.grid` (the same number of forward and
+the projection work the conversion asked of :mod:`lodeline.geo.grid` (the same number of forward and
 inverse transforms and ``get_factors`` calls, on the same points) and prints the ratio: how
 many times that irreducible projection work the whole conversion takes.
 
@@ -26,22 +26,19 @@ from __future__ import annotations
 import argparse
 import random
 import statistics
-import sys
 import tempfile
 import time
 from pathlib import Path
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
-
 import numpy as np  # noqa: E402
 from pyproj import CRS, Proj, Transformer  # noqa: E402
 
-from geo import document as _document  # noqa: E402
-from geo import grid as _grid  # noqa: E402
-from geo.document import load_document  # noqa: E402
-from geo.models import load_model  # noqa: E402
-from geo.north import convert_document  # noqa: E402
-from geo.survey import close_document  # noqa: E402
+from lodeline.geo import document as _document  # noqa: E402
+from lodeline.geo import grid as _grid  # noqa: E402
+from lodeline.geo.document import load_document  # noqa: E402
+from lodeline.geo.models import load_model  # noqa: E402
+from lodeline.geo.north import convert_document  # noqa: E402
+from lodeline.geo.survey import close_document  # noqa: E402
 
 TARGET_DATE = "2025-06-01"
 
@@ -87,7 +84,7 @@ def _once(path: Path) -> tuple[float, float, float, object]:
 
 
 def _grid_work(doc) -> list[tuple[str, str, np.ndarray, np.ndarray]]:
-    """Record the geo.grid calls one conversion makes: (kind, crs, first, second) arrays."""
+    """Record the lodeline.geo.grid calls one conversion makes: (kind, crs, first, second) arrays."""
     calls: list[tuple[str, str, np.ndarray, np.ndarray]] = []
     originals = (_grid.grid_factors, _grid.to_grid, _grid.to_geographic)
 
@@ -129,7 +126,7 @@ def _pyproj_time(calls: list[tuple[str, str, np.ndarray, np.ndarray]], repeat: i
         t0 = time.perf_counter()
         for kind, crs, a, b in calls:
             fwd, inv, base, proj = built[crs]
-            if kind == "factors":  # geo.grid evaluates the factors on the CRS's own datum
+            if kind == "factors":  # lodeline.geo.grid evaluates the factors on the CRS's own datum
                 blon, blat = base.transform(b, a)
                 proj.get_factors(blon, blat)
             elif kind == "forward":

@@ -34,8 +34,6 @@ import time
 import warnings
 from pathlib import Path
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
-
 
 def _timeit(fn, repeat: int = 1) -> float:
     best = float("inf")
@@ -66,7 +64,7 @@ def _write_points(path: Path, lat, lon, height, dates, repeat: int = 1) -> None:
 def _command(*argv: str, env: dict | None = None) -> float:
     import subprocess
 
-    code = "import sys; from tui.cli import main; sys.exit(main(sys.argv[1:]))"
+    code = "import sys; from lodeline.tui.cli import main; sys.exit(main(sys.argv[1:]))"
     t0 = time.perf_counter()
     subprocess.run(
         [sys.executable, "-c", code, *argv], check=True, env=env, stdout=subprocess.DEVNULL
@@ -135,7 +133,7 @@ def bench_command(n: int, rows: int, quick: bool) -> None:
         "subprocess.run(sys.argv[1:], check=True, stdout=subprocess.DEVNULL); "
         "print(time.perf_counter() - t, resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss)"
     )
-    code = "import sys; from tui.cli import main; sys.exit(main(sys.argv[1:]))"
+    code = "import sys; from lodeline.tui.cli import main; sys.exit(main(sys.argv[1:]))"
     argv = [sys.executable, "-c", code, "field", "--csv", str(big), "--out", out, "--force"]
     done = subprocess.run(
         [sys.executable, "-c", probe, *argv], check=True, env=env, capture_output=True, text=True
@@ -184,8 +182,8 @@ def main() -> int:
             os.environ[var] = str(args.blas_threads)
     import numpy as np
 
-    from geo.models import load_model
-    from geo.synthesis import synthesize
+    from lodeline.geo.models import load_model
+    from lodeline.geo.synthesis import synthesize
 
     n = args.points
     if args.only == "command":

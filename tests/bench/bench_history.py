@@ -2,8 +2,8 @@
 
 Run:  python tests/bench/bench_history.py [--repeat 5]
 
-lodeline evaluates every date in one call of geo.magnetic.field_at
-(geo.field_history.declination_history); ppigrf, the reference, is given the same dates as
+lodeline evaluates every date in one call of lodeline.geo.magnetic.field_at
+(lodeline.geo.field_history.declination_history); ppigrf, the reference, is given the same dates as
 one array of datetimes at the same place. The survey-date estimate samples every installed
 model's interval every 0.1 year (IGRF-14: 1,300 dates), first without and then with the
 histories kept from an earlier call (what the desk's fit panel sees on each keystroke).
@@ -15,11 +15,7 @@ from __future__ import annotations
 import argparse
 import datetime as dt
 import statistics
-import sys
 import time
-from pathlib import Path
-
-sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 
 import numpy as np  # noqa: E402
 
@@ -39,8 +35,8 @@ def main() -> None:
     args = ap.parse_args()
     import ppigrf
 
-    from geo import field_history
-    from geo.field_history import declination_history, model_histories
+    from lodeline.geo import field_history
+    from lodeline.geo.field_history import declination_history, model_histories
 
     lat, lon = 38.62, -80.91
     years = np.linspace(1901.0, 2029.0, 300)

@@ -30,12 +30,10 @@ import tempfile
 import time
 from pathlib import Path
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
-
-from geo.bearings import format_bearing  # noqa: E402
-from tui.app import LodelineApp, load_workspace  # noqa: E402
-from tui.results import compute_results  # noqa: E402
-from tui.screens.desk import Desk  # noqa: E402
+from lodeline.geo.bearings import format_bearing  # noqa: E402
+from lodeline.tui.app import LodelineApp, load_workspace  # noqa: E402
+from lodeline.tui.results import compute_results  # noqa: E402
+from lodeline.tui.screens.desk import Desk  # noqa: E402
 
 SIZE = (160, 45)
 

@@ -94,7 +94,7 @@ def render(result: Any, title: str | None = None, conv: Any = None) -> str:
     """The human-readable closure of a :class:`geo.survey.SurveyClosure`; with the conversion
     ``conv``, lengths are given in the record unit beside metres, the area in acres, roods and
     perches for a perch or chain document, and the plot list and events follow."""
-    from geo.measures import area_text, conversion_unit, length_text
+    from lodeline.geo.measures import area_text, conversion_unit, length_text
 
     from .common import text_table as table
 
@@ -263,7 +263,7 @@ def found_gap_lines(gaps: Any) -> list[str]:
 def along_lines(conv: Any, adjust: str | None = None) -> list[str]:
     """The plot list and the events of ``conv`` as text tables (nothing when it has neither),
     placed on the figure of ``adjust`` (see :func:`geo.along.plot_list`)."""
-    from geo.along import EVENT_HEADERS, PLOT_HEADERS, event_rows, plot_list, plot_rows
+    from lodeline.geo.along import EVENT_HEADERS, PLOT_HEADERS, event_rows, plot_list, plot_rows
 
     from .common import text_table
 
@@ -284,7 +284,7 @@ def along_lines(conv: Any, adjust: str | None = None) -> list[str]:
 
 def finish(lines: list[str], notes: tuple[str, ...]) -> str:
     """Close a human-readable output: its notes, then the one-line caution."""
-    from geo.cautions import SHORT_CAUTION
+    from lodeline.geo.cautions import SHORT_CAUTION
 
     lines += [f"note: {note}" for note in notes]
     lines.append(SHORT_CAUTION)
@@ -307,8 +307,8 @@ def emit(
     closure in magnetic north need no declination at the record date). ``extra_json(conv,
     result)`` gives keys merged into the JSON object (:func:`geo.measures.merge_record_values`);
     ``with_conversion`` passes the conversion to ``render_result`` as a third argument."""
-    from geo.document import load_document
-    from geo.north import convert_document
+    from lodeline.geo.document import load_document
+    from lodeline.geo.north import convert_document
 
     from .common import print_json
 
@@ -320,7 +320,7 @@ def emit(
     if args.json:
         obj = result.as_dict()
         if extra_json is not None:
-            from geo.measures import merge_record_values
+            from lodeline.geo.measures import merge_record_values
 
             obj = merge_record_values(obj, extra_json(conv, result))
         print_json(obj, pretty=args.pretty)
@@ -335,7 +335,7 @@ def _area_check(doc: Any, result: Any) -> Any:
     """The stated area (record.area) beside the computed ground area, or ``None``."""
     if doc.record.area is None:
         return None
-    from geo.description import compare_area
+    from lodeline.geo.description import compare_area
 
     area = result.area
     foot = area.foot if area is not None else doc.record.foot
@@ -344,8 +344,8 @@ def _area_check(doc: Any, result: Any) -> Any:
 
 def record_json(conv: Any, result: Any) -> dict[str, Any]:
     """What ``close --json`` adds: record-unit values, the plot list and the events."""
-    from geo.along import plot_list
-    from geo.measures import closure_record_values
+    from lodeline.geo.along import plot_list
+    from lodeline.geo.measures import closure_record_values
 
     out = {
         **closure_record_values(conv, result),
@@ -360,8 +360,8 @@ def record_json(conv: Any, result: Any) -> dict[str, Any]:
 def run(args: argparse.Namespace) -> int:
     """Load, convert and close the document; print the closure or its JSON object. With
     ``--summary``, close every document named and write the summary CSV instead."""
-    from geo.errors import InputError
-    from geo.survey import close_document
+    from lodeline.geo.errors import InputError
+    from lodeline.geo.survey import close_document
 
     if args.summary is not None:
         return run_summary(args)
@@ -387,12 +387,12 @@ def run_summary(args: argparse.Namespace) -> int:
     documents did not read; their count goes to stderr."""
     import os
 
-    from geo.atomic import check_targets
-    from geo.cautions import SHORT_CAUTION
-    from geo.errors import InputError
-    from tui.progress import Progress
-    from tui.summary import STATUS_OK, STATUS_UNREAD, find_documents, summarise, summary_csv
+    from lodeline.geo.atomic import check_targets
+    from lodeline.geo.cautions import SHORT_CAUTION
+    from lodeline.geo.errors import InputError
 
+    from ..progress import Progress
+    from ..summary import STATUS_OK, STATUS_UNREAD, find_documents, summarise, summary_csv
     from .common import write_file
 
     if args.json:

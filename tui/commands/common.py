@@ -83,7 +83,7 @@ def write_file(
     permission) raises :class:`geo.errors.LodelineError` naming the file, so the command
     exits 2 with one line instead of failing as an internal error.
     """
-    from geo.atomic import write_all
+    from lodeline.geo.atomic import write_all
 
     write_all([(path, text)], overwrite=force, inputs=inputs)  # OutputError names the file
 
@@ -108,8 +108,8 @@ def refuse_input_as_output(
 ) -> None:
     """Refuse, before any work, an output that is one of the inputs (the same file after
     resolving links): replacing it would lose the input. Raises OutputError naming it."""
-    from geo.atomic import same_file
-    from geo.errors import OutputError
+    from lodeline.geo.atomic import same_file
+    from lodeline.geo.errors import OutputError
 
     for output in outputs:
         for source in inputs:
@@ -185,7 +185,7 @@ class StandardOutput:
             self.silence()
             raise
         except OSError as exc:
-            from geo.errors import OutputError
+            from lodeline.geo.errors import OutputError
 
             self.silence()
             raise OutputError(f"cannot write to standard output: {exc.strerror or exc}") from None

@@ -50,7 +50,7 @@ def _length(value: float) -> str:
 
 def render(conv: Any) -> str:
     """The human-readable conversion (header, course table, warnings, caution)."""
-    from geo.cautions import SHORT_CAUTION
+    from lodeline.geo.cautions import SHORT_CAUTION
 
     doc = conv.document
     lines: list[str] = []
@@ -79,7 +79,7 @@ def render(conv: Any) -> str:
     if not conv.courses:
         lines.append("(no courses)")
     else:
-        from geo.measures import conversion_unit, length_text
+        from lodeline.geo.measures import conversion_unit, length_text
 
         ru = conversion_unit(conv)
         rows = [
@@ -155,15 +155,15 @@ def _rate(deg_per_year: float | None) -> str:
 
 
 def _unit_name(crs: str) -> str:
-    from geo.grid import grid_unit_name
+    from lodeline.geo.grid import grid_unit_name
 
     return grid_unit_name(crs)
 
 
 def run(args: argparse.Namespace) -> int:
     """Load the document, convert it and print the table or the JSON object."""
-    from geo.document import load_document
-    from geo.north import convert_document
+    from lodeline.geo.document import load_document
+    from lodeline.geo.north import convert_document
 
     from .common import print_json
 
@@ -176,8 +176,8 @@ def run(args: argparse.Namespace) -> int:
         record_model=args.record_model,
     )
     if args.json:
-        from geo.along import plot_list
-        from geo.measures import conversion_record_values, merge_record_values
+        from lodeline.geo.along import plot_list
+        from lodeline.geo.measures import conversion_record_values, merge_record_values
 
         extra = {**conversion_record_values(conv), **plot_list(conv).as_dict()}
         print_json(merge_record_values(conv.as_dict(), extra), pretty=args.pretty)

@@ -77,10 +77,10 @@ def run(args: argparse.Namespace) -> int:
     """Convert the document and write its description."""
     from pathlib import Path
 
-    from geo.deed_text import write_description
-    from geo.document import load_document
-    from geo.errors import OutputExistsError
-    from geo.north import convert_document
+    from lodeline.geo.deed_text import write_description
+    from lodeline.geo.document import load_document
+    from lodeline.geo.errors import OutputExistsError
+    from lodeline.geo.north import convert_document
 
     if args.out and args.out != "-" and Path(args.out).exists() and not args.force:
         raise OutputExistsError(

@@ -47,11 +47,11 @@ def register(subparsers: Any) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Load and convert the document, write the requested files, list them."""
-    from geo.cautions import SHORT_CAUTION
-    from geo.document import load_document
-    from geo.errors import InputError
-    from geo.export import write_exports
-    from geo.north import convert_document
+    from lodeline.geo.cautions import SHORT_CAUTION
+    from lodeline.geo.document import load_document
+    from lodeline.geo.errors import InputError
+    from lodeline.geo.export import write_exports
+    from lodeline.geo.north import convert_document
 
     if not any((args.geojson, args.csv, args.gpx, args.kml, args.dxf)):
         raise InputError("nothing to export: give --geojson, --csv, --gpx, --kml or --dxf")
@@ -80,8 +80,8 @@ def _check_destinations(args: argparse.Namespace) -> None:
     name is a folder, so a bad second path never leaves the first file written alone."""
     from pathlib import Path
 
-    from geo.errors import LodelineError
-    from geo.export import courses_csv_path
+    from lodeline.geo.errors import LodelineError
+    from lodeline.geo.export import courses_csv_path
 
     from .common import refuse_input_as_output
 

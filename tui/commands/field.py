@@ -95,7 +95,7 @@ _NUMBER = re.compile(
 
 def _malformed(exc: Exception, path: str, line: int):
     """The error for CSV text that does not read; ``line``: where the bad row starts."""
-    from geo.errors import InputError
+    from lodeline.geo.errors import InputError
 
     if "unexpected end of data" in str(exc):
         return InputError(
@@ -107,7 +107,7 @@ def _malformed(exc: Exception, path: str, line: int):
 def _number(text: str, field: str, **where) -> float:
     import math
 
-    from geo.errors import InputError, clip
+    from lodeline.geo.errors import InputError, clip
 
     if not _NUMBER.fullmatch(text or ""):  # float() would take 1_0 and full-width digits
         raise InputError(f"'{clip(text, 40)}' is not a number", field=field, **where)
@@ -118,8 +118,8 @@ def _number(text: str, field: str, **where) -> float:
 
 
 def _date(text: str, **where):
-    from geo.dates import parse_date
-    from geo.errors import LodelineError
+    from lodeline.geo.dates import parse_date
+    from lodeline.geo.errors import LodelineError
 
     try:
         day, year = parse_date(text)
@@ -168,7 +168,7 @@ def _record(result, i: int, lat: float, lon: float, label: str, height: float) -
 
 
 def _human(rec: dict, year: float) -> str:
-    from geo.cautions import SHORT_CAUTION
+    from lodeline.geo.cautions import SHORT_CAUTION
 
     d = rec["declination_deg"]
     inc = rec["inclination_deg"]
@@ -213,8 +213,8 @@ def _human(rec: dict, year: float) -> str:
 
 
 def _single(args) -> int:
-    from geo.errors import InputError
-    from geo.magnetic import field_at, validate_position
+    from lodeline.geo.errors import InputError
+    from lodeline.geo.magnetic import field_at, validate_position
 
     missing = [name for name in ("lat", "lon", "date") if getattr(args, name) is None]
     if missing:
@@ -230,7 +230,7 @@ def _single(args) -> int:
     result = field_at(lat=lat, lon=lon, year=year, height_m=height, model=args.model)
     rec = _record(result, 0, float(lat_a), _shown_lon(lon, float(lon_a)), label, height)
     if args.json:
-        from tui.commands.common import print_json
+        from .common import print_json
 
         print_json(rec, pretty=args.pretty)
     else:
@@ -256,7 +256,7 @@ def _batch(args) -> int:
 
 def run(args) -> int:
     """Run ``lodeline field``; returns the exit status (errors raise LodelineError)."""
-    from geo.errors import InputError
+    from lodeline.geo.errors import InputError
 
     if args.from_year is not None or args.to_year is not None or args.step is not None:
         from .field_history import run_history

@@ -27,7 +27,7 @@ from typing import Any
 
 import numpy as np
 
-from geo.errors import InputError, LodelineError
+from lodeline.geo.errors import InputError, LodelineError
 
 from .field import CSV_INPUT, RESULT_KEYS, _date, _malformed, _number
 
@@ -51,7 +51,7 @@ def run_batch(args: Any) -> int:
     """Run ``lodeline field --csv`` (see :mod:`tui.commands.field`); returns the exit status."""
     path = args.csv
     if args.out not in (None, "-"):
-        from tui.commands.common import refuse_input_as_output
+        from .common import refuse_input_as_output
 
         refuse_input_as_output([args.out], [path])  # before any work: the input is kept
     try:
@@ -214,7 +214,7 @@ def _numbers(
 
 def _decimal_years(cells: list[str]) -> dict[str, float]:
     """The decimal year of each distinct date text (NaN for one that does not read)."""
-    from geo.dates import parse_date
+    from lodeline.geo.dates import parse_date
 
     out: dict[str, float] = {}
     if _PLAIN_ISO_COLUMN.fullmatch("\n".join(cells)):  # the usual file: one pattern for all
@@ -249,7 +249,7 @@ class _Sink:
     (kept in a temporary file until the end, so a bad row leaves nothing printed)."""
 
     def __init__(self, out: str | None, *, force: bool, inputs: tuple[str, ...]) -> None:
-        from geo.atomic import AtomicStream
+        from lodeline.geo.atomic import AtomicStream
 
         self._stream: AtomicStream | None = None
         if out in (None, "-"):
@@ -283,7 +283,7 @@ def _row_error(
 ) -> LodelineError | None:
     """The first fault of one row as the per-row reading names it (None for a blank row,
     which is skipped); the row must be one a mask flagged."""
-    from geo.magnetic import validate_position
+    from lodeline.geo.magnetic import validate_position
 
     if not row or all(not cell.strip() for cell in row):
         return None
@@ -435,7 +435,7 @@ def _checked(
     """Latitude, longitude, height, decimal year of every row of ``chunk`` and the mask of
     the rows that pass every check of the per-row reading (``dates``: decimal years of the
     date texts seen so far, extended here)."""
-    from geo.magnetic import position_ok
+    from lodeline.geo.magnetic import position_ok
 
     n = len(chunk.lines)
     lat, ok_lat = _numbers(chunk.columns[col["lat"]])
@@ -461,7 +461,7 @@ def _covered(
 ) -> tuple[np.ndarray, list[LodelineError]]:
     """Mask of the ``years`` (of chunk rows ``rows``) some model covers, and the error of each
     other one, located at its line (the message made once per distinct year)."""
-    from geo.models import require, resolve
+    from lodeline.geo.models import require, resolve
 
     _names, covered = resolve(model, years)
     errors: list[LodelineError] = []
@@ -481,7 +481,7 @@ def _covered(
 
 def _progress(path: str) -> Any:
     """The bar on stderr (drawn only on a terminal; its total counts the file's lines)."""
-    from tui.progress import Progress
+    from ..progress import Progress
 
     bar = Progress(total=0, unit="rows", description="field")
     if bar.active:
@@ -515,7 +515,7 @@ def _chunks(
     bad: Any,
 ) -> int:
     """Read, check, compute and write every chunk; then list the skipped rows."""
-    from geo.magnetic import field_at
+    from lodeline.geo.magnetic import field_at
 
     ncol = len(header)
     dates: dict[str, float] = {}

@@ -46,8 +46,8 @@ def _gaps(rows: list[dict[str, Any]]) -> list[str]:
 
 def run_history(args: argparse.Namespace, number: Any) -> int:
     """Print or write the history table (``number`` reads a numeric option, naming it)."""
-    from geo.errors import InputError
-    from geo.field_history import declination_history, history_years
+    from lodeline.geo.errors import InputError
+    from lodeline.geo.field_history import declination_history, history_years
 
     from .common import print_json, write_output
 
@@ -103,7 +103,7 @@ def _csv(rows: list[dict[str, Any]]) -> str:
 
 
 def _text(rows: list[dict[str, Any]], lat: float, lon: float, gaps: list[str]) -> str:
-    from geo.cautions import SHORT_CAUTION
+    from lodeline.geo.cautions import SHORT_CAUTION
 
     from .common import text_table
 

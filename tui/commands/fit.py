@@ -143,8 +143,8 @@ def render_report(result: FitReport, title: str | None = None) -> str:
 
 def compute(conv: Any, *, with_scale: bool, restore: str, date_sigma: float | None) -> FitReport:
     """Fit, restore (geo.retrace) and estimate the survey date (geo.survey_date)."""
-    from geo.retrace import UNPLACED, placed, restore_corners
-    from geo.survey import fit_document
+    from lodeline.geo.retrace import UNPLACED, placed, restore_corners
+    from lodeline.geo.survey import fit_document
 
     fit = fit_document(conv, with_scale=with_scale)
     restoration = (
@@ -158,7 +158,7 @@ def compute(conv: Any, *, with_scale: bool, restore: str, date_sigma: float | No
 def survey_date_of(conv: Any, fit: Any, *, sigma_deg: float | None) -> Any:
     """The survey-date estimate (geo.survey_date) of a fit that found an empirical
     declination, else ``None`` (a true or grid record has none)."""
-    from geo.survey_date import estimate_survey_date
+    from lodeline.geo.survey_date import estimate_survey_date
 
     if fit.empirical_declination_deg is None:
         return None

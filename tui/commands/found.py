@@ -53,8 +53,8 @@ def register(subparsers: Any) -> None:
 
 
 def _within_m(words: list[str], foot: str | None) -> float:
-    from geo.calls import parse_distance
-    from geo.errors import InputError, LodelineError
+    from lodeline.geo.calls import parse_distance
+    from lodeline.geo.errors import InputError, LodelineError
 
     text = " ".join(words)
     try:
@@ -92,11 +92,11 @@ def report_lines(plan: Any, *, wrote: bool) -> list[str]:
 
 def run(args: argparse.Namespace) -> int:
     """Read the document and the points, match them, write unless ``--dry-run``."""
-    from geo.cautions import SHORT_CAUTION
-    from geo.document import load_document
-    from geo.found_import import plan_found, save_found
-    from geo.north import convert_document
-    from geo.point_files import read_points
+    from lodeline.geo.cautions import SHORT_CAUTION
+    from lodeline.geo.document import load_document
+    from lodeline.geo.found_import import plan_found, save_found
+    from lodeline.geo.north import convert_document
+    from lodeline.geo.point_files import read_points
 
     doc = load_document(args.document)
     within = _within_m(args.within, doc.record.foot or "international")

@@ -51,10 +51,10 @@ def run(args: argparse.Namespace) -> int:
     """Convert the boundary, lay the lines out and write the document."""
     import sys
 
-    from geo.document import dumps_document, load_document
-    from geo.errors import DocumentError, OutputExistsError
-    from geo.layout import lay_out_cruise
-    from geo.north import convert_document
+    from lodeline.geo.document import dumps_document, load_document
+    from lodeline.geo.errors import DocumentError, OutputExistsError
+    from lodeline.geo.layout import lay_out_cruise
+    from lodeline.geo.north import convert_document
 
     from .common import write_file
 

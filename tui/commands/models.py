@@ -32,8 +32,8 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 
 def _listing() -> str:
-    from geo.errors import LodelineError
-    from geo.models import AUTO, DEFAULT_MODEL, available_models, data_dir, model_header
+    from lodeline.geo.errors import LodelineError
+    from lodeline.geo.models import AUTO, DEFAULT_MODEL, available_models, data_dir, model_header
 
     rows = [("name", "interval", "degree", "source")]
     problems = []
@@ -62,7 +62,7 @@ def _listing() -> str:
 def run(args) -> int:
     """Run ``lodeline models`` or ``lodeline models add``."""
     if getattr(args, "models_action", None) == "add":
-        from geo.models import install_model, load_model
+        from lodeline.geo.models import install_model, load_model
 
         info = install_model(args.path, name=args.name)
         model = load_model(info)

@@ -28,7 +28,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Run the application until the user quits; return its exit status."""
-    from tui.app import LodelineApp, load_workspace
+    from ..app import LodelineApp, load_workspace
 
     workspace = load_workspace(Path(args.document) if args.document else None)
     app = LodelineApp(workspace, start=not args.document)

@@ -54,7 +54,7 @@ def register(subparsers: Any) -> None:
 
 
 def _read_text(path: str) -> str:
-    from geo.errors import InputError
+    from lodeline.geo.errors import InputError
 
     try:
         raw = open(path, "rb").read()  # noqa: SIM115 - read at once
@@ -67,8 +67,8 @@ def _read_text(path: str) -> str:
 
 
 def _foot(args: argparse.Namespace, date: str | None) -> str | None:
-    from geo.errors import LodelineError
-    from geo.units import choose_foot
+    from lodeline.geo.errors import LodelineError
+    from lodeline.geo.units import choose_foot
 
     try:
         return choose_foot(args.foot, date).foot
@@ -78,7 +78,7 @@ def _foot(args: argparse.Namespace, date: str | None) -> str | None:
 
 def document_data(desc: Any, args: argparse.Namespace, foot: str | None) -> dict[str, Any]:
     """The mapping of the traverse document written for ``desc`` and the options."""
-    from geo.document import FORMAT_VERSION
+    from lodeline.geo.document import FORMAT_VERSION
 
     place: dict[str, Any] = {}
     if args.lat is not None or args.lon is not None:
@@ -110,7 +110,7 @@ def document_data(desc: Any, args: argparse.Namespace, foot: str | None) -> dict
 
 def echo(desc: Any) -> str:
     """The courses as read, each beside the words it came from, and the stated facts."""
-    from geo.description import read_form
+    from lodeline.geo.description import read_form
 
     from .common import text_table
 
@@ -130,9 +130,9 @@ def echo(desc: Any) -> str:
 
 def run(args: argparse.Namespace) -> int:
     """Read the description, print the courses as read, write (or print) the document."""
-    from geo.description import read_description, stated_facts
-    from geo.document import document_from_dict, dumps_document, dumps_mapping
-    from geo.errors import LodelineError, ParseError
+    from lodeline.geo.description import read_description, stated_facts
+    from lodeline.geo.document import document_from_dict, dumps_document, dumps_mapping
+    from lodeline.geo.errors import LodelineError, ParseError
 
     from .common import write_output
 

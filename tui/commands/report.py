@@ -53,9 +53,9 @@ def register(subparsers: Any) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Build the report and write it to ``--out``."""
-    from geo.document import load_document
-    from geo.errors import InputError, OutputError, OutputExistsError
-    from geo.report import build_report
+    from lodeline.geo.document import load_document
+    from lodeline.geo.errors import InputError, OutputError, OutputExistsError
+    from lodeline.geo.report import build_report
 
     out = Path(args.out)
     fmt = FORMATS.get(out.suffix.lower())

@@ -133,10 +133,10 @@ class StakeoutResult:
 
 def run(args: argparse.Namespace) -> int:
     """Load, convert, restore and list; print the list, its JSON, or write its CSV."""
-    from geo.document import load_document
-    from geo.north import convert_document
-    from geo.retrace import restore_document
-    from geo.stakeout import stakeout_list
+    from lodeline.geo.document import load_document
+    from lodeline.geo.north import convert_document
+    from lodeline.geo.retrace import restore_document
+    from lodeline.geo.stakeout import stakeout_list
 
     from .common import print_json, write_output
 

@@ -11,7 +11,7 @@ from textual.containers import Vertical
 from textual.screen import ModalScreen
 from textual.widgets import Input, Static
 
-from tui.dialogs.choice import ChoiceDialog
+from .choice import ChoiceDialog
 
 
 class FileNamePrompt(ModalScreen[Path | None]):

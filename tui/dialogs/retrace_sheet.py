@@ -14,8 +14,8 @@ from textual.containers import VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Footer, Static
 
-from tui.retrace_view import build_view
-from tui.widgets.declination_plot import DeclinationPlot
+from ..retrace_view import build_view
+from ..widgets.declination_plot import DeclinationPlot
 
 
 class RetraceSheet(ModalScreen[None]):

@@ -33,12 +33,12 @@ from textual.widget import Widget
 from textual.widgets import Footer, Input, Static
 from textual.worker import get_current_worker
 
-from tui.results import Results, closure_stage, compute_safely, conversion_stage, plain_rows
-from tui.widgets.call_table import FIELD_TITLES, CallEditor, CallInput, CallTable
-from tui.widgets.findings import FindingsPanel, SteadyText, set_text
-from tui.widgets.job_form import JobForm
-from tui.widgets.sketch import TraverseSketch
-from tui.workspace import (
+from ..results import Results, closure_stage, compute_safely, conversion_stage, plain_rows
+from ..widgets.call_table import FIELD_TITLES, CallEditor, CallInput, CallTable
+from ..widgets.findings import FindingsPanel, SteadyText, set_text
+from ..widgets.job_form import JobForm
+from ..widgets.sketch import TraverseSketch
+from ..workspace import (
     COURSE_FIELDS,
     course_call_text,
     distance_unit_of,
@@ -47,7 +47,7 @@ from tui.workspace import (
 )
 
 if TYPE_CHECKING:
-    from tui.app import LodelineApp
+    from ..app import LodelineApp
 
 #: Seconds of quiet typing before the findings are recomputed: at least this, and at least
 #: as long as the last recomputation took (so a long document is not recomputed between
@@ -539,7 +539,7 @@ class Desk(Screen):
         """A description pasted into the call editor: its courses replace the course being
         edited (one undo step), or the editor says what did not read and nothing changes."""
         event.stop()
-        from geo.errors import LodelineError
+        from lodeline.geo.errors import LodelineError
 
         editor = self.query_one(CallEditor)
         try:
@@ -640,7 +640,7 @@ class Desk(Screen):
 
     def action_retrace_sheet(self) -> None:
         """Open the retracement sheet (tui.dialogs.retrace_sheet) for the shown results."""
-        from tui.dialogs.retrace_sheet import RetraceSheet
+        from ..dialogs.retrace_sheet import RetraceSheet
 
         conv = self.results.conversion if self.results is not None else None
         reason = "" if conv is not None else "the document does not convert yet"

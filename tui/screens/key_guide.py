@@ -13,7 +13,7 @@ from textual.containers import VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Static
 
-from geo.cautions import CAUTIONS
+from lodeline.geo.cautions import CAUTIONS
 
 
 def key_rows(groups: Sequence[tuple[str, Iterable[Binding]]]) -> list[tuple[str, str, str]]:

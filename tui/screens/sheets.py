@@ -18,8 +18,8 @@ from textual.containers import VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Static
 
-from geo.cautions import SHORT_CAUTION
-from geo.errors import LodelineError
+from lodeline.geo.cautions import SHORT_CAUTION
+from lodeline.geo.errors import LodelineError
 
 
 class _Sheet(ModalScreen[None]):
@@ -58,7 +58,7 @@ class _Sheet(ModalScreen[None]):
         raise NotImplementedError
 
     def conversion(self) -> Any:
-        from tui.outputs import converted
+        from ..outputs import converted
 
         ws = self.app.workspace  # type: ignore[attr-defined]
         return converted(ws.doc, ws.path)
@@ -78,7 +78,7 @@ class DescriptionSheet(_Sheet):
     OUTPUT = "description"
 
     def body(self) -> Any:
-        from geo.deed_text import write_description
+        from lodeline.geo.deed_text import write_description
 
         desc = write_description(self.conversion())
         for part in (desc.courses, desc.basis, desc.record, desc.distances):
@@ -92,7 +92,7 @@ class PlotSheet(_Sheet):
     OUTPUT = "csv"
 
     def body(self) -> Any:
-        from geo.along import EVENT_HEADERS, PLOT_HEADERS, event_rows, plot_list, plot_rows
+        from lodeline.geo.along import EVENT_HEADERS, PLOT_HEADERS, event_rows, plot_list, plot_rows
 
         al = plot_list(self.conversion())
         if not al.plots and not al.events:

@@ -30,13 +30,14 @@ from textual.widgets import (
 )
 from textual.widgets.option_list import Option
 
-from geo.errors import LodelineError
-from tui.widgets.findings import set_text
-from tui.widgets.job_form import CHOICE_KEYS, typed_value
-from tui.workspace import new_document, with_setting
+from lodeline.geo.errors import LodelineError
+
+from ..widgets.findings import set_text
+from ..widgets.job_form import CHOICE_KEYS, typed_value
+from ..workspace import new_document, with_setting
 
 if TYPE_CHECKING:
-    from tui.app import LodelineApp
+    from ..app import LodelineApp
 
 #: The questions of a new document: (document key, label, example shown in the field).
 NEW_FIELDS: tuple[tuple[str, str, str], ...] = (
@@ -56,7 +57,7 @@ NEW_FIELDS: tuple[tuple[str, str, str], ...] = (
 def demo_files() -> list[Path]:
     """The demo documents shipped with lodeline (invented places), by name."""
     try:
-        root = importlib.resources.files("lodeline_demos")
+        root = importlib.resources.files("lodeline.demos")
         found = [Path(str(p)) for p in root.iterdir() if p.name.endswith(".toml")]
     except (ModuleNotFoundError, OSError, NotADirectoryError):
         found = []
@@ -76,7 +77,7 @@ def document_files(folder: Path) -> list[Path]:
 
 def new_document_from(answers: dict[str, Any]) -> tuple[dict[str, Any], list[str]]:
     """The document the answers make, and its problems as lines naming the key."""
-    from geo.document import document_from_dict, document_problems
+    from lodeline.geo.document import document_from_dict, document_problems
 
     doc = new_document()
     for key, value in answers.items():

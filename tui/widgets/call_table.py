@@ -27,7 +27,7 @@ from textual.scroll_view import ScrollView
 from textual.strip import Strip
 from textual.widgets import Input, Label
 
-from tui.widgets.findings import SteadyText
+from .findings import SteadyText
 
 #: Column keys and headings of the call table.
 COLUMNS: tuple[tuple[str, str], ...] = (

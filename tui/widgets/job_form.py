@@ -16,8 +16,8 @@ from textual.containers import VerticalScroll
 from textual.message import Message
 from textual.widgets import Checkbox, Input, Label, Select, Static
 
-from tui.widgets.findings import set_text
-from tui.workspace import SETTING_LABELS, get_setting
+from ..workspace import SETTING_LABELS, get_setting
+from .findings import set_text
 
 #: Keys whose value is a number when the text reads as one.
 NUMBER_KEYS = frozenset(
