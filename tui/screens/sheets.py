@@ -8,7 +8,8 @@ output prompt (the description as text, the plot list and events as the CSV expo
 
 from __future__ import annotations
 
-from typing import Any
+from collections.abc import Callable, Iterable
+from typing import TYPE_CHECKING, Any
 
 from rich.table import Table
 from rich.text import Text
@@ -20,6 +21,9 @@ from textual.widgets import Static
 
 from lodeline.geo.cautions import SHORT_CAUTION
 from lodeline.geo.errors import LodelineError
+
+if TYPE_CHECKING:
+    from textual.widget import Widget
 
 
 class _Sheet(ModalScreen[None]):
@@ -44,6 +48,8 @@ class _Sheet(ModalScreen[None]):
     #: What the sheet is called, and the output kind ``w`` writes (tui.outputs.OUTPUTS).
     TITLE = ""
     OUTPUT = ""
+    #: The sheet's widgets (each sheet defines its own ``body`` method).
+    body: Callable[[], Iterable[Widget]]
 
     def compose(self) -> ComposeResult:
         with VerticalScroll() as box:
@@ -53,9 +59,6 @@ class _Sheet(ModalScreen[None]):
             except LodelineError as err:
                 yield Static(Text(f"✗ {err}", style="bold red"), classes="sheet-error")
             yield Static(SHORT_CAUTION, classes="sheet-caution")
-
-    def body(self) -> Any:  # pragma: no cover - every sheet gives its own
-        raise NotImplementedError
 
     def conversion(self) -> Any:
         from ..outputs import converted
