@@ -11,11 +11,10 @@ record in true bearings needs no declination).
 
 from __future__ import annotations
 
-import asyncio
-import functools
 from pathlib import Path
 
 import pytest
+from desk_pilot import SQUARE, settle, sync
 
 from lodeline.geo.document import document_to_dict, load_document
 from lodeline.tui.app import LodelineApp, load_workspace
@@ -26,45 +25,7 @@ from lodeline.tui.widgets.call_table import CallEditor, CallTable
 from lodeline.tui.widgets.findings import wrap_lines
 from lodeline.tui.workspace import read_recovery, write_recovery
 
-DOC = """\
-format_version = 1
-title = "Test square, Marrow Creek"
-closed = true
-
-[place]
-lat = 40.0
-lon = -77.0
-
-[record]
-reference = "true"
-distance_unit = "chain"
-foot = "us"
-
-[target]
-date = "2025-06-01"
-
-[[course]]
-call = "N 10 E 10 chains to a stone"
-
-[[course]]
-call = "S 80 E 10 chains"
-
-[[course]]
-call = "S 10 W 10 chains"
-
-[[course]]
-call = "N 80 W 10 chains to the beginning"
-"""
-
-
-def sync(test):
-    """Run an async pilot test with asyncio (no async plugin needed)."""
-
-    @functools.wraps(test)
-    def run(*args, **kwargs):
-        asyncio.run(test(*args, **kwargs))
-
-    return run
+DOC = SQUARE
 
 
 @pytest.fixture(autouse=True)
@@ -77,17 +38,6 @@ def doc_path(tmp_path: Path) -> Path:
     path = tmp_path / "square.toml"
     path.write_text(DOC, encoding="utf-8")
     return path
-
-
-async def _settle(pilot, seconds: float = 0.08) -> None:
-    await pilot.pause(seconds)
-    for _ in range(100):  # a recomputation still waiting for a pause in typing
-        desk = next((s for s in pilot.app.screen_stack if hasattr(s, "recompute_typed")), None)
-        if desk is None or desk._timer is None:
-            break
-        await pilot.pause(0.02)
-    await pilot.app.workers.wait_for_complete()
-    await pilot.pause()
 
 
 async def _retype(pilot, text: str) -> None:
@@ -106,7 +56,7 @@ async def _paste(pilot, text: str) -> None:
 async def test_type_a_call_undo_save_reopen(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         desk = app.desk
         before = desk.results.rows[0]
         assert before.true.startswith("N 10")
@@ -114,7 +64,7 @@ async def test_type_a_call_undo_save_reopen(doc_path: Path):
         await pilot.press("enter")  # edit the call of course 1
         assert isinstance(app.focused.parent.parent, CallEditor)
         await _retype(pilot, "N 20 E 10 chains")
-        await _settle(pilot)
+        await settle(pilot)
         after = desk.results.rows[0]
         assert after.true.startswith("N 20")
         assert after.true != before.true
@@ -124,15 +74,15 @@ async def test_type_a_call_undo_save_reopen(doc_path: Path):
         assert app.workspace.dirty
         await pilot.press("enter")  # back to the table
         await pilot.press("ctrl+z")  # the whole typed call is one step
-        await _settle(pilot)
+        await settle(pilot)
         assert app.workspace.courses[0]["call"] == "N 10 E 10 chains to a stone"
         assert desk.results.rows[0].true == before.true
         assert not app.workspace.dirty
         await pilot.press("ctrl+y")
-        await _settle(pilot)
+        await settle(pilot)
         assert app.workspace.courses[0]["call"] == "N 20 E 10 chains"
         await pilot.press("ctrl+s")
-        await _settle(pilot)
+        await settle(pilot)
         assert not app.workspace.dirty
         shown = app.workspace.doc
     saved = document_to_dict(load_document(doc_path))
@@ -150,10 +100,10 @@ async def test_type_a_call_undo_save_reopen(doc_path: Path):
 async def test_call_that_does_not_read_is_kept_and_marked(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         await pilot.press("down", "enter")
         await _paste(pilot, "N 95 E 10 chains")
-        await _settle(pilot)
+        await settle(pilot)
         row = app.desk.results.rows[1]
         assert row.mark == "✗"
         assert row.call == "N 95 E 10 chains"
@@ -164,7 +114,7 @@ async def test_call_that_does_not_read_is_kept_and_marked(doc_path: Path):
         assert app.desk.results.rows[0].true.startswith("N 10")
         assert "does not read" in " ".join(app.desk.results.panels["closure"].lines)
         await pilot.press("enter", "ctrl+s")
-        await _settle(pilot)
+        await settle(pilot)
     text = doc_path.read_text(encoding="utf-8")
     assert 'call = "N 95 E 10 chains"' in text  # saved as typed, never lost
     reopened = load_workspace(doc_path)
@@ -182,10 +132,10 @@ async def test_course_the_schema_refuses_waits_like_a_call_that_does_not_read(do
     )
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         await pilot.press("down", "enter")
         await _paste(pilot, "")
-        await _settle(pilot)
+        await settle(pilot)
         rows = app.desk.results.rows
         assert rows[1].mark == "✗" and "empty" in rows[1].message
         assert rows[0].true.startswith("N 10")
@@ -234,7 +184,7 @@ async def test_old_magnetic_record_without_a_declination_closes_and_fits(tmp_pat
     path.write_text(text, encoding="utf-8")
     app = LodelineApp(load_workspace(path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot, 0.3)
+        await settle(pilot, 0.3)
         results = app.desk.results
         assert results.problem_count == 0
         first = results.rows[0]
@@ -254,23 +204,23 @@ async def test_old_magnetic_record_without_a_declination_closes_and_fits(tmp_pat
 async def test_add_insert_delete_move_and_undo_all(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         original = app.workspace.doc
         await pilot.press("a")  # add after course 1 and edit it
         await pilot.pause()
         await _paste(pilot, "S 45 E 1 chain")
         await pilot.press("enter")
-        await _settle(pilot)
+        await settle(pilot)
         assert [c["call"] for c in app.workspace.courses][1] == "S 45 E 1 chain"
         await pilot.press("right_square_bracket")  # move it down
-        await _settle(pilot)
+        await settle(pilot)
         assert app.workspace.courses[2]["call"] == "S 45 E 1 chain"
         await pilot.press("x")  # delete it
-        await _settle(pilot)
+        await settle(pilot)
         assert len(app.workspace.courses) == 4
         for _ in range(4):
             await pilot.press("ctrl+z")
-        await _settle(pilot)
+        await settle(pilot)
         assert app.workspace.doc == original
         assert len(app.desk.results.rows) == 4
 
@@ -279,12 +229,12 @@ async def test_add_insert_delete_move_and_undo_all(doc_path: Path):
 async def test_quit_asks_when_there_are_unsaved_changes(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         await pilot.press("enter")
         await pilot.pause()
         await _paste(pilot, "N 10 E 10 chains and more")
         await pilot.press("enter")
-        await _settle(pilot)
+        await settle(pilot)
         await pilot.press("ctrl+q")
         await pilot.pause()
         assert isinstance(app.screen, ChoiceDialog)
@@ -307,10 +257,10 @@ async def test_recovery_is_offered_after_a_crash(doc_path: Path):
     write_recovery(crashed)  # what the desk keeps while editing; then the process died
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         assert isinstance(app.screen, ChoiceDialog)
         await pilot.press("r")  # restore them
-        await _settle(pilot)
+        await settle(pilot)
         assert app.workspace.courses[0]["call"].startswith("N 12 E 10 chains")
         assert app.workspace.dirty
         assert app.desk.results.rows[0].true.startswith("N 12")
@@ -322,7 +272,7 @@ async def test_export_prompt_never_overwrites_silently(doc_path: Path):
     existing.write_text("kept\n", encoding="utf-8")
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         await pilot.press("f7")
         await pilot.pause()
         assert isinstance(app.screen, FileNamePrompt)
@@ -343,7 +293,7 @@ async def test_save_as_refuses_other_suffixes_and_asks_before_replacing(doc_path
     other.write_text("old\n", encoding="utf-8")
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         await pilot.press("f9")
         await pilot.pause()
         await _paste(pilot, str(doc_path.parent / "copy.txt"))
@@ -354,7 +304,7 @@ async def test_save_as_refuses_other_suffixes_and_asks_before_replacing(doc_path
         await pilot.press("enter")
         await pilot.pause()
         await pilot.press("r")  # replace
-        await _settle(pilot)
+        await settle(pilot)
         assert app.workspace.path == other
     assert load_document(other).title == "Test square, Marrow Creek"
     assert (doc_path.parent / "copy.toml.bak").read_text(encoding="utf-8") == "old\n"
@@ -366,7 +316,7 @@ async def test_key_guide_lists_every_key_and_the_cautions(doc_path: Path):
 
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         await pilot.press("f1")
         await pilot.pause()
         assert isinstance(app.screen, KeyGuide)
@@ -400,7 +350,7 @@ async def test_key_guide_lists_every_key_and_the_cautions(doc_path: Path):
 async def test_every_action_is_in_the_command_palette(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         titles = {c.title for c in app.get_system_commands(app.screen)}
     for needed in (
         "Save",
@@ -426,19 +376,19 @@ async def test_every_action_is_in_the_command_palette(doc_path: Path):
 async def test_small_terminal_shows_one_pane_at_a_time(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(80, 24)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         desk = app.desk
         assert desk.query_one("#calls").display
         assert not desk.query_one("#findings").display
         await pilot.press("f4")
-        await _settle(pilot)
+        await settle(pilot)
         assert desk.query_one("#findings").display
         assert not desk.query_one("#calls").display
         await pilot.press("f2")
-        await _settle(pilot)
+        await settle(pilot)
         assert desk.query_one("#job").display
         await pilot.press("f3")
-        await _settle(pilot)
+        await settle(pilot)
         assert desk.query_one("#calls").display
 
 
@@ -446,16 +396,16 @@ async def test_small_terminal_shows_one_pane_at_a_time(doc_path: Path):
 async def test_job_setting_edit_is_undoable(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         desk = app.desk
         field = desk.query_one("#set-place--lat")
         field.focus()
         await pilot.pause()
         await _paste(pilot, "41.5")
-        await _settle(pilot)
+        await settle(pilot)
         assert app.workspace.doc["place"]["lat"] == 41.5
         await pilot.press("ctrl+z")
-        await _settle(pilot)
+        await settle(pilot)
         assert app.workspace.doc["place"]["lat"] == 40.0
         assert field.value == "40.0"
 
@@ -468,13 +418,13 @@ async def test_exports_and_report_are_written_from_the_desk(doc_path: Path):
 
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         for key in ("f6", "f7", "f8"):
             await pilot.press(key)
             await pilot.pause()
             assert isinstance(app.screen, FileNamePrompt)
             await pilot.press("enter")  # the suggested names do not exist yet
-            await _settle(pilot)
+            await settle(pilot)
             assert not isinstance(app.screen, FileNamePrompt)
     collection = json.loads(doc_path.with_suffix(".geojson").read_text(encoding="utf-8"))
     FeatureCollection.model_validate(collection)  # RFC 7946 shape (geojson-pydantic)
@@ -489,7 +439,7 @@ async def test_csv_prompt_asks_when_only_the_second_file_exists(doc_path: Path):
     second.write_text("kept\n", encoding="utf-8")
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         await pilot.press("f7")
         await pilot.pause()
         await pilot.press("enter")
@@ -506,7 +456,7 @@ async def test_csv_prompt_asks_when_only_the_second_file_exists(doc_path: Path):
 async def test_found_positions_typed_give_the_fit(doc_path: Path):
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         conv = app.desk.results.conversion
         assert "needs found positions" in app.desk.query_one("#panel-fit").text
         for row in (0, 2):  # the record's own end stations as found: a fit with no rotation
@@ -517,7 +467,7 @@ async def test_found_positions_typed_give_the_fit(doc_path: Path):
             assert "found position" in str(app.desk.query_one("#editor-label").render())
             await _paste(pilot, f"easting={end.easting:.3f}, northing={end.northing:.3f}")
             await pilot.press("enter")
-            await _settle(pilot)
+            await settle(pilot)
         assert app.workspace.courses[2]["found"]["easting"] == pytest.approx(
             conv.courses[2].end.easting, abs=1e-3
         )
@@ -537,21 +487,21 @@ async def test_a_document_the_schema_refuses_opens_to_be_put_right(doc_path: Pat
     doc_path.write_text(DOC.replace("lat = 40.0", "lat = 95.0"), encoding="utf-8")
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         desk = app.desk
         assert "latitude 95" in (desk.results.panels["closure"].error or "")
         label = desk.query_one("#set-place--lat-label")
         assert str(label.render()).startswith("✗")
         await pilot.press("ctrl+s")
-        await _settle(pilot)
+        await settle(pilot)
         assert "lat = 95.0" in doc_path.read_text(encoding="utf-8")  # not saved yet
         app.workspace.set_setting("place.lat", 40.0)
         desk.reload()
-        await _settle(pilot)
+        await settle(pilot)
         assert desk.results.rows[0].true.startswith("N 10")
         assert not str(label.render()).startswith("✗")
         await pilot.press("ctrl+s")
-        await _settle(pilot)
+        await settle(pilot)
     assert "lat = 40.0" in doc_path.read_text(encoding="utf-8")
 
 
@@ -577,18 +527,18 @@ async def test_panels_keep_their_height_while_typing_and_give_it_back_after(doc_
     # the screen does not jump; leaving the editor gives each panel its text's height.
     app = LodelineApp(load_workspace(doc_path))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         desk = app.desk
         panel = desk.query_one("#panel-closure")
         full = panel.size.height
         await pilot.press("enter")
         await _retype(pilot, "N 10 E")  # no distance yet: the closure waits (one line)
-        await _settle(pilot)
+        await settle(pilot)
         assert "does not read" in panel.text
         held = panel.size.height
         assert held >= full  # never shorter while typing (it may have grown on the way)
         await pilot.press("enter")  # back to the table: the call stays as typed
-        await _settle(pilot)
+        await settle(pilot)
         wrapped = wrap_lines(panel.text, panel.content_size.width)
         assert panel.size.height == len(wrapped) < held  # its own text's height again
         assert app.workspace.courses[0]["call"] == "N 10 E"

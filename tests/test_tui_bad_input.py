@@ -3,10 +3,8 @@ its main thread, and the recovery file it keeps while typing (see also tests/tes
 
 from __future__ import annotations
 
-import asyncio
-import functools
-
 import pytest
+from desk_pilot import sync
 
 from lodeline.tui.app import LodelineApp, load_workspace
 
@@ -34,14 +32,6 @@ call = "N 10 E 10 chains to a stone"
 [[course]]
 call = "S 80 E 10 chains"
 """
-
-
-def sync(test):
-    @functools.wraps(test)
-    def run(*args, **kwargs):
-        asyncio.run(test(*args, **kwargs))
-
-    return run
 
 
 @pytest.fixture(autouse=True)

@@ -9,11 +9,11 @@ after one call that does not read. Documents here are invented (demo data).
 from __future__ import annotations
 
 import asyncio
-import functools
 import json
 from pathlib import Path
 
 import pytest
+from desk_pilot import SQUARE, settle, sync
 
 from lodeline.geo.document import document_from_dict
 from lodeline.geo.errors import DocumentError
@@ -22,44 +22,6 @@ from lodeline.tui.dialogs.choice import ChoiceDialog
 from lodeline.tui.widgets.call_table import CallEditor, CallTable
 from lodeline.tui.widgets.job_form import JobForm
 from lodeline.tui.workspace import SETTING_LABELS, Workspace, recovery_path, write_recovery
-
-SQUARE = """\
-format_version = 1
-title = "Test square, Marrow Creek"
-closed = true
-
-[place]
-lat = 40.0
-lon = -77.0
-
-[record]
-reference = "true"
-distance_unit = "chain"
-foot = "us"
-
-[target]
-date = "2025-06-01"
-
-[[course]]
-call = "N 10 E 10 chains to a stone"
-
-[[course]]
-call = "S 80 E 10 chains"
-
-[[course]]
-call = "S 10 W 10 chains"
-
-[[course]]
-call = "N 80 W 10 chains to the beginning"
-"""
-
-
-def sync(test):
-    @functools.wraps(test)
-    def run(*args, **kwargs):
-        asyncio.run(test(*args, **kwargs))
-
-    return run
 
 
 @pytest.fixture(autouse=True)
@@ -73,17 +35,6 @@ def square(tmp_path: Path) -> Path:
     path = tmp_path / "square.toml"
     path.write_text(SQUARE, encoding="utf-8")
     return path
-
-
-async def settle(pilot, seconds: float = 0.08) -> None:
-    await pilot.pause(seconds)
-    for _ in range(100):
-        desk = next((s for s in pilot.app.screen_stack if hasattr(s, "recompute_typed")), None)
-        if desk is None or desk._timer is None:
-            break
-        await pilot.pause(0.02)
-    await pilot.app.workers.wait_for_complete()
-    await pilot.pause()
 
 
 def keyboard_text(app) -> str:

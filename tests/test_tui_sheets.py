@@ -2,11 +2,10 @@
 
 from __future__ import annotations
 
-import asyncio
-import functools
 from pathlib import Path
 
 import pytest
+from desk_pilot import sync
 from textual.widgets import Static
 
 from lodeline.tui.app import LodelineApp, load_workspace
@@ -49,14 +48,6 @@ call = "S 0 E 10 chains"
 [[course]]
 call = "N 90 W 10 chains to the beginning"
 """
-
-
-def sync(test):
-    @functools.wraps(test)
-    def run(*args, **kwargs):
-        asyncio.run(test(*args, **kwargs))
-
-    return run
 
 
 @pytest.fixture(autouse=True)
