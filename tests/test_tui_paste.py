@@ -4,11 +4,11 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from desk_pilot import SQUARE, settle, sync
 from textual import events
 
 from lodeline.tui.app import LodelineApp, load_workspace
 from lodeline.tui.widgets.call_table import CallEditor, looks_like_description
-from tests.test_tui_app import DOC, _settle, sync
 
 DEED = (
     "Beginning at a hickory on the west side of the branch, thence S 14 W 36 poles to a "
@@ -19,7 +19,7 @@ DEED = (
 
 def _doc(tmp_path: Path) -> Path:
     path = tmp_path / "square.toml"
-    path.write_text(DOC, encoding="utf-8")
+    path.write_text(SQUARE, encoding="utf-8")
     return path
 
 
@@ -34,12 +34,12 @@ def test_what_counts_as_a_description():
 async def test_a_pasted_description_becomes_courses_in_one_undo_step(tmp_path: Path):
     app = LodelineApp(load_workspace(_doc(tmp_path)))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         await pilot.press("down")  # course 2
         await pilot.press("enter")
         assert isinstance(app.focused.parent.parent, CallEditor)
         app.focused.post_message(events.Paste(DEED))
-        await _settle(pilot)
+        await settle(pilot)
         calls = [c["call"] for c in app.workspace.courses]
         assert calls == [
             "N 10 E 10 chains to a stone",
@@ -59,7 +59,7 @@ async def test_a_pasted_description_becomes_courses_in_one_undo_step(tmp_path: P
         assert "3 courses read" in message
         await pilot.press("escape")
         await pilot.press("ctrl+z")  # the whole paste is one step
-        await _settle(pilot)
+        await settle(pilot)
         assert [c["call"] for c in app.workspace.courses][1] == "S 80 E 10 chains"
         assert len(app.workspace.courses) == 4
         assert "description" not in app.workspace.doc["place"]
@@ -69,10 +69,10 @@ async def test_a_pasted_description_becomes_courses_in_one_undo_step(tmp_path: P
 async def test_a_pasted_description_that_does_not_read_changes_nothing(tmp_path: Path):
     app = LodelineApp(load_workspace(_doc(tmp_path)))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         await pilot.press("enter")
         app.focused.post_message(events.Paste(DEED.replace("36 poles", "36 poles 5")))
-        await _settle(pilot)
+        await settle(pilot)
         assert len(app.workspace.courses) == 4
         assert not app.workspace.dirty
         message = str(app.desk.query_one("#editor-message").render())
@@ -83,10 +83,10 @@ async def test_a_pasted_description_that_does_not_read_changes_nothing(tmp_path:
 async def test_a_pasted_single_call_is_typed_as_before(tmp_path: Path):
     app = LodelineApp(load_workspace(_doc(tmp_path)))
     async with app.run_test(size=(120, 40)) as pilot:
-        await _settle(pilot)
+        await settle(pilot)
         await pilot.press("enter")
         await pilot.press("ctrl+u")
         app.focused.post_message(events.Paste("N 20 E 10 chains"))
-        await _settle(pilot)
+        await settle(pilot)
         assert app.workspace.courses[0]["call"] == "N 20 E 10 chains"
         assert len(app.workspace.courses) == 4
