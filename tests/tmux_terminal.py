@@ -78,10 +78,14 @@ def start(session: str, command: str) -> None:
     """A detached session of COLUMNS x ROWS running shell ``command``.
 
     The command starts once the terminal has its size: a program that reads the size while
-    tmux is still sizing a new window sees 80x24 and draws that in the larger pane.
+    tmux is still sizing a new window sees 80x24 and draws that in the larger pane. COLUMNS
+    and LINES are cleared first: GNU readline, loaded into the test process, exports them
+    (80 and 24 without a terminal), the tmux server and its panes inherit them, and a
+    program that asks ``shutil.get_terminal_size`` takes them over the pane's real size.
     """
     size = f"{ROWS} {COLUMNS}"
     waits = (
+        "unset COLUMNS LINES; "
         f'n=0; while [ "$(stty size)" != {shlex.quote(size)} ] && [ $n -lt 100 ]; '
         "do sleep 0.05; n=$((n+1)); done; "
     )
