@@ -362,11 +362,13 @@ def closure_record_values(conv: DocumentConversion, clo: SurveyClosure) -> dict[
 def merge_record_values(base: dict[str, Any], extra: dict[str, Any]) -> dict[str, Any]:
     """``base`` (an ``as_dict()`` object) with ``extra`` merged in: top-level keys added, and the
     per-course and per-station objects of ``extra`` merged into those of ``base`` of the same
-    index (list position)."""
+    index (list position). The per-course and per-station objects of ``base`` are updated in
+    place (``base`` is a fresh ``as_dict()`` object: a long document has 50,000 of them)."""
     out = dict(base)
     for key, value in extra.items():
         if key in ("courses", "stations") and isinstance(out.get(key), list):
-            out[key] = [{**row, **add} for row, add in zip(out[key], value, strict=True)]
+            for row, add in zip(out[key], value, strict=True):
+                row.update(add)
         else:
             out[key] = value
     return out

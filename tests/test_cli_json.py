@@ -54,4 +54,5 @@ def test_numpy_values_and_non_finite_floats():
             "y": [1.0, None],
             "z": [None, 2.0],
         }
-    assert json_text(bad) == '{"x": null, "y": [1.0, null], "z": [null, 2.0]}'
+    # the one-line text is compact (no space after ":" and ","), as RFC 8259 allows
+    assert json_text(bad) == '{"x":null,"y":[1.0,null],"z":[null,2.0]}'

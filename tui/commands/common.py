@@ -30,25 +30,31 @@ def to_jsonable(value: Any) -> Any:
 
 
 def _plain(value: Any) -> Any:
-    """``default`` of the fast JSON encoding: a numpy scalar or array as a plain value."""
+    """``default`` of the fast JSON encoding: a numpy scalar or array, or a float subclass,
+    as a plain value."""
     if hasattr(value, "tolist"):  # numpy arrays and scalars
         return value.tolist()
+    if isinstance(value, float):
+        return float(value)
     raise TypeError(f"not JSON: {type(value).__name__}")
 
 
 def json_text(obj: Any, *, pretty: bool = False) -> str:
-    """``obj`` as JSON text (numpy values plain, NaN and infinities as null), on one line, or
-    indented by two spaces with ``pretty``.
+    """``obj`` as JSON text (numpy values plain, NaN and infinities as null), on one compact
+    line (no space after ``:`` and ``,``), or indented by two spaces with ``pretty``.
 
-    The one-line text is encoded at once by the standard library's C encoder; only an object
-    holding a non-finite float (or keys the encoder refuses) goes through
-    :func:`to_jsonable` first. With string keys both give the same text."""
+    The one-line text is written by orjson (compiled; the same shortest round-trip digits
+    as Python's ``repr`` of each float, NaN and infinities as null, about six times the
+    standard library's speed on a long document's output); what orjson refuses (an integer
+    beyond 64 bits, a key that is not text) goes through :func:`to_jsonable` and the
+    standard library. orjson writes an exponent as ``1e-5`` where ``json`` writes ``1e-05``:
+    the same number to every JSON reader."""
     if not pretty:
+        import orjson
+
         try:
-            return json.dumps(
-                obj, ensure_ascii=False, allow_nan=False, check_circular=False, default=_plain
-            )
-        except (ValueError, TypeError):  # NaN or infinity somewhere: null, as to_jsonable says
+            return orjson.dumps(obj, default=_plain, option=orjson.OPT_SERIALIZE_NUMPY).decode()
+        except TypeError:  # orjson.JSONEncodeError is a TypeError
             pass
     indent = 2 if pretty else None
     return json.dumps(to_jsonable(obj), indent=indent, ensure_ascii=False, allow_nan=False)

@@ -28,6 +28,7 @@ from typing import Any
 import numpy as np
 
 from lodeline.geo.errors import InputError, LodelineError
+from lodeline.geo.float_text import reprs
 
 from .field import CSV_INPUT, RESULT_KEYS, _date, _malformed, _number
 
@@ -336,9 +337,9 @@ def _format(payload: tuple[Any, np.ndarray, tuple], prefix: list[str]) -> str:
     n = len(prefix)
     columns: list[list[str]] = [prefix, [model] * n if isinstance(model, str) else list(model)]
     for values in floats[:-1]:
-        columns.append(list(map(repr, values.tolist())))
+        columns.append(reprs(values))
     sigma = floats[-1]
-    sigma_cells = list(map(repr, sigma.tolist()))
+    sigma_cells = reprs(sigma)
     for k in np.flatnonzero(~np.isfinite(sigma)).tolist():
         sigma_cells[k] = ""
     columns.append(sigma_cells)
@@ -367,14 +368,33 @@ def _idle_cores(since: tuple[int, int] | None) -> float | None:
     return (now[0] - since[0]) / (now[1] - since[1]) * (os.cpu_count() or 1)
 
 
+def _compute(inputs: tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, str]) -> Any:
+    """The field at the checked rows of one chunk: one :func:`geo.magnetic.field_at` call
+    (latitude, longitude, decimal year, height, model), wherever it runs."""
+    from lodeline.geo.magnetic import field_at
+
+    lat, lon, year, height, model = inputs
+    return field_at(lat=lat, lon=lon, year=year, height_m=height, model=model)
+
+
+def _computed_lines(inputs: tuple, prefix: list[str]) -> str:
+    """The output lines of one chunk, computed and formatted (the worker's whole job)."""
+    return _format(_payload(_compute(inputs), 0, len(prefix)), prefix)
+
+
 class _Writer:
-    """Formats computed chunks and writes them in order. From the first full chunk on, when
-    the machine has a core to spare (several cores, and on average half a core or more left
-    idle while this process read and computed the first chunk), the formatting (the shortest
-    round-trip text of ten floats a row: half of the work) runs in one worker process while
-    the next chunk is read and computed; at most two chunks are in flight, so memory stays
-    bounded. Otherwise it runs here (the worker costs about a tenth more work in all: fork,
-    passing the chunk and the text)."""
+    """Computes and formats the checked chunks and writes them in order. From the first
+    full chunk on, when the machine has a core to spare (several cores, and on average half a
+    core or more left idle while this process read and computed the first chunk), one
+    worker process shares the work: a full chunk goes to the worker, computed and formatted
+    there, whenever the worker is free, and is computed and formatted here otherwise (while
+    this process reads and checks the next chunks), so the two share the work as their
+    speeds allow; at most two chunks wait for the worker, so memory stays bounded. The first
+    chunk is computed here (the worker is forked with the model loaded) and formatted there;
+    the last one is computed here and its formatting shared. Each chunk is one
+    ``field_at`` call wherever it runs, so the bytes are the same with or without the
+    worker. Without a core to spare everything runs here (the worker costs about a tenth
+    more work in all: fork, passing the chunk and the text)."""
 
     def __init__(self, sink: _Sink) -> None:
         self._sink = sink
@@ -383,24 +403,32 @@ class _Writer:
         self._chunks = 0
         self._cpu_at_start = _cpu_times()  # while the first chunk is read and computed here
 
-    def write(self, result: Any, prefix: list[str], full: bool) -> None:
-        """Format and write the rows of ``result`` (``full``: a chunk of CHUNK_ROWS lines,
-        so more may follow; the last chunk is shared between the worker and this process)."""
+    def write(self, inputs: tuple, prefix: list[str], full: bool) -> None:
+        """Compute, format and write the rows of one chunk (``inputs``: see
+        :func:`_compute`; ``full``: a chunk of CHUNK_ROWS lines, so more may follow)."""
         self._chunks += 1
-        if self._pool is None and full and self._chunks == 1:
-            self._start()
         n = len(prefix)
-        if self._pool is None:
-            self._sink.write(_format(_payload(result, 0, n), prefix))
-            return
-        half = n if full else n // 2
-        if half:
-            job = self._pool.submit(_format, _payload(result, 0, half), prefix[:half])
-            self._pending.append(job)
-        if half < n:
-            self._pending.append(_format(_payload(result, half, n), prefix[half:]))
-        while len(self._pending) > 1 and not isinstance(self._pending[0], str):
-            self._sink.write(self._pending.pop(0).result())
+        busy = any(not isinstance(p, str) and not p.done() for p in self._pending)
+        if self._pool is not None and full and not busy:
+            self._pending.append(self._pool.submit(_computed_lines, inputs, prefix))
+        else:
+            result = _compute(inputs)
+            if self._pool is None and full and self._chunks == 1:
+                self._start()
+            if self._pool is None or (full and busy):
+                self._pending.append(_format(_payload(result, 0, n), prefix))
+            else:  # the first chunk (the worker free) or the last (shared)
+                half = n if full else n // 2
+                if half:
+                    job = self._pool.submit(_format, _payload(result, 0, half), prefix[:half])
+                    self._pending.append(job)
+                if half < n:
+                    self._pending.append(_format(_payload(result, half, n), prefix[half:]))
+        while self._pending and (
+            isinstance(self._pending[0], str) or self._pending[0].done() or len(self._pending) > 2
+        ):
+            item = self._pending.pop(0)
+            self._sink.write(item if isinstance(item, str) else item.result())
 
     def _start(self) -> None:
         import multiprocessing
@@ -515,8 +543,6 @@ def _chunks(
     bad: Any,
 ) -> int:
     """Read, check, compute and write every chunk; then list the skipped rows."""
-    from lodeline.geo.magnetic import field_at
-
     ncol = len(header)
     dates: dict[str, float] = {}
     progress = _progress(path)
@@ -551,19 +577,13 @@ def _chunks(
                         errors += uncovered
                         keep = keep[covered]
                     if keep.size and range_error is None:
-                        result = field_at(
-                            lat=lat[keep],
-                            lon=lon[keep],
-                            year=year[keep],
-                            height_m=height[keep],
-                            model=args.model,
-                        )
+                        inputs = (lat[keep], lon[keep], year[keep], height[keep], args.model)
                         prefix = (
                             chunk.prefix
                             if keep.size == len(chunk.prefix)
                             else [chunk.prefix[k] for k in keep.tolist()]
                         )
-                        writer.write(result, prefix, len(block) == CHUNK_ROWS)
+                        writer.write(inputs, prefix, len(block) == CHUNK_ROWS)
                         ngood += int(keep.size)
                 if chunk.failure is not None:
                     raise _malformed(chunk.failure, path, chunk.last_line + 1) from None

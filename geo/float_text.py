@@ -1,0 +1,36 @@
+"""Floats as text, many at once: the text Python's ``repr`` gives each one, made fast.
+
+``repr`` of a float is the shortest decimal text that reads back as the same float (David
+Gay's correctly rounded conversion); it is what every CSV column of lodeline holds, so a
+file read back gives the very numbers that were computed. Calling it once a value costs
+about 0.75 µs on the project's machine: half of ``field --csv``'s work. orjson writes the
+same shortest, correctly rounded digits from compiled code some five times faster, but
+spells some numbers differently: no exponent below 1e-4 (``0.00001`` where ``repr`` gives
+``1e-05``) and ``null`` for NaN and the infinities. So :func:`reprs` takes orjson's text only
+for values in the range where both write plain decimal digits (zero, and 1e-3 <= |x| < 1e15,
+a margin on each side of Python's switch to an exponent at 1e-4 and 1e16) and calls ``repr``
+for every other value. The tests compare :func:`reprs` with ``repr`` over every kind of
+double (random bit patterns, the range edges, negative zero, subnormals, NaN).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import orjson
+
+#: Where orjson and ``repr`` write the same text: 0, and LOW <= |x| < HIGH.
+LOW, HIGH = 1e-3, 1e15
+
+
+def reprs(values: np.ndarray) -> list[str]:
+    """``[repr(float(v)) for v in values]`` for a 1-D float array (float64), made fast."""
+    values = np.ascontiguousarray(values, dtype=np.float64).ravel()
+    if values.size == 0:
+        return []
+    texts = orjson.dumps(values, option=orjson.OPT_SERIALIZE_NUMPY).decode("ascii")
+    cells = texts[1:-1].split(",")
+    size = np.abs(values)
+    other = ~((size >= LOW) & (size < HIGH)) & (values != 0.0)  # NaN falls here too
+    for k in np.flatnonzero(other).tolist():
+        cells[k] = repr(float(values[k]))
+    return cells
