@@ -702,3 +702,34 @@ async def test_the_key_guide_is_by_task(square):
             "export for the field",
             "anywhere",
         ]
+
+
+# -- the closure panel: a length in the record unit is never cut across two lines ------------------
+
+
+@pytest.mark.parametrize("size", [(120, 40), (80, 24)])
+@sync
+async def test_the_record_unit_lengths_of_the_closure_panel_stay_on_one_line(tmp_path, size):
+    # Once "misclosure 0.903 m = 0 ch 4 lk" wrapped in the narrow panel as "... = 0 ch 4" and
+    # "lk" below: a length that reads as another one. Chains and links: the greyfen demo.
+    import re
+    import shutil
+
+    from lodeline.tui.widgets.findings import FindingsPanel
+
+    path = tmp_path / "greyfen.toml"
+    shutil.copy(Path(__file__).parents[1] / "demo_traverses" / "greyfen_woodlot_1925.toml", path)
+    app = LodelineApp(load_workspace(path))
+    async with app.run_test(size=size) as pilot:
+        await settle(pilot, 0.3)
+        await app.workers.wait_for_complete()
+        await settle(pilot)
+        panel = app.desk.query_one("#panel-closure", FindingsPanel)
+        if size == (80, 24):
+            await pilot.press("f4")
+            await settle(pilot)
+        shown = [s.text.strip(" │") for s in panel.render_lines(panel.region.reset_offset)]
+        lengths = [line for line in shown if " ch " in line or line.endswith(" lk")]
+        assert len(lengths) >= 2, shown  # the perimeter and the misclosure
+        for line in lengths:
+            assert re.fullmatch(r"= \d[\d,]* ch \d+ lk", line.strip()), shown

@@ -504,21 +504,28 @@ def _closure_panel(closure: Any, conv: Any = None) -> PanelText:
 
     ru = None if conv is None else conversion_unit(conv)
 
-    def rec(metres: float) -> str:
-        return "" if ru is None or ru.metric else f" = {length_text(metres, ru)}"
+    def rec(metres: float) -> list[str]:
+        """The length in the record unit on a line of its own ("  = 20 ch 6 lk"): the panel
+        is narrow, and a wrapped "0 ch 6 / lk" reads as another length."""
+        return [] if ru is None or ru.metric else [f"  = {length_text(metres, ru)}"]
 
     if not closure.closes_on:
-        return _idle(
-            "open traverse (closed = false): no misclosure or area; length "
-            f"{closure.perimeter_m:,.2f} m{rec(closure.perimeter_m)}"
+        return PanelText(
+            (
+                "open traverse (closed = false): no misclosure or area",
+                f"length {closure.perimeter_m:,.2f} m",
+                *rec(closure.perimeter_m),
+            ),
+            idle=True,
         )
-    lines = [f"perimeter {closure.perimeter_m:,.2f} m{rec(closure.perimeter_m)}"]
+    lines = [f"perimeter {closure.perimeter_m:,.2f} m", *rec(closure.perimeter_m)]
     if closure.closes_on == "found end":
         lines.append(f"closes on the found end (station {len(closure.courses)})")
     if closure.misclosure_bearing is None:
         lines.append("misclosure 0 m (closes exactly)")
     else:
-        lines.append(f"misclosure {closure.misclosure_m:,.3f} m{rec(closure.misclosure_m)}")
+        lines.append(f"misclosure {closure.misclosure_m:,.3f} m")
+        lines += rec(closure.misclosure_m)
         north = "magnetic, record date" if closure.north == "magnetic" else closure.north
         lines.append(f"  toward {closure.misclosure_bearing} ({north})")
         lines.append(f"precision 1:{closure.precision:,.0f}")
