@@ -216,3 +216,22 @@ def test_summary_text_is_rfc4180(capsys, tmp_path):
     raw = out.read_bytes().decode("utf-8")
     assert raw.endswith("\r\n")
     assert list(csv.reader(io.StringIO(raw, newline="")))[0] == list(COLUMNS)
+
+
+def test_a_record_date_no_model_covers_still_gives_the_date_and_the_fit(capsys, tmp_path):
+    # The found demo moved to 1850, before IGRF-14 (1900 on): the conversion is refused (no
+    # declination at the record date) but the fit finds one; the row keeps the record date.
+    text = FOUND_DEMO.read_text(encoding="utf-8")
+    assert 'date = "1911-05-09"' in text
+    doc = tmp_path / "moved.toml"
+    doc.write_text(text.replace('date = "1911-05-09"', 'date = "1850-06-01"'), encoding="utf-8")
+    out = tmp_path / "moved.csv"
+    code, stdout, err = _run(capsys, "close", str(doc), "--summary", str(out))
+    assert code == 0, err
+    assert f"wrote {out} (1 document)" in stdout
+    (row,) = _rows(out)
+    assert row["status"] == "partial" and "outside every model" in row["problems"]
+    assert row["record_date"] == "1850-06-01" and row["courses"] == "6"
+    assert row["declination_deg"] == "" and row["model"] == ""  # none covers the date
+    fit = _json(capsys, "fit", str(doc), "--json")
+    assert _float(row["fit_declination_deg"]) == fit["empirical_declination_deg"]

@@ -168,6 +168,9 @@ def _row(path: str, *, adjust: str | None, north: str) -> SummaryRow:
     if conv is not None:
         _conversion_values(row, conv)
         _closure_values(row, conv, adjust=adjust, north=north)
+    elif fit_conv is not None:  # the record date stands even where no model covers it
+        data = fit_conv.as_dict()  # type: ignore[attr-defined]
+        row.values.update(courses=len(data["courses"]), record_date=data["record_date"])
     if fit_conv is not None:
         _fit_values(row, fit_conv)
     if row.problems:

@@ -408,7 +408,8 @@ def run_summary(args: argparse.Namespace) -> int:
         )
     write_file(args.summary, summary_csv(rows), force=args.force, inputs=tuple(paths))
     failed = sum(1 for r in rows if r.status != STATUS_OK)
-    sys.stdout.write(f"wrote {args.summary} ({len(rows)} documents)\n")
+    count = f"{len(rows)} document{'' if len(rows) == 1 else 's'}"
+    sys.stdout.write(f"wrote {args.summary} ({count})\n")
     sys.stdout.write(SHORT_CAUTION + "\n")
     if failed:
         unread = sum(1 for r in rows if r.status == STATUS_UNREAD)
