@@ -733,3 +733,32 @@ async def test_the_record_unit_lengths_of_the_closure_panel_stay_on_one_line(tmp
         assert len(lengths) >= 2, shown  # the perimeter and the misclosure
         for line in lengths:
             assert re.fullmatch(r"= \d[\d,]* ch \d+ lk", line.strip()), shown
+
+
+# -- Enter on a call that does not read keeps the keyboard in the call ----------------------------
+
+
+@sync
+async def test_enter_on_a_call_that_does_not_read_stays_in_the_call(square):
+    # Tried as a user: "S 80 E 10 chains 50" refused, Enter, then " links" typed to mend it;
+    # the keys went to the table, where "i" inserted a course and "nks" became its call.
+    app = LodelineApp(load_workspace(square))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot)
+        await pilot.press("down", "enter")
+        await settle(pilot)
+        await pilot.press("ctrl+u", *"S 80 E 10 chains 50", "enter")
+        await settle(pilot)
+        editor = app.desk.query_one(CallEditor)
+        assert editor.query_one("Input").has_focus
+        assert "Escape leaves it" in str(editor.query_one("#editor-message").render())
+        await pilot.press(*" links", "enter")
+        await settle(pilot)
+        assert len(app.workspace.courses) == 4
+        assert app.workspace.courses[1]["call"] == "S 80 E 10 chains 50 links"
+        assert app.desk.query_one(CallTable).has_focus  # a call that reads: back to the table
+        # Escape leaves a call that does not read as written (nothing typed is lost)
+        await pilot.press("enter", "ctrl+u", *"S 80 E 10 chains 50", "escape")
+        await settle(pilot)
+        assert app.desk.query_one(CallTable).has_focus
+        assert app.workspace.courses[1]["call"] == "S 80 E 10 chains 50"

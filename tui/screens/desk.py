@@ -33,7 +33,14 @@ from textual.widget import Widget
 from textual.widgets import Footer, Input, Static
 from textual.worker import get_current_worker
 
-from ..results import Results, closure_stage, compute_safely, conversion_stage, plain_rows
+from ..results import (
+    MARK_BAD,
+    Results,
+    closure_stage,
+    compute_safely,
+    conversion_stage,
+    plain_rows,
+)
 from ..widgets.call_table import FIELD_TITLES, CallEditor, CallInput, CallTable
 from ..widgets.findings import FindingsPanel, SteadyText, set_text
 from ..widgets.job_form import JobForm
@@ -553,10 +560,28 @@ class Desk(Screen):
         self.reload()
         editor.show_message(summary)
 
-    def on_call_editor_finished(self, _event: CallEditor.Finished) -> None:
+    def on_call_editor_finished(self, event: CallEditor.Finished) -> None:
         self._end_typing()
         self.flush_sketch()  # the call is done: the sketch need not wait
+        editor = self.query_one(CallEditor)
+        refused = self._refused_row(editor.index)
+        if event.by_enter and refused is not None:
+            # letters typed next would be the table's commands: stay, and say how to leave
+            editor.show_message(f"{refused}\nEnter keeps this call here to mend; Escape leaves it.")
+            editor.focus_input()
+            return
         self.set_focus(self.query_one(CallTable))
+
+    def _refused_row(self, index: int) -> str | None:
+        """The message of course ``index`` if the results shown are those of the text now
+        in the document and they mark the course as not read; else None."""
+        results = self.results
+        if results is None:
+            return None
+        if self.applied[0] != self.lode.workspace.revision or not 0 <= index < len(results.rows):
+            return None
+        row = results.rows[index]
+        return row.message if row.mark == MARK_BAD and row.message else None
 
     def on_call_table_row_highlighted(self, event: CallTable.RowHighlighted) -> None:
         editor = self.query_one(CallEditor)

@@ -405,7 +405,7 @@ class CallEditor(Vertical):
     # Priority, so that a key typed straight after Enter goes to the table, not the call.
     BINDINGS = [
         Binding("escape", "done", "Back to table", show=False, priority=True),
-        Binding("enter", "done", "Done: back to the table", show=False, priority=True),
+        Binding("enter", "done(True)", "Done: back to the table", show=False, priority=True),
     ]
 
     DEFAULT_CSS = """
@@ -427,7 +427,12 @@ class CallEditor(Vertical):
             self.session = session
 
     class Finished(Message):
-        """The user left the editor (Enter or Escape)."""
+        """The user left the editor: ``by_enter`` True for Enter (the desk keeps the keyboard
+        in a call that does not read), False for Escape (always back to the table)."""
+
+        def __init__(self, by_enter: bool = False) -> None:
+            super().__init__()
+            self.by_enter = by_enter
 
     def __init__(self, *, id: str | None = None) -> None:
         super().__init__(id=id)
@@ -472,10 +477,10 @@ class CallEditor(Vertical):
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
         event.stop()
-        self.action_done()
+        self.action_done(True)
 
-    def action_done(self) -> None:
+    def action_done(self, by_enter: bool = False) -> None:
         if self.handler is not None:
-            self.handler(self.Finished())
+            self.handler(self.Finished(by_enter))
         else:
-            self.post_message(self.Finished())
+            self.post_message(self.Finished(by_enter))
