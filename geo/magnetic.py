@@ -293,8 +293,14 @@ def _components(
         memo = model._cache["points"] = {}
         _MEMOS[id(model)] = memo
     keys = list(zip(lat.tolist(), lon.tolist(), h.tolist(), year.tolist(), strict=True))
-    found = [memo.get(k) for k in keys]
+    found = list(map(memo.get, keys))
     missing = [i for i, v in enumerate(found) if v is None]
+    if len(missing) == len(keys):  # nothing kept: the batch is computed whole, as it is
+        fresh_all = synthesized((lat, lon, h, year))
+        if len(memo) + len(keys) > _MEMO_MAX:
+            memo.clear()
+        memo.update(zip(keys, map(tuple, fresh_all.T.tolist()), strict=True))
+        return fresh_all
     if missing:
         at = np.array(missing)
         fresh = synthesized((lat[at], lon[at], h[at], year[at])).T.tolist()

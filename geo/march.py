@@ -26,13 +26,17 @@ How many steps
     even at 2 degrees a kilometre (near a magnetic pole) that is below 0.04 mm on 100 m.
     A longer magnetic or true course starts with steps of :data:`FIRST_STEP_M` and is marched
     again with the step halved until its end (relative to its start) moves by less than
-    :data:`HALVING_TOLERANCE_M`; the finer march is kept.
+    :data:`HALVING_TOLERANCE_M`; the finer march is kept. Both marches of a comparison are
+    walked from the values of one evaluation of the finer layout's nodes (every node of the
+    coarser layout is one of them), so a halving costs one evaluation, not two.
 
 Passes
     Values depend on the positions and positions on the values: the first pass estimates the
     values as linear in grid position from the point of beginning and two probes (see
     :func:`march`), the following passes evaluate every node until no node moves by more
-    than :data:`CONVERGED_M`.
+    than :data:`CONVERGED_M`. A halved layout starts from a walk with the values of the
+    march before it, taken as linear between its nodes along each course, which keeps the
+    bend of the line between them: one pass usually confirms it.
 """
 
 from __future__ import annotations
@@ -233,23 +237,60 @@ def _converge(
     return Marched(lay, e, n, lat, lon, values, az, step)
 
 
-def _refined(lay: Layout, finer: np.ndarray, e: np.ndarray, n: np.ndarray) -> tuple:
-    """The layout with the steps of the courses ``finer`` (bool, n) doubled, and node
-    positions interpolated onto it (a start for the passes)."""
+def _refined(
+    fig: _Figure, lay: Layout, finer: np.ndarray, values: Any
+) -> tuple[Layout, np.ndarray, np.ndarray, np.ndarray]:
+    """The layout with the steps of the courses ``finer`` (bool, n) doubled; a start for
+    its passes (node positions walked with ``values``, those of the nodes of ``lay``, taken
+    as linear between them along each course); and, for every node of ``lay``, its index
+    in the new layout (the nodes of ``lay`` are nodes of the new one)."""
     steps = np.where(finer, lay.steps * 2, lay.steps)
     new = _layout(steps)
-    # position of every new node as a fraction of its course, interpolated on the old nodes
+    # position of every new node on the old nodes' index, as a fraction of its course
     c = np.repeat(np.arange(steps.size), steps)
     frac = (np.arange(c.size) - new.offsets[:-1][c]) / steps[c]
     old_at = lay.offsets[:-1][c] + frac * lay.steps[c]
-    idx = np.arange(lay.n_nodes, dtype=float)
     x = np.concatenate([old_at, [lay.offsets[-1]]])
-    return new, np.interp(x, idx, e), np.interp(x, idx, n)
+    below = np.minimum(np.floor(x).astype(np.int64), lay.n_nodes - 1)
+    w = x - below
+    above = np.minimum(below + 1, lay.n_nodes - 1)
+
+    def between(v: np.ndarray | None, angle: bool) -> np.ndarray | None:
+        if v is None:
+            return None
+        v = np.asarray(v, dtype=float)
+        if angle:
+            return v[below] + w * np.asarray(angle_difference(v[above], v[below]), dtype=float)
+        return v[below] + w * (v[above] - v[below])
+
+    start = _Values(between(values.gamma, True), between(values.combined, False),
+                    between(values.d1, True))  # fmt: skip
+    e, n, _, _ = _positions(fig, new, start)
+    return new, e, n, _shared_nodes(lay, new)
 
 
-def _course_vectors(m: Marched) -> np.ndarray:
-    o = m.layout.offsets
-    return np.stack([np.diff(m.east[o]), np.diff(m.north[o])], axis=1)
+@dataclass(frozen=True)
+class _Values:
+    """Values at nodes for a walk (see :func:`walk`)."""
+
+    gamma: np.ndarray
+    combined: np.ndarray
+    d1: np.ndarray | None
+
+
+def _course_vectors(lay: Layout, east: np.ndarray, north: np.ndarray) -> np.ndarray:
+    o = lay.offsets
+    return np.stack([np.diff(east[o]), np.diff(north[o])], axis=1)
+
+
+def _coarse_vectors(fig: _Figure, coarse: Layout, old_nodes: np.ndarray, fine: Marched) -> Any:
+    """Course vectors (grid units) of the march on the layout ``coarse`` walked with the
+    values of ``fine``'s evaluation at the nodes they share (``old_nodes``)."""
+    v = fine.values
+    picked = _Values(np.asarray(v.gamma)[old_nodes], np.asarray(v.combined)[old_nodes],
+                     None if v.d1 is None else np.asarray(v.d1)[old_nodes])  # fmt: skip
+    e, n, _, _ = _positions(fig, coarse, picked)
+    return _course_vectors(coarse, e, n)
 
 
 def march(
@@ -277,20 +318,38 @@ def march(
     """
     fig = _Figure(reference, azimuth_deg, length_m, e0, n0, lat0, lon0, unit_m)
     lay = layout_for(reference, length_m)
-    e, n = _first_estimate(fig, lay, evaluate, probes)
-    result = _converge(fig, lay, evaluate, to_geographic, e, n)
-    if reference == "grid":
-        return result
     finer = length_m > ONE_STEP_M  # every course the one-step bound does not cover
-    for _halving in range(_MAX_HALVINGS):
-        if not finer.any():
-            break
-        lay2, e2, n2 = _refined(result.layout, finer, result.east, result.north)
-        fine = _converge(fig, lay2, evaluate, to_geographic, e2, n2)
-        moved = np.hypot(*(_course_vectors(fine) - _course_vectors(result)).T) * unit_m
+    if reference == "grid" or not finer.any():
+        e, n = _first_estimate(fig, lay, evaluate, probes)
+        return _converge(fig, lay, evaluate, to_geographic, e, n)
+    # The first layout is not marched on its own: its halving is, and the two are compared
+    # on the values of that one march (see the module docstring).
+    coarse = lay
+    lay = _layout(np.where(finer, coarse.steps * 2, coarse.steps))
+    old_nodes = _shared_nodes(coarse, lay)
+    e, n = _first_estimate(fig, lay, evaluate, probes)
+    for halving in range(_MAX_HALVINGS):
+        result = _converge(fig, lay, evaluate, to_geographic, e, n)
+        change = _course_vectors(lay, result.east, result.north) - _coarse_vectors(
+            fig, coarse, old_nodes, result
+        )
+        moved = np.hypot(change[:, 0], change[:, 1]) * fig.unit_m
         finer = finer & (moved >= HALVING_TOLERANCE_M)
-        result = fine
+        if not finer.any() or halving == _MAX_HALVINGS - 1:
+            break
+        coarse = lay
+        lay, e, n, old_nodes = _refined(fig, coarse, finer, result.values)
     return result
+
+
+def _shared_nodes(coarse: Layout, fine: Layout) -> np.ndarray:
+    """Index in ``fine`` of every node of ``coarse`` (each course's steps the same or
+    doubled)."""
+    c = coarse.step_course
+    local = np.arange(c.size) - coarse.offsets[:-1][c]
+    ratio = fine.steps // coarse.steps
+    inner = fine.offsets[:-1][c] + local * ratio[c]
+    return np.concatenate([inner, [fine.offsets[-1]]])
 
 
 def node_distance_m(lay: Layout, length_m: np.ndarray) -> np.ndarray:

@@ -500,7 +500,7 @@ def _synthesize(
     # A place asked for at several dates of one time segment (a record and a target date a
     # few years apart, say) has one set of time polynomials: compute it once.
     spread = None
-    if 1 < npts <= _SHARED_PLACES_MAX and np.size(year) > 1:
+    if 1 < npts <= _SHARED_PLACES_MAX and np.size(year) > 1 and _dates_share_segment(yr, seg_all):
         key = np.column_stack([lat, lon, hgt, seg_all.astype(float)])
         _, first, inverse = np.unique(key, axis=0, return_index=True, return_inverse=True)
         if first.size < npts:
@@ -533,6 +533,13 @@ def _synthesize(
 
 #: Batches of up to this many points are searched for places repeated at several dates.
 _SHARED_PLACES_MAX = 4096
+
+
+def _dates_share_segment(year: NDArray[np.float64], seg: NDArray[np.intp]) -> bool:
+    """Whether two different years of the batch lie in one time segment (else no place can
+    be asked for at several dates of one segment, and the search for them is skipped: a
+    record and a target date a century apart are in different segments)."""
+    return bool(np.unique(year).size > np.unique(seg).size)
 
 
 def _polynomials(

@@ -87,6 +87,26 @@ def test_halving_the_steps_moves_the_end_by_less_than_a_millimetre(monkeypatch):
     assert math.hypot(a.easting - b.easting, a.northing - b.northing) < 1e-3
 
 
+def test_a_deed_of_courses_over_100_m_is_evaluated_twice(monkeypatch, field_calls):
+    # A closed square of 200 m courses: each course is two steps (one step of 200 m and its
+    # halving are compared on the values of one evaluation), so the field is evaluated once
+    # for the first estimate and once for the one pass that confirms the halved march
+    # (geo.march: a halving costs one evaluation, its start keeps the bend of the line).
+    import lodeline.geo.march
+
+    square = [{"bearing": b, "distance": 200.0} for b in ("N 90 E", "S 0 E", "S 90 W", "N 0 E")]
+    conv = convert_document(doc(square), target_date="2026-01-01")
+    assert [c.steps for c in conv.courses] == [2, 2, 2, 2]
+    assert len(field_calls) == 2
+    # and the kept march is the one a march in 10 m steps gives, within the 1 mm tolerance
+    monkeypatch.setattr(lodeline.geo.march, "ONE_STEP_M", 5.0)
+    monkeypatch.setattr(lodeline.geo.march, "FIRST_STEP_M", 10.0)
+    fine = convert_document(doc(square), target_date="2026-01-01")
+    assert all(c.steps >= 20 for c in fine.courses)
+    for a, b in zip(conv.stations, fine.stations, strict=True):
+        assert math.hypot(a.easting - b.easting, a.northing - b.northing) < 1e-3
+
+
 def test_short_courses_are_one_step_each():
     conv = convert_document(doc([{"bearing": "N 10 E", "distance": 30.0}] * 20))
     assert all(c.steps == 1 for c in conv.courses)

@@ -284,17 +284,8 @@ def test_found_positions_in_both_forms():
     assert (f2.easting, f2.northing) == (1.0, 2.0)
 
 
-def test_field_is_evaluated_once_per_pass_for_all_stations(monkeypatch):
-    import lodeline.geo.magnetic
-
-    calls = []
-    real = lodeline.geo.magnetic.field_at
-
-    def counting(**kw):
-        calls.append(np.size(kw["lat"]))
-        return real(**kw)
-
-    monkeypatch.setattr(lodeline.geo.magnetic, "field_at", counting)
+def test_field_is_evaluated_once_per_pass_for_all_stations(field_calls):
+    calls = field_calls
     courses = [{"bearing": "N 10 E", "distance": 100}] * 50
     convert_document(doc_with(courses), target_date="2024-01-01")
     # a first pass at the point of beginning and its two probes (three points at both dates),
