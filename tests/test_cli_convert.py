@@ -149,3 +149,31 @@ def test_console_script_does_not_import_textual(tmp_path):
     )
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
     assert done.returncode == 0, done.stderr
+
+
+def test_a_one_shot_command_puts_off_full_collections_and_restores_the_collector(
+    monkeypatch, capsys
+):
+    # The CPython collector (documented in the gc module): a command that runs once and ends
+    # runs with tui.cli.ONE_SHOT_GC_THRESHOLDS and the imports frozen; the caller gets its own
+    # thresholds back and nothing left frozen, after a good run and after a refused one.
+    import gc
+
+    import lodeline.geo.north
+    from lodeline.tui import cli
+
+    seen = []
+    real = lodeline.geo.north.convert_document
+
+    def watched(*args, **kwargs):
+        seen.append((gc.get_threshold(), gc.get_freeze_count() > 0))
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(lodeline.geo.north, "convert_document", watched)
+    before = gc.get_threshold()
+    assert cli.main(["convert", str(DEMOS[0]), "--json"]) == 0
+    assert seen == [(cli.ONE_SHOT_GC_THRESHOLDS, True)]
+    assert gc.get_threshold() == before and gc.get_freeze_count() == 0
+    assert cli.main(["convert", "/nonexistent/deed.toml"]) == 2
+    assert gc.get_threshold() == before and gc.get_freeze_count() == 0
+    capsys.readouterr()
