@@ -762,3 +762,37 @@ async def test_enter_on_a_call_that_does_not_read_stays_in_the_call(square):
         await settle(pilot)
         assert app.desk.query_one(CallTable).has_focus
         assert app.workspace.courses[1]["call"] == "S 80 E 10 chains 50"
+
+
+@sync
+async def test_the_next_call_typed_straight_after_enter_is_a_new_course(square):
+    # Tried as a user on a new document: "N 10 E 5 chains", Enter, then "S 80 E 6 chains"
+    # typed on: the keys went to the table, where "a" of "chains" added a course and "ins"
+    # became its call. A letter that is not a table command begins a call: in a new course
+    # after the cursor's (a call already typed is never overwritten), or in a blank one.
+    app = LodelineApp(Workspace(), start=False)
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot)
+        await pilot.press(*"N 10 E 5 chains", "enter")
+        await settle(pilot)
+        assert app.desk.query_one(CallTable).has_focus
+        await pilot.press(*"S 80 E 6 chains to a stake", "enter", *"S 10 W 5 chains", "enter")
+        await settle(pilot)
+        assert [c["call"] for c in app.workspace.courses] == [
+            "N 10 E 5 chains",
+            "S 80 E 6 chains to a stake",
+            "S 10 W 5 chains",
+        ]
+    # on an open document the call goes after the course under the cursor; the table's
+    # command letters keep their meaning
+    app = LodelineApp(load_workspace(square))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot)
+        await pilot.press("down", *"S 45 W 2 chains", "escape")
+        await settle(pilot)
+        calls = [c["call"] for c in app.workspace.courses]
+        assert calls[1:3] == ["S 80 E 10 chains", "S 45 W 2 chains"] and len(calls) == 5
+        assert app.desk.query_one(CallTable).has_focus
+        await pilot.press("x")  # delete the course just typed
+        await settle(pilot)
+        assert len(app.workspace.courses) == 4

@@ -133,3 +133,34 @@ def test_the_new_document_path_that_crashed_runs_on_and_saves_as_typed(tmp_path:
     assert saved.title == "Glen tract"
     assert (saved.place.lat, saved.place.lon) == (42.8731, -76.1934)
     assert len(saved.course) == 0
+
+
+@needs_tmux[0]
+@needs_tmux[1]
+def test_four_calls_typed_in_one_burst_land_each_in_its_course(tmp_path: Path):
+    # Tried as a user: on a new document, four calls each ended by Enter, sent to the
+    # terminal in one burst. The first call kept only "N" and its other words went into the
+    # second course (an Enter acted before the keys typed ahead of it reached the call, and
+    # "a" of "chains" on the table added courses). Now each call is its own course, in order.
+    session = f"lodeline-test-{uuid.uuid4().hex[:8]}"
+    env = f"LODELINE_STATE={tmp_path / 'state'} TERM=xterm-256color"
+    start(session, f"cd {tmp_path} && env {env} {console_script()} open burst.toml")
+    calls = [
+        "N 10 E 5 chains",
+        "S 80 E 6 chains to a stake",
+        "S 10 W 5 chains",
+        "N 80 W 6 chains to the beginning",
+    ]
+    try:
+        wait_for(session, "typing the call of course 1")
+        # one write to the terminal: carriage returns are the Enter key
+        tmux("send-keys", "-t", session, "-l", "\r".join(calls) + "\r")
+        wait_for(session, calls[-1])
+        time.sleep(1.0)
+        screen = pane(session)
+    finally:
+        if alive(session):
+            tmux("kill-session", "-t", session)
+    rows = [line.strip("┃ ").split(None, 1) for line in screen.splitlines()[3:9]]
+    assert [r[1].strip() if len(r) > 1 else "" for r in rows[:5]] == [*calls, ""]
+    assert [r[0] for r in rows[:4]] == ["1", "2", "3", "▸4"]

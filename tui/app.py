@@ -9,6 +9,7 @@ dialogs ask the questions (:mod:`tui.dialogs`). Numbers come from :mod:`geo` thr
 
 from __future__ import annotations
 
+import asyncio
 import contextlib
 import datetime as _dt
 import gc
@@ -17,9 +18,11 @@ from collections.abc import Iterable
 from pathlib import Path
 from typing import Any
 
+from textual import events
 from textual.app import App, SystemCommand
 from textual.binding import Binding
 from textual.screen import Screen
+from textual.widgets import Input
 
 from lodeline.geo.errors import DocumentError, LodelineError
 
@@ -181,6 +184,9 @@ def key_guide_tasks() -> list[tuple[str, list[Binding]]]:
                 ("enter", "Edit the call here; Enter again: done"),
                 ("escape", "Leave the editor, back to the table"),
                 ("a", "Add a course after this one, type its call"),
+            )
+            + [Binding("N", "", "A call typed here goes into a new course", key_display="N S 0-9…")]
+            + keys(
                 ("i", "Insert a course above this one"),
                 ("delete,x", "Delete this course"),
                 ("left_square_bracket,right_square_bracket", "Move this course up / down"),
@@ -231,6 +237,10 @@ def key_guide_tasks() -> list[tuple[str, list[Binding]]]:
     ]
 
 
+#: Longest wait (seconds) for a widget to take a key before the next one is read.
+KEY_WAIT_S = 0.5
+
+
 class LodelineApp(App[int]):
     """Edit a traverse and see its conversions, closure and sketch update as you type."""
 
@@ -276,6 +286,26 @@ class LodelineApp(App[int]):
         if not _FROZEN:
             _FROZEN.append(True)
             self.call_after_refresh(gc.freeze)
+
+    # -- keys, in order -------------------------------------------------------------------
+    async def on_event(self, event: events.Event) -> None:
+        """Keys act in the order they were typed. Textual hands a key to the focused widget's
+        queue as it arrives but runs a priority binding (Enter leaving the call editor, the
+        table's letters) at once, so in a burst (a fast typist, a paste through the terminal)
+        an Enter used to act before the characters typed ahead of it had reached the call,
+        and they then went into the next course the editor was put on (seen in tmux: a new
+        document's first call lost its words to the second). So before any key other than a
+        character typed into a text field, the focused widget first takes what it was given
+        (a wait bounded by :data:`KEY_WAIT_S`: a busy widget delays keys, never stops them).
+        Characters typed into a field go straight on, as fast as before."""
+        if isinstance(event, events.Key) and not event.is_forwarded:
+            target = self.focused
+            if target is not None and not (isinstance(target, Input) and event.is_printable):
+                done = asyncio.Event()
+                if target.call_later(done.set):  # runs once the keys before it are taken
+                    with contextlib.suppress(asyncio.TimeoutError):
+                        await asyncio.wait_for(done.wait(), KEY_WAIT_S)
+        await super().on_event(event)
 
     @property
     def desk(self) -> Desk:

@@ -185,7 +185,9 @@ class Desk(Screen):
     def on_mount(self) -> None:
         table = self.query_one(CallTable)
         table.handler = self._table_request
-        self.query_one(CallEditor).handler = self.on_call_editor_finished
+        editor = self.query_one(CallEditor)
+        editor.handler = self.on_call_editor_finished
+        editor.edited_handler = self.on_call_editor_edited
         self.reload()
         self._arrange()
         self.focus_start()
@@ -205,6 +207,8 @@ class Desk(Screen):
             self.on_call_table_edit_requested(message)
         elif isinstance(message, CallTable.StructureRequested):
             self.on_call_table_structure_requested(message)
+        elif isinstance(message, CallTable.CallStarted):
+            self.on_call_table_call_started(message)
 
     def on_descendant_focus(self, event) -> None:
         self.show_keyboard(event.widget)
@@ -529,6 +533,27 @@ class Desk(Screen):
         self._show_row_message()
         editor.focus_input()
         self.show_keyboard(self.app.focused)
+
+    def on_call_table_call_started(self, event: CallTable.CallStarted) -> None:
+        """A call typed on the table: it goes into the course under the cursor when that one
+        is blank, else into a new course after it (no call typed there is ever overwritten),
+        and the keys typed next follow it into the editor."""
+        courses = self.lode.workspace.courses
+        if not 0 <= event.index < len(courses):
+            return
+        index = event.index
+        if is_blank_course(courses[index]):
+            self.open_editor(index, "call")
+        else:
+            index += 1
+            self.on_call_table_structure_requested(CallTable.StructureRequested("insert", index))
+        editor = self.query_one(CallEditor)
+        editor.query_one("#editor-input", Input).insert_text_at_cursor(event.character)
+        editor.show_message(
+            f"typed on the table: the call goes into course {index + 1} (Escape: back to the "
+            "table; there a, i, x, b, f, e and n are commands, Ctrl+Z undoes)",
+            hold=True,
+        )
 
     def on_call_editor_edited(self, event: CallEditor.Edited) -> None:
         if not 0 <= event.index < len(self.lode.workspace.courses):

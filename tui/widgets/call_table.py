@@ -12,6 +12,7 @@ kept as typed, and the parser's message for it is shown below it.
 from __future__ import annotations
 
 import re
+import string
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
@@ -95,6 +96,17 @@ class CallRow:
         )
 
 
+#: The table's command letters (its bindings above); every other letter, digit or ``?``
+#: typed on the table begins a call (:meth:`CallTable.action_start_call`).
+COMMAND_LETTERS = frozenset("abefinx")
+#: (character, Textual key name) of the keys that begin a call when typed on the table.
+_CALL_START_KEYS = tuple(
+    (c, c if c.isalnum() else "question_mark")
+    for c in (string.ascii_letters + string.digits + "?")
+    if c not in COMMAND_LETTERS
+)
+
+
 class CallTable(ScrollView, can_focus=True):
     """The courses of the traverse, one per row, with a row cursor.
 
@@ -124,6 +136,10 @@ class CallTable(ScrollView, can_focus=True):
         Binding("end", "last", "Last course", show=False),
         Binding("left", "scroll_left", "Scroll left", show=False),
         Binding("right", "scroll_right", "Scroll right", show=False),
+        *(
+            Binding(key, f"start_call({char!r})", show=False, priority=True)
+            for char, key in _CALL_START_KEYS
+        ),
     ]
 
     COMPONENT_CLASSES = {
@@ -161,6 +177,15 @@ class CallTable(ScrollView, can_focus=True):
             super().__init__()
             self.index = index
             self.field = field
+
+    class CallStarted(Message):
+        """A character that is not a command was typed on the table: it begins a call, in the
+        course at ``index`` (0-based) if that one is blank, else in a new one after it."""
+
+        def __init__(self, index: int, character: str) -> None:
+            super().__init__()
+            self.index = index
+            self.character = character
 
     class StructureRequested(Message):
         """The user asked to add, insert, delete or move the course at ``index``."""
@@ -351,6 +376,12 @@ class CallTable(ScrollView, can_focus=True):
         if self._rows:
             self._send(self.EditRequested(self.current_index, field))
 
+    def action_start_call(self, character: str) -> None:
+        """A call typed on the table goes into a call, not into the table's commands (a
+        surveyor types the next call straight after Enter)."""
+        if self._rows:
+            self._send(self.CallStarted(self.current_index, character))
+
     def action_add_after(self) -> None:
         self._send(self.StructureRequested("insert", self.current_index + 1))
 
@@ -370,6 +401,24 @@ class CallInput(Input):
     """The call editor's text field: a paste that holds a whole description (several lines,
     or a ``thence``) is handed to the desk to be cut into courses instead of being cut to
     its first line."""
+
+    #: The (course index, field, editor session) the text belongs to, set by
+    #: :meth:`CallEditor.load`, and given to each change as it happens (a change is handled
+    #: after the editor may have moved to another course: it keeps the course it was typed in).
+    stamp: tuple[int, str, int] = (0, "call", 0)
+
+    #: Called at once with (stamp, value) on every change, instead of a Changed message
+    #: (set by :class:`CallEditor`): the document holds what the field shows as soon as it
+    #: shows it, so a key that acts on the document next sees the text typed before it.
+    on_edit: Callable[[tuple[int, str, int], str], None] | None = None
+
+    def post_message(self, message: Message) -> bool:
+        if isinstance(message, Input.Changed) and not self._is_prevented(Input.Changed):
+            if self.on_edit is not None:
+                self.on_edit(self.stamp, message.value)
+                return True
+            message.stamp = self.stamp  # type: ignore[attr-defined]
+        return super().post_message(message)
 
     class DescriptionPasted(Message):
         """A description was pasted into the call field."""
@@ -441,6 +490,9 @@ class CallEditor(Vertical):
         self.session = 0
         #: Called with Finished instead of posting it (the desk moves the focus at once).
         self.handler: Callable[[Message], None] | None = None
+        #: Called with Edited as the text changes, instead of posting it (the desk puts the
+        #: text in the document at once).
+        self.edited_handler: Callable[[CallEditor.Edited], None] | None = None
 
     def compose(self) -> ComposeResult:
         with Horizontal():
@@ -456,11 +508,23 @@ class CallEditor(Vertical):
         self.query_one("#editor-label", Label).update(
             f"Course {index + 1} · {FIELD_TITLES.get(field, field)}"
         )
-        box = self.query_one("#editor-input", Input)
+        box = self.query_one("#editor-input", CallInput)
+        box.stamp = (index, field, session)
         box.placeholder = FIELD_EXAMPLES.get(field, "")
         with box.prevent(Input.Changed):
             box.value = value
         box.cursor_position = len(value)
+
+    def on_mount(self) -> None:
+        self.query_one("#editor-input", CallInput).on_edit = self._edited_now
+
+    def _edited_now(self, stamp: tuple[int, str, int], value: str) -> None:
+        index, field, session = stamp
+        message = self.Edited(index, field, value, session)
+        if self.edited_handler is not None:
+            self.edited_handler(message)
+        else:
+            self.post_message(message)
 
     def show_message(self, text: str, *, hold: bool = False) -> None:
         """Show the parser's (or another) message under the editor; ``""`` clears it.
@@ -473,7 +537,8 @@ class CallEditor(Vertical):
 
     def on_input_changed(self, event: Input.Changed) -> None:
         event.stop()
-        self.post_message(self.Edited(self.index, self.field, event.value, self.session))
+        index, field, session = getattr(event, "stamp", (self.index, self.field, self.session))
+        self.post_message(self.Edited(index, field, event.value, session))
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
         event.stop()
