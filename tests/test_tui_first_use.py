@@ -204,7 +204,7 @@ async def test_a_new_document_starts_with_the_cursor_in_the_call():
         await pilot.press(*"N 45 E 20 perches to a white oak")
         await settle(pilot)
         assert [c["call"] for c in app.workspace.courses] == ["N 45 E 20 perches to a white oak"]
-        await pilot.press("enter")  # back to the table: now letters are commands
+        await pilot.press("enter")  # back to the table: now a b e f i n x are commands
         assert isinstance(app.focused, CallTable)
         assert "call table" in keyboard_text(app)
         await pilot.press("a", *"S 45 E 20 perches")  # a adds a course, the text goes in it

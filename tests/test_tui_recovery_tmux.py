@@ -109,7 +109,7 @@ def _open_course_1(desk: Desk) -> None:
             if "New document (F5)" in screen:
                 desk.keys("Escape")
                 asked_at = time.monotonic()
-            elif "call table: letters are commands" in screen:
+            elif "call table: a call typed here is a new course" in screen:
                 desk.keys("Enter")
                 asked_at = time.monotonic()
         time.sleep(0.1)

@@ -216,7 +216,7 @@ class Desk(Screen):
     def show_keyboard(self, widget: Widget | None) -> None:
         """Say in the footer which pane has the keyboard and what the keys do there."""
         if isinstance(widget, CallTable):
-            text = "⌨ call table: letters are commands (Enter edits)"
+            text = "⌨ call table: a call typed here is a new course"
         elif widget is not None and widget.id == "editor-input":
             editor = self.query_one(CallEditor)
             what = FIELD_TITLES.get(editor.field, editor.field)
