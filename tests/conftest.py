@@ -18,6 +18,9 @@ from hypothesis import HealthCheck, settings
 
 # Models kept in binary form go to a folder of the test run, not the user's cache folder.
 os.environ.setdefault("LODELINE_CACHE", tempfile.mkdtemp(prefix="lodeline-cache-"))
+# Recovery copies and the error log of the desks the tests open go there too (a test that
+# checks the folders of its own sets LODELINE_STATE itself).
+os.environ.setdefault("LODELINE_STATE", tempfile.mkdtemp(prefix="lodeline-state-"))
 
 settings.register_profile("ci", deadline=None)
 settings.register_profile(
