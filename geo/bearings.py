@@ -62,6 +62,7 @@ import numpy as np
 
 from .angles import normalize_azimuth
 from .errors import InputError, ParseError
+from .frozen import quick_init
 
 DEGREE = 1.0
 MINUTE = 1.0 / 60.0
@@ -716,7 +717,8 @@ def _num(value: Fraction) -> str:
 Style = Literal["quadrant", "azimuth", "cardinal"]
 
 
-@dataclass(frozen=True)
+@quick_init
+@dataclass(frozen=True, slots=True)
 class Bearing:
     """A bearing or azimuth as read from a call.
 

@@ -62,6 +62,7 @@ from .bearings import (
     starts_bearing,
 )
 from .errors import InputError, LodelineError, ParseError
+from .frozen import quick_init
 from .units import (
     UNIT_ALIASES,
     UNIT_LABELS,
@@ -76,7 +77,8 @@ _UNIT_WORDS = frozenset(UNIT_ALIASES)
 _METRIC_METRES = {"m": 1, "km": 1000}
 
 
-@dataclass(frozen=True)
+@quick_init
+@dataclass(frozen=True, slots=True)
 class Distance:
     """A distance read from text.
 
@@ -94,7 +96,8 @@ class Distance:
 CallKind = Literal["bearing_and_distance", "bearing_only", "distance_only"]
 
 
-@dataclass(frozen=True)
+@quick_init
+@dataclass(frozen=True, slots=True)
 class Call:
     """One call of a deed: ``bearing`` and/or ``distance``, the ``note`` that follows them
     (``''`` if none), ``kind`` ('bearing_and_distance', 'bearing_only', 'distance_only') and
@@ -678,40 +681,52 @@ def _quick_call(
     m = _QUICK_CALL.fullmatch(text)
     if m is None:
         return None
-    note = m["note"]
-    if note is not None and (
-        m["w"].casefold() not in _QUICK_NOTE_WORDS or "thence" in note.casefold()
-    ):
+    (bearing_text, ns, d, dm, mi, mm, se, sm, ew, distance_text, v, u, v2, u2, note, w) = m.groups()
+    if note is not None and (w.casefold() not in _QUICK_NOTE_WORDS or "thence" in note.casefold()):
         return None
-    marks = (m["dm"], m["mm"], m["sm"])
-    parts = [int(m["d"])] + [int(v) for v in (m["m"], m["s"]) if v is not None]
-    level = len(parts) - 1
-    if any(p >= 60 for p in parts[1:]) or (marks[level] is None and any(marks[:level])):
-        return None  # 60 minutes, or "45° 30 E": the general reader says what it makes of it
-    seconds = parts[0] * 3600 + (parts[1] * 60 if level else 0) + (parts[2] if level == 2 else 0)
+    # 60 minutes, or a mark left off the last part only ("45° 30 E"): the general reader
+    # says what it makes of it
+    seconds = int(d) * 3600
+    if mi is None:
+        level = 0
+    else:
+        minutes = int(mi)
+        if minutes >= 60:
+            return None
+        seconds += minutes * 60
+        if se is None:
+            level = 1
+            if mm is None and dm is not None:
+                return None
+        else:
+            level = 2
+            secs = int(se)
+            if secs >= 60 or (sm is None and (dm is not None or mm is not None)):
+                return None
+            seconds += secs
     if seconds > 90 * 3600:
         return None
-    quadrant = m["ns"] + m["ew"]
+    quadrant = ns + ew
     base, sign = _QUADRANT_TURN[quadrant]
     bearing = Bearing(
         in_range((base * 3600 + sign * seconds) / 3600),
         "quadrant",
         _QUICK_STEPS[level],
-        m["bearing"],
+        bearing_text,
         quadrant,
         seconds / 3600,
     )
-    unit = UNIT_ALIASES.get(m["u"])
+    unit = UNIT_ALIASES.get(u)
     if unit is None:
         return None
     # the length in the unit, exactly: num / den (int / int is the correctly rounded double
     # of the exact ratio, reduced or not, as the general reader's Fraction arithmetic gives)
-    whole, _, decimals = m["v"].partition(".")
+    whole, _, decimals = v.partition(".")
     num, den = int(whole + decimals), 10 ** len(decimals)
-    if m["u2"] is not None:
-        if unit != "chain" or UNIT_ALIASES.get(m["u2"]) != "link":
+    if u2 is not None:
+        if unit != "chain" or UNIT_ALIASES.get(u2) != "link":
             return None
-        links = int(m["v2"])
+        links = int(v2)
         if links >= 100:
             return None
         num, den = num * 100 + links * den, den * 100
@@ -722,7 +737,7 @@ def _quick_call(
     except LodelineError:
         return None
     metres = (num * per.numerator) / (den * per.denominator)
-    distance = Distance(metres, num / den, unit, m["distance"])
+    distance = Distance(metres, num / den, unit, distance_text)
     note_text = "" if note is None else note.strip().rstrip(",;").strip()
     return Call(bearing, distance, note_text, "bearing_and_distance", text)
 

@@ -135,6 +135,7 @@ from .angles import normalize_azimuth
 from .bearings import parse_bearing
 from .calls import parse_call, parse_distance
 from .errors import DocumentError, LodelineError
+from .frozen import quick_init
 from .omitted import has_unknown
 
 __all__ = [
@@ -765,7 +766,8 @@ def _base_text(path: Path, base: str | os.PathLike[str] | None) -> str | None:
 # --------------------------------------------------------------------------------------------
 
 
-@dataclass(frozen=True)
+@quick_init
+@dataclass(frozen=True, slots=True)
 class RecordedCourse:
     """One course parsed into numbers, in the document's recorded reference.
 

@@ -52,6 +52,7 @@ import numpy as np
 
 from .document import Document, RecordedCourse, parse_courses
 from .errors import DocumentError, LodelineError, ModelRangeError
+from .frozen import quick_init
 from .notes import Note, messages
 
 __all__ = [
@@ -67,7 +68,8 @@ __all__ = [
 _DERIVED_PRECISION_DEG = 1.0 / 60.0
 
 
-@dataclass(frozen=True)
+@quick_init
+@dataclass(frozen=True, slots=True)
 class Station:
     """A station of the traverse.
 
@@ -83,7 +85,8 @@ class Station:
     northing: float
 
 
-@dataclass(frozen=True)
+@quick_init
+@dataclass(frozen=True, slots=True)
 class References:
     """One value per north reference (azimuth degrees, or bearing text).
 
@@ -140,7 +143,8 @@ class CoursePath:
         return np.interp(x, self.along_m, self.easting), np.interp(x, self.along_m, self.northing)
 
 
-@dataclass(frozen=True)
+@quick_init
+@dataclass(frozen=True, slots=True)
 class CourseConversion:
     """One course in every north reference, with what was used to convert it.
 

@@ -7,6 +7,7 @@ and the indented one must read back to the same object, the indented one being e
 
 from __future__ import annotations
 
+import io
 import json
 import math
 from pathlib import Path
@@ -56,3 +57,26 @@ def test_numpy_values_and_non_finite_floats():
         }
     # the one-line text is compact (no space after ":" and ","), as RFC 8259 allows
     assert json_text(bad) == '{"x":null,"y":[1.0,null],"z":[null,2.0]}'
+
+
+def test_the_one_line_json_is_the_same_on_every_kind_of_standard_output(monkeypatch):
+    """The JSON goes to a UTF-8 standard output's byte buffer as written, after what was
+    printed before it; a text-only output, or one in another encoding, gets the same text."""
+    obj = {"title": "Glebe of Wrenfield — 1911", "x": [1.5, math.nan], "n": np.int64(3)}
+    expected = json_text(obj) + "\n"
+    from lodeline.tui.commands.common import print_json
+
+    for encoding in ("utf-8", "latin-1"):
+        raw = io.BytesIO()
+        out = io.TextIOWrapper(raw, encoding=encoding, errors="replace", newline="")
+        monkeypatch.setattr("sys.stdout", out)
+        out.write("before\n")
+        print_json(obj)
+        out.flush()
+        text = raw.getvalue().decode(encoding, errors="replace")
+        kept = expected.encode(encoding, errors="replace").decode(encoding)
+        assert text == "before\n" + kept
+    plain = io.StringIO()
+    monkeypatch.setattr("sys.stdout", plain)
+    print_json(obj)
+    assert plain.getvalue() == expected
