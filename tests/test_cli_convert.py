@@ -177,3 +177,22 @@ def test_a_one_shot_command_puts_off_full_collections_and_restores_the_collector
     assert cli.main(["convert", "/nonexistent/deed.toml"]) == 2
     assert gc.get_threshold() == before and gc.get_freeze_count() == 0
     capsys.readouterr()
+
+
+def test_the_programs_own_run_leaves_the_collector_frozen_for_its_exit(monkeypatch, capsys):
+    # main() without arguments is the lodeline command itself, which ends right after: what
+    # is left stays frozen so the interpreter's last full pass skips it (CPython's gc module:
+    # frozen objects are ignored by collections); the output is the same as a call's.
+    import gc
+
+    from lodeline.tui import cli
+
+    assert cli.main(["convert", str(DEMOS[0]), "--json"]) == 0
+    expected = capsys.readouterr().out
+    monkeypatch.setattr(sys, "argv", ["lodeline", "convert", str(DEMOS[0]), "--json"])
+    try:
+        assert cli.main() == 0
+        assert gc.get_freeze_count() > 0
+    finally:
+        gc.unfreeze()
+    assert capsys.readouterr().out == expected

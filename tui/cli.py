@@ -64,7 +64,11 @@ def build_parser(only: str | None = None) -> argparse.ArgumentParser:
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    """Entry point of the ``lodeline`` console script; returns the exit status."""
+    """Entry point of the ``lodeline`` console script; returns the exit status.
+
+    ``argv`` ``None`` is the program's own run (the arguments of ``sys.argv``; the process
+    ends right after, see :func:`_freeze_for_exit`); a list is a call from Python (tests),
+    which gets its collector back as it was."""
     from lodeline.geo.errors import LodelineError
 
     args_list = list(sys.argv[1:] if argv is None else argv)
@@ -103,7 +107,9 @@ def main(argv: Sequence[str] | None = None) -> int:
         return 1
     finally:
         sys.stdout = stdout._stream
-        if collector is not None:
+        if collector is not None and argv is None:
+            _freeze_for_exit()
+        elif collector is not None:
             _restore_collector(collector)
 
 
@@ -127,6 +133,20 @@ def _one_shot_collector() -> tuple[int, int, int]:
     gc.freeze()
     gc.set_threshold(*ONE_SHOT_GC_THRESHOLDS)
     return before
+
+
+def _freeze_for_exit() -> None:
+    """End the program's own run of a one-shot command (``main()`` called without
+    arguments, as the ``lodeline`` command and ``python -m lodeline`` call it; the process
+    ends right after): what is left is frozen, so the interpreter's last full pass of the
+    collector, made as it shuts down, does not walk every object the command kept (half a
+    second after a 50,000-course ``convert --json``, against 0.06 s for the rest of the
+    shutdown). Objects are still freed as the modules are; the outputs were written and
+    closed by then (every file goes through :mod:`geo.atomic`, standard output is flushed
+    above)."""
+    import gc
+
+    gc.freeze()
 
 
 def _restore_collector(thresholds: tuple[int, int, int]) -> None:
