@@ -276,7 +276,8 @@ def test_not_utf8_late_in_the_file_is_named_before_a_bad_row(capsys, tmp_path, m
 
 cell = st.sampled_from(
     ["1", "-1.5", " 2 ", "", "x", "1e5", "+.5", "1.", "nan", "Infinity", "1_0", "\u0662", "9e9",
-     "180.000001", "360", "-180", "90", "-90.1", "1,5", " ", "0x10"]
+     "180.000001", "360", "-180", "90", "-90.1", "1,5", " ", "0x10", "1e", "+-1", "-NaN",
+     "4\x1c", "\t3", "infinit", "1e999", "1.5E+2", "."]
 )  # fmt: skip
 date_cell = st.sampled_from(
     ["2000-01-01", "2000-1-1", " 2000-02-29 ", "2001-02-29", "2025.5", "1899", "0001-01-01",
@@ -285,7 +286,7 @@ date_cell = st.sampled_from(
 
 
 @settings(
-    max_examples=40, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+    max_examples=60, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
 )
 @given(rows=st.lists(st.tuples(cell, cell, cell, date_cell), min_size=1, max_size=30))
 def test_masks_accept_exactly_what_the_row_by_row_reading_accepts(capsys, tmp_path, rows):

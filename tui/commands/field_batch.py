@@ -16,6 +16,7 @@ counts as a bad row where it stands), then the first date no model covers.
 
 from __future__ import annotations
 
+import contextlib
 import csv
 import io
 import itertools
@@ -37,10 +38,12 @@ CHUNK_ROWS = 50_000
 #: Distinct date texts remembered (a file of decimal years has one per row).
 _DATE_MEMORY = 200_000
 
-#: A column of numbers as :data:`tui.commands.field._NUMBER` reads one, cells joined by commas
-#: (atomic groups: no backtracking over a long column; "infinity" tried before "inf").
-_NUM = r"\s*+[+-]?+(?>(?>\d+\.?\d*|\.\d+)(?>[eE][+-]?\d+)?|infinity|inf|nan)\s*+"
-_NUMBER_COLUMN = re.compile(rf"(?:{_NUM},)*+{_NUM}", re.ASCII | re.I)
+#: Every character a column of numbers may hold when each cell reads as
+#: :data:`tui.commands.field._NUMBER` reads it: ASCII digits, sign, point, exponent, the letters
+#: of nan, inf and infinity, ASCII white space, and the commas between the cells. Within these,
+#: Python's ``float`` reads exactly what that pattern reads (no underscore, no other digit or
+#: space), so a column made of them only is read by ``float`` alone.
+_NUMBER_BYTES = b"0123456789+-.eE" + b"nNaAiIfFtTyY" + b" \t\n\r\f\v,"
 #: The common ISO form numpy's datetime parsing reads (years 0001-9998, ASCII digits).
 _PLAIN_ISO = re.compile(r"(?!0000|9999)\d{4}-\d\d-\d\d", re.ASCII)
 _PLAIN_ISO_COLUMN = re.compile(
@@ -194,13 +197,20 @@ def _numbers(
 ) -> tuple[np.ndarray, np.ndarray]:
     """A column of number texts as floats and a mask of the cells that read as a finite
     number (``blank``: the value of an empty cell, else an empty cell is bad)."""
-    stripped = list(map(str.strip, cells))
-    joined = ",".join(stripped)
-    if joined.count(",") == len(stripped) - 1 and _NUMBER_COLUMN.fullmatch(joined):
-        values = np.array(list(map(float, stripped)), dtype=float)
-    else:
+    joined = ",".join(cells)
+    values = None
+    if (
+        joined.count(",") == len(cells) - 1
+        and joined.isascii()
+        and not joined.encode("ascii").translate(None, _NUMBER_BYTES)
+    ):
+        # an empty cell, "1e", "+-1"…: read cell by cell below
+        with contextlib.suppress(ValueError):
+            values = np.array(list(map(float, cells)), dtype=float)
+    if values is None:
         from .field import _NUMBER
 
+        stripped = list(map(str.strip, cells))
         values = np.array(
             [
                 float(s)
