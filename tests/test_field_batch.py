@@ -12,6 +12,7 @@ from __future__ import annotations
 import csv
 import io
 import os
+import tempfile
 from pathlib import Path
 
 import numpy as np
@@ -347,3 +348,31 @@ def test_formatting_in_a_worker_writes_the_same_bytes(capsys, tmp_path, monkeypa
     code, there, err = run(capsys, "field", "--csv", src, "--skip-bad")  # one row in the last chunk
     want_out, want_err = reference(str(src), skip_bad=True)
     assert code == 0 and err.splitlines() == want_err and _numbers_equal(there, want_out)
+
+
+@pytest.mark.skipif((os.cpu_count() or 1) < 2, reason="the helper runs on a second core")
+def test_a_helper_that_ends_before_its_work_changes_nothing(capsys, tmp_path, monkeypatch):
+    # The helper takes its first job and ends without an answer (as if killed): the command
+    # does that job itself and goes on alone, with the bytes of the row-by-row reading.
+    monkeypatch.setattr(batch, "CHUNK_ROWS", 6)
+    monkeypatch.setattr(batch, "_idle_cores", lambda since: 1.0)
+    src = _write(tmp_path / "in.csv", _mixed_rows(12, 95))
+    want_out, want_err = reference(str(src), skip_bad=True)
+
+    def ends_at_once(conn, folder):
+        conn.recv()
+        os._exit(0)
+
+    gone = []
+    real = batch._Writer._helper_gone
+
+    def recorded(self):
+        gone.append(len(self._jobs))
+        real(self)
+
+    monkeypatch.setattr(batch, "_serve", ends_at_once)
+    monkeypatch.setattr(batch._Writer, "_helper_gone", recorded)
+    code, out, err = run(capsys, "field", "--csv", src, "--skip-bad")
+    assert code == 0 and err.splitlines() == want_err and _numbers_equal(out, want_out)
+    assert gone == [1]  # one job left undone by the helper, done here
+    assert not list(Path(tempfile.gettempdir()).glob("lodeline-field-*"))

@@ -1,9 +1,9 @@
 """``lodeline field --csv``: the batch, read, checked, computed and written a chunk at a time.
 
 The file is read :data:`CHUNK_ROWS` lines at a time. In a chunk every column is parsed at
-once (numbers by one pattern over the whole column and one conversion, dates once per distinct
-text, ISO dates by numpy's datetime parsing), every check is an array mask, the field is one
-:func:`geo.magnetic.field_at` call, and the output is formatted column by column. Only a row
+once (numbers by one check of the column's characters and one conversion, dates once per
+distinct text, ISO dates by numpy's datetime parsing), every check is an array mask, the field
+is one :func:`geo.magnetic.field_at` call, and the output is formatted column by column. Only a row
 that a mask flags goes through the per-row check (:func:`_row_error`), which gives the same
 one-line message, naming the line and column, as reading row by row would. Memory holds one
 chunk: the output goes to a temporary file put in place at the end (all-or-nothing, as the
@@ -20,6 +20,7 @@ import contextlib
 import csv
 import io
 import itertools
+import os
 import re
 import sys
 import tempfile
@@ -388,83 +389,173 @@ def _compute(inputs: tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, str])
 
 
 def _computed_lines(inputs: tuple, prefix: list[str]) -> str:
-    """The output lines of one chunk, computed and formatted (the worker's whole job)."""
+    """The output lines of one chunk, computed and formatted (the helper's usual job)."""
     return _format(_payload(_compute(inputs), 0, len(prefix)), prefix)
 
 
-class _Writer:
-    """Computes and formats the checked chunks and writes them in order. From the first
-    full chunk on, when the machine has a core to spare (several cores, and on average half a
-    core or more left idle while this process read and computed the first chunk), one
-    worker process shares the work: a full chunk goes to the worker, computed and formatted
-    there, whenever the worker is free, and is computed and formatted here otherwise (while
-    this process reads and checks the next chunks), so the two share the work as their
-    speeds allow; at most two chunks wait for the worker, so memory stays bounded. The first
-    chunk is computed here (the worker is forked with the model loaded) and formatted there;
-    the last one is computed here and its formatting shared. Each chunk is one
-    ``field_at`` call wherever it runs, so the bytes are the same with or without the
-    worker. Without a core to spare everything runs here (the worker costs about a tenth
-    more work in all: fork, passing the chunk and the text)."""
+def _serve(conn: Any, folder: str) -> None:
+    """The helper process: take jobs from ``conn`` until ``None``; each job's text goes to a
+    file of ``folder`` and only its number comes back (a small message never waits for the
+    command's process to read it, so the helper is free again at once)."""
+    try:
+        while (job := conn.recv()) is not None:
+            number, kind, data, prefix = job
+            text = _computed_lines(data, prefix) if kind == "lines" else _format(data, prefix)
+            with open(
+                os.path.join(folder, f"{number}.txt"), "w", encoding="utf-8", newline=""
+            ) as fh:
+                fh.write(text)
+            conn.send(number)
+    except (EOFError, OSError, KeyboardInterrupt):
+        pass
+    finally:
+        os._exit(0)  # nothing of the command's own state to tear down here
 
-    def __init__(self, sink: _Sink) -> None:
+
+class _Writer:
+    """Computes and formats the checked chunks and writes them in order, sharing the work
+    with one helper process when the machine has a core to spare.
+
+    The helper is forked as the run starts (while the process is still small, so the pages
+    both share are few) for a file of more than a chunk on a machine of several cores, and
+    kept when, on average, half a core or more stayed idle while the first chunk was read and
+    checked (``/proc/stat``); otherwise it is stopped and everything runs here (sharing costs
+    about a tenth more work in all: passing the chunk and reading back its text). Whenever the
+    helper is free it takes the next full chunk, computed and formatted there; otherwise the
+    chunk is computed and formatted here, while the helper works. The last chunk is computed
+    here and its formatting shared when the helper is free. Jobs go down a pipe; each result
+    comes back as a file of a private temporary folder and a job number, read when its turn
+    to be written comes. At most one job is at the helper, so memory stays bounded by the
+    chunk. Each chunk is one ``field_at`` call wherever it runs, so the bytes are the same
+    with or without the helper; a job the helper did not finish (it was killed) is done here.
+    """
+
+    def __init__(self, sink: _Sink, size: int) -> None:
         self._sink = sink
-        self._pool: Any = None
-        self._pending: list[Any] = []
+        self._pool: Any = None  # (process, connection, folder) of the helper, or None
+        self._pending: list[Any] = []  # in output order: text, or a job number at the helper
+        self._jobs: dict[int, tuple[str, Any, list[str]]] = {}  # at the helper, kept for a retry
+        self._done: set[int] = set()
         self._chunks = 0
-        self._cpu_at_start = _cpu_times()  # while the first chunk is read and computed here
+        self._cpu_at_start = _cpu_times()  # while the first chunk is read and checked
+        if size > CHUNK_ROWS * 40:  # more than a chunk of short lines
+            self._start()
 
     def write(self, inputs: tuple, prefix: list[str], full: bool) -> None:
         """Compute, format and write the rows of one chunk (``inputs``: see
         :func:`_compute`; ``full``: a chunk of CHUNK_ROWS lines, so more may follow)."""
         self._chunks += 1
+        if self._chunks == 1 and self._pool is not None and not self._spare_core():
+            self.close()
+        self._collect(wait=False)
+        free = self._pool is not None and not self._jobs
         n = len(prefix)
-        busy = any(not isinstance(p, str) and not p.done() for p in self._pending)
-        if self._pool is not None and full and not busy:
-            self._pending.append(self._pool.submit(_computed_lines, inputs, prefix))
-        else:
+        if free and full:
+            self._send("lines", inputs, prefix)
+        elif free and n > 1:  # the last chunk: computed here, its formatting shared
             result = _compute(inputs)
-            if self._pool is None and full and self._chunks == 1:
-                self._start()
-            if self._pool is None or (full and busy):
-                self._pending.append(_format(_payload(result, 0, n), prefix))
-            else:  # the first chunk (the worker free) or the last (shared)
-                half = n if full else n // 2
-                if half:
-                    job = self._pool.submit(_format, _payload(result, 0, half), prefix[:half])
-                    self._pending.append(job)
-                if half < n:
-                    self._pending.append(_format(_payload(result, half, n), prefix[half:]))
-        while self._pending and (
-            isinstance(self._pending[0], str) or self._pending[0].done() or len(self._pending) > 2
-        ):
-            item = self._pending.pop(0)
-            self._sink.write(item if isinstance(item, str) else item.result())
-
-    def _start(self) -> None:
-        import multiprocessing
-        import os
-
-        cores = os.cpu_count() or 1
-        if cores < 2 or "fork" not in multiprocessing.get_all_start_methods():
-            return
-        idle = _idle_cores(self._cpu_at_start)
-        if idle is not None and idle < 0.5:  # a worker gains only on a core left idle
-            return
-        from concurrent.futures import ProcessPoolExecutor
-
-        self._pool = ProcessPoolExecutor(1, mp_context=multiprocessing.get_context("fork"))
+            half = n // 2
+            self._send("format", _payload(result, 0, half), prefix[:half])
+            self._pending.append(_format(_payload(result, half, n), prefix[half:]))
+        else:
+            self._pending.append(_computed_lines(inputs, prefix))
+        self._drain(wait=len(self._pending) > 2)
 
     def finish(self) -> None:
         """Write what is still being formatted."""
-        while self._pending:
-            item = self._pending.pop(0)
-            self._sink.write(item if isinstance(item, str) else item.result())
+        self._drain(wait=True)
 
     def close(self) -> None:
-        """Stop the worker (what it had not finished is dropped)."""
-        if self._pool is not None:
-            self._pool.shutdown(wait=True, cancel_futures=True)
-            self._pool = None
+        """Stop the helper and remove its folder (what it had not finished is dropped)."""
+        if self._pool is None:
+            return
+        import shutil
+
+        process, conn, folder = self._pool
+        self._pool = None
+        with contextlib.suppress(OSError):  # the helper gone already
+            conn.send(None)
+        process.join(timeout=5)
+        if process.is_alive():
+            process.kill()
+            process.join()
+        conn.close()
+        shutil.rmtree(folder, ignore_errors=True)
+
+    def _start(self) -> None:
+        import multiprocessing
+
+        if (os.cpu_count() or 1) < 2 or "fork" not in multiprocessing.get_all_start_methods():
+            return
+        folder = tempfile.mkdtemp(prefix="lodeline-field-")
+        context = multiprocessing.get_context("fork")
+        ours, theirs = context.Pipe()
+        process = context.Process(target=_serve, args=(theirs, folder), daemon=True)
+        process.start()
+        theirs.close()
+        self._pool = (process, ours, folder)
+
+    def _spare_core(self) -> bool:
+        idle = _idle_cores(self._cpu_at_start)
+        return idle is None or idle >= 0.5  # the helper gains only on a core left idle
+
+    def _send(self, kind: str, data: Any, prefix: list[str]) -> None:
+        number = self._chunks
+        self._jobs[number] = (kind, data, prefix)
+        self._pending.append(number)
+        try:
+            self._pool[1].send((number, kind, data, prefix))
+        except OSError:  # the helper has gone: its jobs are done here
+            self._collect(wait=True)
+
+    def _collect(self, *, wait: bool) -> None:
+        """Take the job numbers the helper has sent back (all of them with ``wait``)."""
+        while self._jobs and self._pool is not None:
+            conn = self._pool[1]
+            try:
+                if not wait and not conn.poll():
+                    return
+                number = conn.recv()
+            except (EOFError, OSError):
+                self._helper_gone()
+                return
+            del self._jobs[number]
+            self._done.add(number)
+
+    def _helper_gone(self) -> None:
+        """The helper has ended before its work (killed): what it finished is read, what it
+        had not is done here, and the rest of the run goes without it."""
+        for at, item in enumerate(self._pending):
+            if isinstance(item, int):
+                self._pending[at] = self._text_of(item)
+        self._jobs.clear()
+        self.close()
+
+    def _text_of(self, number: int) -> str:
+        """The text of job ``number``: from the helper's file, or made here if it has none."""
+        if number in self._done:
+            self._done.discard(number)
+            path = os.path.join(self._pool[2], f"{number}.txt")
+            with open(path, encoding="utf-8", newline="") as fh:
+                text = fh.read()
+            os.remove(path)
+            return text
+        kind, data, prefix = self._jobs[number]
+        return _computed_lines(data, prefix) if kind == "lines" else _format(data, prefix)
+
+    def _drain(self, *, wait: bool) -> None:
+        """Write the leading texts that are ready (waiting for the helper with ``wait``)."""
+        while self._pending:
+            item = self._pending[0]
+            if isinstance(item, int):
+                if item not in self._done:
+                    if not wait:
+                        return
+                    self._collect(wait=True)
+                    continue  # now done, or made here (the helper gone)
+                item = self._text_of(item)
+            self._pending.pop(0)
+            self._sink.write(item)
 
 
 def _checked(
@@ -561,7 +652,7 @@ def _chunks(
     range_error: LodelineError | None = None  # the first date no model covers
     head = io.StringIO()
     csv.writer(head, lineterminator="\n").writerow(header + list(RESULT_KEYS[4:]))
-    writer = _Writer(sink)
+    writer = _Writer(sink, os.path.getsize(path))
     try:
         sink.write(head.getvalue())
         with progress:
