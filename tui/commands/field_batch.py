@@ -35,7 +35,7 @@ from lodeline.geo.float_text import reprs
 from .field import CSV_INPUT, RESULT_KEYS, _date, _malformed, _number
 
 #: Lines of the file read, checked, computed and written together.
-CHUNK_ROWS = 50_000
+CHUNK_ROWS = 20_000
 #: Distinct date texts remembered (a file of decimal years has one per row).
 _DATE_MEMORY = 200_000
 
