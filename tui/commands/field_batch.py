@@ -233,20 +233,9 @@ def _decimal_years(cells: list[str]) -> dict[str, float]:
         plain = cells
     else:
         plain = [c for c in cells if _PLAIN_ISO.fullmatch(c)]
-    if plain:
-        try:
-            days = np.array(plain, dtype="datetime64[D]")
-        except ValueError:  # a day that does not exist: read one by one below
-            plain = []
-        else:
-            year = days.astype("datetime64[Y]")
-            start = year.astype("datetime64[D]")
-            length = (year + 1).astype("datetime64[D]") - start
-            # as geo.dates.decimal_year: year + (day of year - 1) / days in the year
-            value = (year.astype(np.int64) + 1970) + (days - start).astype(
-                np.int64
-            ) / length.astype(np.int64)
-            out.update(zip(plain, value.tolist(), strict=True))
+    value = _plain_iso_years(plain) if plain else None
+    if value is not None:
+        out.update(zip(plain, value.tolist(), strict=True))
     for c in cells:
         if c not in out:
             try:
@@ -254,6 +243,22 @@ def _decimal_years(cells: list[str]) -> dict[str, float]:
             except LodelineError:
                 out[c] = float("nan")
     return out
+
+
+def _plain_iso_years(cells: Any) -> np.ndarray | None:
+    """The decimal years of date texts that each match ``_PLAIN_ISO``, as
+    :func:`geo.dates.decimal_year` gives them (year + (day of year - 1) / days in the year),
+    by numpy's datetime parsing; ``None`` when one of them is a day that does not exist."""
+    try:
+        days = np.array(cells, dtype="datetime64[D]")
+    except ValueError:  # 2001-02-29: read one by one by the caller
+        return None
+    year = days.astype("datetime64[Y]")
+    start = year.astype("datetime64[D]")
+    length = (year + 1).astype("datetime64[D]") - start
+    return (year.astype(np.int64) + 1970) + (days - start).astype(np.int64) / length.astype(
+        np.int64
+    )
 
 
 class _Sink:
@@ -576,10 +581,15 @@ def _checked(
     cells = chunk.columns[col["date"]]
     if len(dates) > _DATE_MEMORY:
         dates.clear()
-    new = [c for c in dict.fromkeys(cells) if c not in dates]
-    if new:
-        dates.update(_decimal_years(new))
-    year = np.fromiter(map(dates.__getitem__, cells), float, n)
+    distinct = dict.fromkeys(cells)
+    year = None
+    if len(distinct) > n // 4 and _PLAIN_ISO_COLUMN.fullmatch("\n".join(cells)):
+        year = _plain_iso_years(cells)  # dates mostly each its own: the column at once
+    if year is None:
+        new = [c for c in distinct if c not in dates]
+        if new:
+            dates.update(_decimal_years(new))
+        year = np.fromiter(map(dates.__getitem__, cells), float, n)
     ok = chunk.count_ok & ok_lat & ok_lon & ok_h & np.isfinite(year)
     ok &= position_ok(*(np.where(ok, v, 0.0) for v in (lat, lon, height)))
     return lat, lon, height, year, ok
