@@ -582,6 +582,7 @@ async def test_a_new_document_from_the_start_screen_types_saves_and_reopens(tmp_
         await settle(pilot)
         assert not isinstance(app.screen, StartScreen)
         assert app.focused.id == "editor-input"  # the cursor in the first call
+        assert "typing the call of course 1" in keyboard_text(app)  # and the footer says so
         await pilot.press(*"N 45 E 20 perches to a white oak", "enter", "a")
         await pilot.press(*"S 45 E 20 perches", "enter")
         await settle(pilot)

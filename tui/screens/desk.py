@@ -296,7 +296,7 @@ class Desk(Screen):
             editor.load(
                 index, editor.field, self._field_text(courses[index], editor.field), session
             )
-            self.show_keyboard(self.app.focused)
+            self.show_keyboard(self.focused)
 
     def schedule_recompute(self) -> None:
         """Recompute once typing pauses (see :data:`DEBOUNCE_S`)."""
@@ -532,7 +532,7 @@ class Desk(Screen):
         editor.load(index, field, self._field_text(courses[index], field), self._editor_session)
         self._show_row_message()
         editor.focus_input()
-        self.show_keyboard(self.app.focused)
+        self.show_keyboard(self.focused)
 
     def on_call_table_call_started(self, event: CallTable.CallStarted) -> None:
         """A call typed on the table: it goes into the course under the cursor when that one
@@ -681,7 +681,7 @@ class Desk(Screen):
             self.side = name
         target = {"job": "#job Input", "calls": "#table", "findings": "#findings"}[name]
 
-        if name == "job" and self.query_one(JobForm) in getattr(self.app.focused, "ancestors", ()):
+        if name == "job" and self.query_one(JobForm) in getattr(self.focused, "ancestors", ()):
             return  # already in the form: keep the field
         widget = self.query(target).first()
         self.set_focus(widget, scroll_visible=False)
