@@ -660,6 +660,8 @@ def corner_features(
     (``kind`` = ``"corner"``, with ``status``, ``method``, ``run``, grid coordinates and the
     call's words); an empty list when nothing is found (the stations are the record).
     Coordinates are rounded to ``decimals`` (8: about a millimetre)."""
+    if not any(c.found is not None for c in conv.courses):
+        return []  # no corner beyond the beginning is found or held: nothing to restore
     res = restore_document(conv, method=method)
     if not any(c.status in ("found", "held") for c in res.corners if c.index > 0):
         return []

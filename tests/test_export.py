@@ -263,3 +263,30 @@ def test_export_errors_exit_2(capsys, tmp_path):
     assert status == 2 and "open" in err and not (tmp_path / "a.geojson").exists()
     status, _, err = run(capsys, "export", CRUISE)
     assert status == 2 and "nothing to export" in err
+
+
+def test_geojson_text_holds_the_numbers_the_standard_library_writes_and_refuses_a_bad_one():
+    # Reference: Python's json module on the same collection (every number read back equal).
+    conv = convert_file(DEMOS[0])
+    collection = geojson_collection(conv)
+    text = geojson_text(collection)
+    assert json.loads(text) == json.loads(json.dumps(collection, ensure_ascii=False))
+    assert text.count("\n") == len(collection) + len(collection["features"]) + 3  # a line each
+    broken = {**collection, "features": [dict(f) for f in collection["features"]]}
+    point = next(k for k, f in enumerate(broken["features"]) if f["geometry"]["type"] == "Point")
+    broken["features"][point] = {
+        **broken["features"][point],
+        "geometry": {"type": "Point", "coordinates": [math.nan, 44.0]},
+    }
+    with pytest.raises(ValueError, match=f"feature {point}: a coordinate is not a finite"):
+        geojson_text(broken)
+    ring = broken["features"][0]["geometry"]["coordinates"]
+    if broken["features"][0]["geometry"]["type"] == "Polygon":
+        bad_ring = [[*ring[0][:-1], [math.inf, 0.0], ring[0][-1]]]
+        broken["features"][0] = {
+            **broken["features"][0],
+            "geometry": {"type": "Polygon", "coordinates": bad_ring},
+        }
+        broken["features"][point] = collection["features"][point]
+        with pytest.raises(ValueError, match="feature 0"):
+            geojson_text(broken)
