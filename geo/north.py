@@ -403,10 +403,6 @@ def _cardinals_as_recorded(courses: Sequence[Any], texts: list[str] | None) -> N
             texts[i] = recorded_bearing(rc.azimuth_deg, rc.precision_deg, "cardinal")
 
 
-def _finite_or_none(v: float) -> float | None:
-    return v if math.isfinite(v) else None
-
-
 def _range_error(
     err: LodelineError, *, which: str, when: str, file: str | None, n_courses: int
 ) -> ModelRangeError:
@@ -990,9 +986,15 @@ def _column(values: Any, at: np.ndarray) -> list[Any]:
     if values is None:
         return [None] * at.size
     picked = np.asarray(values, dtype=float)[at]
-    if np.all(np.isfinite(picked)):
+    finite = np.isfinite(picked)
+    if finite.all():
         return picked.tolist()
-    return [_finite_or_none(v) for v in picked.tolist()]
+    if not finite.any():  # a column without values (no sigma published, say)
+        return [None] * at.size
+    out = picked.tolist()
+    for k in np.flatnonzero(~finite).tolist():
+        out[k] = None
+    return out
 
 
 def _lists(d: _Directions) -> tuple[list[Any], ...]:
