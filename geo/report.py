@@ -195,8 +195,14 @@ def _unit_label(unit: str) -> str:
 
 
 def _esc(text: str) -> str:
-    """HTML/XML text and attribute escape (``< > & " '``)."""
-    return html.escape(str(text), quote=True)
+    """HTML/XML text and attribute escape (``< > & " '``); a text without any of them is
+    returned as it is (most cells of a long report: numbers and bearings)."""
+    text = str(text)
+    return html.escape(text, quote=True) if _HTML_SPECIAL.search(text) else text
+
+
+#: The characters :func:`html.escape` replaces (with ``quote=True``).
+_HTML_SPECIAL = re.compile("[<>&\"']")
 
 
 _MD_SPECIAL = re.compile(r"([\\`*_\[\]|~])")
