@@ -77,3 +77,18 @@ def test_any_shape_and_float_kind_is_read_as_a_flat_float64_column():
 def test_fuzz_any_list_of_floats(values):
     array = np.array(values, dtype=np.float64)
     assert reprs(array) == _expected(array)
+
+
+def test_rows_of_a_table_are_the_cells_repr_writes_joined():
+    # repr_rows: each row of a 2-D table as its cells by repr, comma-joined; random bit
+    # patterns put NaN, infinities, subnormals and exponents in many rows
+    from lodeline.geo.float_text import repr_rows
+
+    rng = np.random.default_rng(20261203)
+    plain = rng.uniform(-70_000, 70_000, (3_000, 9))
+    odd = rng.integers(0, 2**64 - 1, (300, 9), dtype=np.uint64, endpoint=True).view(np.float64)
+    table = np.concatenate([plain, odd, [[0.0, -0.0, 1e-4, 1e16, 5e-324, 1.5, -2.0, 3e15, 7.0]]])
+    rng.shuffle(table)
+    assert repr_rows(table) == [",".join(map(repr, row)) for row in table.tolist()]
+    assert repr_rows(np.zeros((0, 9))) == [] and repr_rows(np.zeros((2, 0))) == ["", ""]
+    assert repr_rows(np.array([[1.5]])) == ["1.5"]

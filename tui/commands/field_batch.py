@@ -30,7 +30,7 @@ from typing import Any
 import numpy as np
 
 from lodeline.geo.errors import InputError, LodelineError
-from lodeline.geo.float_text import reprs
+from lodeline.geo.float_text import repr_rows, reprs
 
 from .field import CSV_INPUT, RESULT_KEYS, _date, _malformed, _number
 
@@ -351,15 +351,17 @@ def _format(payload: tuple[Any, np.ndarray, tuple], prefix: list[str]) -> str:
     """The output lines of computed rows (:func:`_payload`): input part, then the results."""
     model, floats, warnings = payload
     n = len(prefix)
-    columns: list[list[str]] = [prefix, [model] * n if isinstance(model, str) else list(model)]
-    for values in floats[:-1]:
-        columns.append(reprs(values))
     sigma = floats[-1]
     sigma_cells = reprs(sigma)
     for k in np.flatnonzero(~np.isfinite(sigma)).tolist():
         sigma_cells[k] = ""
-    columns.append(sigma_cells)
-    columns.append(_warning_cells(warnings))
+    columns: list[list[str]] = [
+        prefix,
+        [model] * n if isinstance(model, str) else list(model),
+        repr_rows(floats[:-1].T),  # the nine value columns, a row's cells at once
+        sigma_cells,
+        _warning_cells(warnings),
+    ]
     return "\n".join(map(",".join, zip(*columns, strict=True))) + "\n"
 
 
