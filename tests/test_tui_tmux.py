@@ -164,3 +164,28 @@ def test_four_calls_typed_in_one_burst_land_each_in_its_course(tmp_path: Path):
     rows = [line.strip("┃ ").split(None, 1) for line in screen.splitlines()[3:9]]
     assert [r[1].strip() if len(r) > 1 else "" for r in rows[:5]] == [*calls, ""]
     assert [r[0] for r in rows[:4]] == ["1", "2", "3", "▸4"]
+
+
+@needs_tmux[0]
+@needs_tmux[1]
+def test_arrows_sent_in_one_burst_with_enter_move_before_the_editor_opens(tmp_path: Path):
+    # Tried as a user: on a demo, Down Down Down Enter sent in one burst opened the editor on
+    # course 1 (the arrows reached the table only after Enter had moved the keyboard into the
+    # call, and were lost), and the call typed next replaced course 1's. Now Enter opens the
+    # course the arrows reached.
+    demo = Path(__file__).parents[1] / "demo_traverses" / "wrenfield_glebe_1911.toml"
+    (tmp_path / "glebe.toml").write_text(demo.read_text(encoding="utf-8"), encoding="utf-8")
+    session = f"lodeline-test-{uuid.uuid4().hex[:8]}"
+    env = f"LODELINE_STATE={tmp_path / 'state'} TERM=xterm-256color"
+    start(session, f"cd {tmp_path} && env {env} {console_script()} open glebe.toml")
+    try:
+        wait_for(session, "call table: a call typed here is a new course")
+        tmux("send-keys", "-t", session, "Down", "Down", "Down", "Enter")
+        wait_for(session, "typing the call of")
+        time.sleep(0.5)
+        screen = pane(session)
+    finally:
+        if alive(session):
+            tmux("kill-session", "-t", session)
+    assert "typing the call of course 4" in screen
+    assert "Course 4 · call" in screen

@@ -116,26 +116,28 @@ class CallTable(ScrollView, can_focus=True):
     """
 
     # Priority: the application acts on these before it reads the next key, so a key typed
-    # straight after Enter or ``a`` goes into the editor they open, never to the table.
+    # straight after Enter or ``a`` goes into the editor they open, never to the table, and
+    # arrows sent with an Enter move the cursor before Enter opens the course they reached
+    # (not priority, they reached the table only after Enter and were lost).
     BINDINGS = [
         Binding("enter", "edit('call')", "Edit call", priority=True),
         Binding("a", "add_after", "Add course", priority=True),
         Binding("i", "insert_before", "Insert above", priority=True),
         Binding("delete,x", "delete_course", "Delete course", priority=True),
-        Binding("alt+up,left_square_bracket", "move(-1)", "Move up", show=False),
-        Binding("alt+down,right_square_bracket", "move(1)", "Move down", show=False),
+        Binding("alt+up,left_square_bracket", "move(-1)", "Move up", show=False, priority=True),
+        Binding("alt+down,right_square_bracket", "move(1)", "Move down", show=False, priority=True),
         Binding("b", "edit('back')", "Back bearing", show=False, priority=True),
         Binding("f", "edit('found')", "Found position", show=False, priority=True),
         Binding("e", "edit('every')", "Every", show=False, priority=True),
         Binding("n", "edit('note')", "Note", show=False, priority=True),
-        Binding("up", "cursor(-1)", "Previous course", show=False),
-        Binding("down", "cursor(1)", "Next course", show=False),
-        Binding("pageup", "page(-1)", "Page up", show=False),
-        Binding("pagedown", "page(1)", "Page down", show=False),
-        Binding("home", "first", "First course", show=False),
-        Binding("end", "last", "Last course", show=False),
-        Binding("left", "scroll_left", "Scroll left", show=False),
-        Binding("right", "scroll_right", "Scroll right", show=False),
+        Binding("up", "cursor(-1)", "Previous course", show=False, priority=True),
+        Binding("down", "cursor(1)", "Next course", show=False, priority=True),
+        Binding("pageup", "page(-1)", "Page up", show=False, priority=True),
+        Binding("pagedown", "page(1)", "Page down", show=False, priority=True),
+        Binding("home", "first", "First course", show=False, priority=True),
+        Binding("end", "last", "Last course", show=False, priority=True),
+        Binding("left", "scroll_left", "Scroll left", show=False, priority=True),
+        Binding("right", "scroll_right", "Scroll right", show=False, priority=True),
         *(
             Binding(key, f"start_call({char!r})", show=False, priority=True)
             for char, key in _CALL_START_KEYS
