@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import os
 import subprocess
 import sys
 from pathlib import Path
@@ -10,7 +11,7 @@ from pathlib import Path
 import pytest
 
 from lodeline.geo.cautions import SHORT_CAUTION
-from lodeline.tui.cli import main
+from lodeline.tui.cli import BLAS_THREAD_VARIABLES, main
 
 DEMOS = sorted((Path(__file__).parents[1] / "demo_traverses").glob("*.toml"))
 WOODLOT = next(d for d in DEMOS if "woodlot" in d.name)
@@ -196,3 +197,24 @@ def test_the_programs_own_run_leaves_the_collector_frozen_for_its_exit(monkeypat
     finally:
         gc.unfreeze()
     assert capsys.readouterr().out == expected
+
+
+@pytest.mark.parametrize("users", [None, "2"])
+def test_the_command_runs_blas_on_one_thread_unless_the_user_says_otherwise(users):
+    # OpenBLAS reads OPENBLAS_NUM_THREADS as numpy loads it (OpenBLAS's documented variable);
+    # threadpoolctl reports the count the library runs with
+    if users and (os.cpu_count() or 1) < 2:
+        pytest.skip("a second thread needs a second core")
+    env = {k: v for k, v in os.environ.items() if k not in BLAS_THREAD_VARIABLES}
+    if users:
+        env["OPENBLAS_NUM_THREADS"] = users
+    code = (
+        "import sys; from lodeline.tui.cli import main; "
+        f"rc = main(['convert', {str(WOODLOT)!r}, '--json']); "
+        "from threadpoolctl import threadpool_info; "
+        "print([p['num_threads'] for p in threadpool_info() if p['user_api'] == 'blas'], "
+        "file=sys.stderr); sys.exit(rc)"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env)
+    assert done.returncode == 0, done.stderr
+    assert done.stderr.strip() == f"[{users or 1}]"

@@ -69,6 +69,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     ``argv`` ``None`` is the program's own run (the arguments of ``sys.argv``; the process
     ends right after, see :func:`_freeze_for_exit`); a list is a call from Python (tests),
     which gets its collector back as it was."""
+    _one_blas_thread()
     from lodeline.geo.errors import LodelineError
 
     args_list = list(sys.argv[1:] if argv is None else argv)
@@ -111,6 +112,25 @@ def main(argv: Sequence[str] | None = None) -> int:
             _freeze_for_exit()
         elif collector is not None:
             _restore_collector(collector)
+
+
+#: The variables that set the thread count of the BLAS numpy may be built with.
+BLAS_THREAD_VARIABLES = ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS")
+
+
+def _one_blas_thread() -> None:
+    """Run numpy's BLAS on one thread, unless the user's environment says otherwise; to take
+    effect it must come before numpy is imported (child processes inherit it).
+
+    lodeline's matrix products are many medium-sized ones (the field synthesis), which a
+    multi-threaded BLAS makes slower, not faster (``geo.synthesis`` limits it to one thread
+    for large batches in any case); and OpenBLAS's worker threads, started as numpy is
+    imported, spin for about 0.13 s of CPU time in every process, time taken from the other
+    core where ``field --csv`` and ``close --summary`` run their helpers."""
+    import os
+
+    for name in BLAS_THREAD_VARIABLES:
+        os.environ.setdefault(name, "1")
 
 
 #: The cyclic garbage collector's thresholds for a command that runs once and ends.
