@@ -10,6 +10,7 @@ values in tests/test_magnetic.py; here the subject is the batch around the engin
 from __future__ import annotations
 
 import csv
+import datetime as dt
 import io
 import os
 import tempfile
@@ -17,6 +18,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from fuzz import examples
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -312,6 +314,69 @@ def test_numpy_dates_give_the_decimal_years_of_geo_dates():
         assert got[t] == parse_date(t)[1], t  # the same bits
 
 
+def test_a_column_of_iso_dates_read_at_once_gives_the_decimal_years_of_geo_dates():
+    # reference: the standard library's calendar (datetime.date), through geo.dates
+    import datetime as dt
+
+    from lodeline.geo.dates import parse_date
+
+    rng = np.random.default_rng(20261203)
+    ordinals = rng.integers(dt.date(1, 1, 1).toordinal(), dt.date(9998, 12, 31).toordinal(), 50_000)
+    days = [dt.date.fromordinal(k) for k in ordinals.tolist()]
+    days += [dt.date(1, 1, 1), dt.date(9998, 12, 31), dt.date(2000, 2, 29), dt.date(1900, 3, 1)]
+    days += [dt.date(y, 12, 31) for y in (1600, 1700, 1900, 2000, 2004, 2100)]
+    texts = [d.isoformat() for d in days]
+    got = batch._iso_column_years(texts)
+    assert got is not None and got.tolist() == [parse_date(t)[1] for t in texts]  # the same bits
+
+
+@pytest.mark.parametrize(
+    "odd",
+    [
+        "2001-02-29",  # no such day
+        "1900-02-29",
+        "2012-04-31",
+        "2012-07-00",
+        "2012-00-10",
+        "2012-13-01",
+        "0000-01-01",  # outside the years read
+        "9999-01-01",
+        "2012-7-01",  # another length
+        "2012-07-011",
+        "２０１２-07-01",  # digits that are not ASCII
+        "2012/07/01",
+        " 2012-07-0",
+        "2012.5",
+        "",
+    ],
+)
+def test_a_column_of_iso_dates_with_one_other_cell_is_left_to_the_cell_by_cell_reading(odd):
+    cells = ["2012-07-01", "1931-07-04", odd, "2020-02-29"]
+    assert batch._iso_column_years(cells) is None
+    assert batch._iso_column_years(["2012-07-0", "12012-07-01"]) is None  # lengths that add up
+    assert batch._iso_column_years(["2012-07-01\n2012-07-01", ""]) is None
+    assert batch._iso_column_years([]) is None
+
+
+@settings(max_examples=examples(300))
+@given(
+    st.lists(
+        st.one_of(
+            st.dates().map(dt.date.isoformat),
+            st.text(alphabet=st.sampled_from("0123456789-\n/ "), min_size=9, max_size=11),
+        ),
+        max_size=6,
+    )
+)
+def test_fuzz_a_column_of_date_texts_is_read_at_once_only_as_geo_dates_reads_each(cells):
+    from lodeline.geo.dates import parse_date
+
+    got = batch._iso_column_years(cells)
+    if got is not None:
+        assert all(batch._PLAIN_ISO.fullmatch(c) for c in cells)
+        assert got.tolist() == [parse_date(c)[1] for c in cells]
+
+
 def test_progress_bar_only_on_a_terminal(capsys, tmp_path, monkeypatch):
     import lodeline.tui.progress
 
@@ -374,5 +439,26 @@ def test_a_helper_that_ends_before_its_work_changes_nothing(capsys, tmp_path, mo
     monkeypatch.setattr(batch._Writer, "_helper_gone", recorded)
     code, out, err = run(capsys, "field", "--csv", src, "--skip-bad")
     assert code == 0 and err.splitlines() == want_err and _numbers_equal(out, want_out)
-    assert gone == [1]  # one job left undone by the helper, done here
+    # the jobs left undone by the helper (the one it took, and the next if already sent), done here
+    assert len(gone) == 1 and 1 <= gone[0] <= batch.HELPER_JOBS
     assert not list(Path(tempfile.gettempdir()).glob("lodeline-field-*"))
+
+
+@settings(max_examples=examples(300))
+@given(
+    st.lists(
+        st.lists(st.text(alphabet=st.sampled_from(' ab,;"\n\r:1'), max_size=12), max_size=3),
+        max_size=6,
+    )
+)
+def test_fuzz_the_warnings_column_is_quoted_as_the_csv_module_quotes_it(warnings):
+    # reference: the standard library's csv writer, default dialect, one cell per warning list
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    expected = []
+    for w in warnings:
+        buffer.seek(0)
+        buffer.truncate()
+        writer.writerow(["; ".join(w), ""])
+        expected.append(buffer.getvalue()[:-2] if w else "")
+    assert batch._warning_cells(tuple(tuple(w) for w in warnings)) == expected

@@ -61,6 +61,19 @@ def test_around_the_switches_to_an_exponent():
     assert reprs(values) == _expected(values)
 
 
+def test_every_kind_of_double_between_the_small_switch_and_a_thousandth():
+    # where most yearly rates lie: plain digits in both, from 1e-4 (repr's switch) up;
+    # uniform in the bit patterns and in the logarithm, both signs
+    rng = np.random.default_rng(20261203)
+    low, high = (np.array([1e-4, 1e-3]).view(np.int64)).tolist()
+    values = np.concatenate(
+        [rng.integers(low, high, 300_000).view(np.float64), 10 ** rng.uniform(-4, -3, 300_000)]
+    )
+    values = np.concatenate([values, -values])
+    assert LOW == 1e-4
+    assert reprs(values) == _expected(values)
+
+
 def test_not_finite_and_whole_numbers():
     values = np.array([math.nan, -math.nan, math.inf, -math.inf, 1.0, -2.0, 33346.0, 1e14])
     assert reprs(values) == _expected(values)

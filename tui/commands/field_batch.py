@@ -2,7 +2,7 @@
 
 The file is read :data:`CHUNK_ROWS` lines at a time. In a chunk every column is parsed at
 once (numbers by one check of the column's characters and one conversion, dates once per
-distinct text, ISO dates by numpy's datetime parsing), every check is an array mask, the field
+distinct text, a column of ISO dates as bytes at once), every check is an array mask, the field
 is one :func:`geo.magnetic.field_at` call, and the output is formatted column by column. Only a row
 that a mask flags goes through the per-row check (:func:`_row_error`), which gives the same
 one-line message, naming the line and column, as reading row by row would. Memory holds one
@@ -36,6 +36,8 @@ from .field import CSV_INPUT, RESULT_KEYS, _date, _malformed, _number
 
 #: Lines of the file read, checked, computed and written together.
 CHUNK_ROWS = 20_000
+#: Jobs at the helper process at most (one it works on, the next ones waiting for it).
+HELPER_JOBS = 2
 #: Distinct date texts remembered (a file of decimal years has one per row).
 _DATE_MEMORY = 200_000
 
@@ -45,11 +47,9 @@ _DATE_MEMORY = 200_000
 #: Python's ``float`` reads exactly what that pattern reads (no underscore, no other digit or
 #: space), so a column made of them only is read by ``float`` alone.
 _NUMBER_BYTES = b"0123456789+-.eE" + b"nNaAiIfFtTyY" + b" \t\n\r\f\v,"
-#: The common ISO form numpy's datetime parsing reads (years 0001-9998, ASCII digits).
+#: The common ISO form, read a column at once by :func:`_iso_column_years` (years 0001-9998,
+#: ASCII digits).
 _PLAIN_ISO = re.compile(r"(?!0000|9999)\d{4}-\d\d-\d\d", re.ASCII)
-_PLAIN_ISO_COLUMN = re.compile(
-    r"(?:(?!0000|9999)\d{4}-\d\d-\d\d\n)*+(?!0000|9999)\d{4}-\d\d-\d\d", re.ASCII
-)
 
 
 def run_batch(args: Any) -> int:
@@ -229,11 +229,11 @@ def _decimal_years(cells: list[str]) -> dict[str, float]:
     from lodeline.geo.dates import parse_date
 
     out: dict[str, float] = {}
-    if _PLAIN_ISO_COLUMN.fullmatch("\n".join(cells)):  # the usual file: one pattern for all
-        plain = cells
-    else:
+    plain = cells
+    value = _iso_column_years(cells)  # the usual file: one form for all
+    if value is None:
         plain = [c for c in cells if _PLAIN_ISO.fullmatch(c)]
-    value = _plain_iso_years(plain) if plain else None
+        value = _iso_column_years(plain) if plain else None
     if value is not None:
         out.update(zip(plain, value.tolist(), strict=True))
     for c in cells:
@@ -245,20 +245,48 @@ def _decimal_years(cells: list[str]) -> dict[str, float]:
     return out
 
 
-def _plain_iso_years(cells: Any) -> np.ndarray | None:
-    """The decimal years of date texts that each match ``_PLAIN_ISO``, as
-    :func:`geo.dates.decimal_year` gives them (year + (day of year - 1) / days in the year),
-    by numpy's datetime parsing; ``None`` when one of them is a day that does not exist."""
-    try:
-        days = np.array(cells, dtype="datetime64[D]")
-    except ValueError:  # 2001-02-29: read one by one by the caller
+#: Days before each month (index 1-12; 13 the year), in a common year and a leap year.
+_DAYS_BEFORE = np.array(
+    [
+        [0, 0, 31, 59, 90, 120, 151, 181, 212, 243, 273, 304, 334, 365],
+        [0, 0, 31, 60, 91, 121, 152, 182, 213, 244, 274, 305, 335, 366],
+    ]
+)
+#: Where the digits of ``YYYY-MM-DD`` stand.
+_ISO_DIGITS = [0, 1, 2, 3, 5, 6, 8, 9]
+
+
+def _iso_column_years(cells: Any) -> np.ndarray | None:
+    """The decimal years of a column of dates, as :func:`geo.dates.decimal_year` gives them
+    (year + (day of year - 1) / days in the year), when every cell is a date of the form
+    ``_PLAIN_ISO`` reads (``YYYY-MM-DD``, ASCII digits, years 0001-9998) of a day that exists;
+    otherwise ``None``, and the caller reads the cells one by one.
+
+    The column is read as bytes at once: the cells joined by line breaks must make rows of
+    eleven bytes, digits at the digit places, hyphens at the fifth and eighth, a line break
+    at the last (a cell of another length or holding a line break cannot make that pattern:
+    the breaks would not all stand at the ends of rows)."""
+    n = len(cells)
+    if n == 0:
         return None
-    year = days.astype("datetime64[Y]")
-    start = year.astype("datetime64[D]")
-    length = (year + 1).astype("datetime64[D]") - start
-    return (year.astype(np.int64) + 1970) + (days - start).astype(np.int64) / length.astype(
-        np.int64
-    )
+    text = "\n".join(cells) + "\n"
+    if len(text) != 11 * n or not text.isascii():
+        return None
+    rows = np.frombuffer(text.encode("ascii"), dtype=np.uint8).reshape(n, 11)
+    digits = rows[:, _ISO_DIGITS] - np.uint8(48)  # below "0" wraps round to a large value
+    if (digits > 9).any() or (rows[:, [4, 7]] != 45).any() or (rows[:, 10] != 10).any():
+        return None
+    d = digits.astype(np.int64)
+    year = d[:, 0] * 1000 + d[:, 1] * 100 + d[:, 2] * 10 + d[:, 3]
+    month = d[:, 4] * 10 + d[:, 5]
+    day = d[:, 6] * 10 + d[:, 7]
+    if (year < 1).any() or (year > 9998).any() or (month < 1).any() or (month > 12).any():
+        return None
+    leap = ((year % 4 == 0) & ((year % 100 != 0) | (year % 400 == 0))).astype(np.intp)
+    before = _DAYS_BEFORE[leap, month]
+    if (day < 1).any() or (day > _DAYS_BEFORE[leap, month + 1] - before).any():
+        return None  # 2001-02-29, 2012-04-31, 2012-07-00: read one by one by the caller
+    return year + (before + day - 1) / _DAYS_BEFORE[leap, 13]
 
 
 class _Sink:
@@ -325,16 +353,25 @@ def _row_error(
 
 
 def _warning_cells(warnings: tuple) -> list[str]:
-    """The warnings column: "; "-joined, quoted as the csv module quotes a cell."""
+    """The warnings column: "; "-joined, quoted as the csv module quotes a cell. A cell
+    holding a comma or a double quote goes in double quotes, each double quote doubled (its
+    default dialect, in every Python); one holding a line break is left to the module itself
+    (whether a carriage return is quoted has changed between Python versions)."""
     cells = [""] * len(warnings)
-    buffer = io.StringIO()
-    writer = csv.writer(buffer, lineterminator="\n")
+    buffer = None
     for k, w in enumerate(warnings):
-        if w:
+        if not w:
+            continue
+        text = "; ".join(w)
+        if "\n" in text or "\r" in text:
+            buffer = buffer or io.StringIO()
             buffer.seek(0)
             buffer.truncate()
-            writer.writerow(["; ".join(w), ""])
-            cells[k] = buffer.getvalue()[:-2]
+            csv.writer(buffer, lineterminator="\n").writerow([text, ""])
+            text = buffer.getvalue()[:-2]
+        elif "," in text or '"' in text:
+            text = '"' + text.replace('"', '""') + '"'
+        cells[k] = text
     return cells
 
 
@@ -352,9 +389,13 @@ def _format(payload: tuple[Any, np.ndarray, tuple], prefix: list[str]) -> str:
     model, floats, warnings = payload
     n = len(prefix)
     sigma = floats[-1]
-    sigma_cells = reprs(sigma)
-    for k in np.flatnonzero(~np.isfinite(sigma)).tolist():
-        sigma_cells[k] = ""
+    stated = np.isfinite(sigma)  # a model without an uncertainty leaves the cell empty
+    if stated.all():
+        sigma_cells = reprs(sigma)
+    else:
+        sigma_cells = [""] * n
+        for k, text in zip(np.flatnonzero(stated).tolist(), reprs(sigma[stated]), strict=True):
+            sigma_cells[k] = text
     columns: list[list[str]] = [
         prefix,
         [model] * n if isinstance(model, str) else list(model),
@@ -401,12 +442,18 @@ def _computed_lines(inputs: tuple, prefix: list[str]) -> str:
 
 
 def _serve(conn: Any, folder: str) -> None:
-    """The helper process: take jobs from ``conn`` until ``None``; each job's text goes to a
-    file of ``folder`` and only its number comes back (a small message never waits for the
-    command's process to read it, so the helper is free again at once)."""
+    """The helper process: take job numbers from ``conn`` until ``None``; each job is read
+    from its file of ``folder``, its text goes to another file there and only its number comes
+    back (small messages, which never wait for the other process to read them: the command
+    goes on while the helper works, and the helper is free again at once)."""
+    import pickle
+
     try:
-        while (job := conn.recv()) is not None:
-            number, kind, data, prefix = job
+        while (number := conn.recv()) is not None:
+            job = os.path.join(folder, f"{number}.job")
+            with open(job, "rb") as fh:
+                kind, data, prefix = pickle.load(fh)
+            os.remove(job)
             text = _computed_lines(data, prefix) if kind == "lines" else _format(data, prefix)
             with open(
                 os.path.join(folder, f"{number}.txt"), "w", encoding="utf-8", newline=""
@@ -423,18 +470,20 @@ class _Writer:
     """Computes and formats the checked chunks and writes them in order, sharing the work
     with one helper process when the machine has a core to spare.
 
-    The helper is forked as the run starts (while the process is still small, so the pages
-    both share are few) for a file of more than a chunk on a machine of several cores, and
-    kept when, on average, half a core or more stayed idle while the first chunk was read and
-    checked (``/proc/stat``); otherwise it is stopped and everything runs here (sharing costs
-    about a tenth more work in all: passing the chunk and reading back its text). Whenever the
-    helper is free it takes the next full chunk, computed and formatted there; otherwise the
-    chunk is computed and formatted here, while the helper works. The last chunk is computed
-    here and its formatting shared when the helper is free. Jobs go down a pipe; each result
-    comes back as a file of a private temporary folder and a job number, read when its turn
-    to be written comes. At most one job is at the helper, so memory stays bounded by the
-    chunk. Each chunk is one ``field_at`` call wherever it runs, so the bytes are the same
-    with or without the helper; a job the helper did not finish (it was killed) is done here.
+    The first chunk is computed and formatted here. Then, for a file of more than a chunk on
+    a machine of several cores, the helper is forked, when on average half a core or more
+    stayed idle while that chunk was read, checked and computed (``/proc/stat``); otherwise
+    everything runs here (sharing costs about a tenth more work in all: passing the chunk and
+    reading back its text). Forked then, the helper finds every module imported and the
+    model read, as this process has them. Each next full chunk goes to the helper while it
+    holds fewer than :data:`HELPER_JOBS` jobs; otherwise it is computed and formatted here,
+    while the helper works, so each process takes the share its speed gives it. The last
+    chunk is computed here and its formatting shared when the helper can take it. Each job
+    goes to the helper as a file of a private temporary folder and its number down a pipe,
+    and its text comes back the same way, read when its turn to be written comes; memory
+    stays bounded by a few chunks. Each chunk is one ``field_at`` call wherever it runs, so
+    the bytes are the same with or without the helper; a job the helper did not finish (it
+    was killed) is done here.
     """
 
     def __init__(self, sink: _Sink, size: int) -> None:
@@ -444,18 +493,15 @@ class _Writer:
         self._jobs: dict[int, tuple[str, Any, list[str]]] = {}  # at the helper, kept for a retry
         self._done: set[int] = set()
         self._chunks = 0
-        self._cpu_at_start = _cpu_times()  # while the first chunk is read and checked
-        if size > CHUNK_ROWS * 40:  # more than a chunk of short lines
-            self._start()
+        self._long = size > CHUNK_ROWS * 40  # more than a chunk of short lines
+        self._cpu_at_start = _cpu_times()  # while the first chunk is read, checked, computed
 
     def write(self, inputs: tuple, prefix: list[str], full: bool) -> None:
         """Compute, format and write the rows of one chunk (``inputs``: see
         :func:`_compute`; ``full``: a chunk of CHUNK_ROWS lines, so more may follow)."""
         self._chunks += 1
-        if self._chunks == 1 and self._pool is not None and not self._spare_core():
-            self.close()
         self._collect(wait=False)
-        free = self._pool is not None and not self._jobs
+        free = self._pool is not None and len(self._jobs) < HELPER_JOBS
         n = len(prefix)
         if free and full:
             self._send("lines", inputs, prefix)
@@ -466,11 +512,13 @@ class _Writer:
             self._pending.append(_format(_payload(result, half, n), prefix[half:]))
         else:
             self._pending.append(_computed_lines(inputs, prefix))
-        self._drain(wait=len(self._pending) > 2)
+            if self._chunks == 1 and full and self._long and self._spare_core():
+                self._start()
+        self._drain(keep=HELPER_JOBS + 1)
 
     def finish(self) -> None:
         """Write what is still being formatted."""
-        self._drain(wait=True)
+        self._drain(keep=0)
 
     def close(self) -> None:
         """Stop the helper and remove its folder (what it had not finished is dropped)."""
@@ -507,17 +555,24 @@ class _Writer:
         return idle is None or idle >= 0.5  # the helper gains only on a core left idle
 
     def _send(self, kind: str, data: Any, prefix: list[str]) -> None:
+        import pickle
+
         number = self._chunks
         self._jobs[number] = (kind, data, prefix)
         self._pending.append(number)
         try:
-            self._pool[1].send((number, kind, data, prefix))
-        except OSError:  # the helper has gone: its jobs are done here
-            self._collect(wait=True)
+            with open(os.path.join(self._pool[2], f"{number}.job"), "wb") as fh:
+                pickle.dump((kind, data, prefix), fh, protocol=pickle.HIGHEST_PROTOCOL)
+            self._pool[1].send(number)
+        except OSError:  # the helper has gone (or its folder): its jobs are done here
+            self._helper_gone()
 
-    def _collect(self, *, wait: bool) -> None:
-        """Take the job numbers the helper has sent back (all of them with ``wait``)."""
+    def _collect(self, *, wait: bool, until: int | None = None) -> None:
+        """Take the job numbers the helper has sent back: those already sent (``wait``:
+        waiting until job ``until`` is back, or every job when ``until`` is None)."""
         while self._jobs and self._pool is not None:
+            if until is not None and until not in self._jobs:
+                return
             conn = self._pool[1]
             try:
                 if not wait and not conn.poll():
@@ -550,15 +605,16 @@ class _Writer:
         kind, data, prefix = self._jobs[number]
         return _computed_lines(data, prefix) if kind == "lines" else _format(data, prefix)
 
-    def _drain(self, *, wait: bool) -> None:
-        """Write the leading texts that are ready (waiting for the helper with ``wait``)."""
+    def _drain(self, *, keep: int) -> None:
+        """Write the leading texts that are ready, waiting for the helper while more than
+        ``keep`` texts or jobs are still to be written."""
         while self._pending:
             item = self._pending[0]
             if isinstance(item, int):
                 if item not in self._done:
-                    if not wait:
+                    if len(self._pending) <= keep:
                         return
-                    self._collect(wait=True)
+                    self._collect(wait=True, until=item)
                     continue  # now done, or made here (the helper gone)
                 item = self._text_of(item)
             self._pending.pop(0)
@@ -583,12 +639,9 @@ def _checked(
     cells = chunk.columns[col["date"]]
     if len(dates) > _DATE_MEMORY:
         dates.clear()
-    distinct = dict.fromkeys(cells)
-    year = None
-    if len(distinct) > n // 4 and _PLAIN_ISO_COLUMN.fullmatch("\n".join(cells)):
-        year = _plain_iso_years(cells)  # dates mostly each its own: the column at once
+    year = _iso_column_years(cells)  # the usual column: ISO dates, read at once
     if year is None:
-        new = [c for c in distinct if c not in dates]
+        new = [c for c in dict.fromkeys(cells) if c not in dates]
         if new:
             dates.update(_decimal_years(new))
         year = np.fromiter(map(dates.__getitem__, cells), float, n)
