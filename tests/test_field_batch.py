@@ -462,3 +462,39 @@ def test_fuzz_the_warnings_column_is_quoted_as_the_csv_module_quotes_it(warnings
         writer.writerow(["; ".join(w), ""])
         expected.append(buffer.getvalue()[:-2] if w else "")
     assert batch._warning_cells(tuple(tuple(w) for w in warnings)) == expected
+
+
+@pytest.mark.skipif((os.cpu_count() or 1) < 2, reason="the helper runs on a second core")
+def test_jobs_the_slow_helper_has_not_started_are_taken_back_with_the_same_bytes(
+    capsys, tmp_path, monkeypatch
+):
+    # A helper slowed down (as on a busy core): rather than wait at the end of the file, the
+    # command does the jobs the helper has not started; the bytes are the row-by-row reading's
+    import time
+
+    monkeypatch.setattr(batch, "CHUNK_ROWS", 6)
+    monkeypatch.setattr(batch, "_idle_cores", lambda since: 1.0)
+    src = _write(tmp_path / "in.csv", _mixed_rows(14, 97))
+    want_out, want_err = reference(str(src), skip_bad=True)
+    here = os.getpid()
+    real_lines = batch._computed_lines
+
+    def slow_in_the_helper(inputs, prefix):
+        if os.getpid() != here:
+            time.sleep(0.4)
+        return real_lines(inputs, prefix)
+
+    taken = []
+    real_take = batch._Writer._take_back
+
+    def recorded(self):
+        done = real_take(self)
+        taken.append(done)
+        return done
+
+    monkeypatch.setattr(batch, "_computed_lines", slow_in_the_helper)
+    monkeypatch.setattr(batch._Writer, "_take_back", recorded)
+    code, out, err = run(capsys, "field", "--csv", src, "--skip-bad")
+    assert code == 0 and err.splitlines() == want_err and _numbers_equal(out, want_out)
+    assert any(taken)  # at least one job done here after all
+    assert not list(Path(tempfile.gettempdir()).glob("lodeline-field-*"))

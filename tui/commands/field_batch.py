@@ -37,7 +37,7 @@ from .field import CSV_INPUT, RESULT_KEYS, _date, _malformed, _number
 #: Lines of the file read, checked, computed and written together.
 CHUNK_ROWS = 20_000
 #: Jobs at the helper process at most (one it works on, the next ones waiting for it).
-HELPER_JOBS = 2
+HELPER_JOBS = 3
 #: Distinct date texts remembered (a file of decimal years has one per row).
 _DATE_MEMORY = 200_000
 
@@ -451,9 +451,14 @@ def _serve(conn: Any, folder: str) -> None:
     try:
         while (number := conn.recv()) is not None:
             job = os.path.join(folder, f"{number}.job")
-            with open(job, "rb") as fh:
+            try:  # the job taken: the command, as it waits, takes back one not yet taken
+                os.rename(job, job + ".taken")
+            except FileNotFoundError:
+                conn.send(number)
+                continue
+            with open(job + ".taken", "rb") as fh:
                 kind, data, prefix = pickle.load(fh)
-            os.remove(job)
+            os.remove(job + ".taken")
             text = _computed_lines(data, prefix) if kind == "lines" else _format(data, prefix)
             with open(
                 os.path.join(folder, f"{number}.txt"), "w", encoding="utf-8", newline=""
@@ -470,20 +475,21 @@ class _Writer:
     """Computes and formats the checked chunks and writes them in order, sharing the work
     with one helper process when the machine has a core to spare.
 
-    The first chunk is computed and formatted here. Then, for a file of more than a chunk on
-    a machine of several cores, the helper is forked, when on average half a core or more
-    stayed idle while that chunk was read, checked and computed (``/proc/stat``); otherwise
-    everything runs here (sharing costs about a tenth more work in all: passing the chunk and
-    reading back its text). Forked then, the helper finds every module imported and the
-    model read, as this process has them. Each next full chunk goes to the helper while it
-    holds fewer than :data:`HELPER_JOBS` jobs; otherwise it is computed and formatted here,
-    while the helper works, so each process takes the share its speed gives it. The last
-    chunk is computed here and its formatting shared when the helper can take it. Each job
-    goes to the helper as a file of a private temporary folder and its number down a pipe,
-    and its text comes back the same way, read when its turn to be written comes; memory
-    stays bounded by a few chunks. Each chunk is one ``field_at`` call wherever it runs, so
-    the bytes are the same with or without the helper; a job the helper did not finish (it
-    was killed) is done here.
+    For a file of more than a chunk on a machine of several cores, the helper is forked once
+    the first chunk has been read and checked and its first row computed, so that it finds
+    every module imported and the model read, as this process has them; and only when, on
+    average, half a core or more stayed idle meanwhile (``/proc/stat``); otherwise everything
+    runs here (sharing costs about a tenth more work in all: passing the chunk and reading
+    back its text). Each chunk but the last goes to the helper while it holds fewer than
+    :data:`HELPER_JOBS` jobs; otherwise it is computed and formatted here, while the helper
+    works, so each process takes the share its speed gives it. The last chunk is computed
+    here and its formatting shared when the helper can take it. Each job goes to the helper
+    as a file of a private temporary folder and its number down a pipe, and its text comes
+    back the same way, read when its turn to be written comes; memory stays bounded by a few
+    chunks. Rather than wait for the helper, this process takes back the last job it has not
+    started (at the end of the file, where the helper would otherwise finish alone). Each
+    chunk is one ``field_at`` call wherever it runs, so the bytes are the same with or
+    without the helper; a job the helper did not finish (it was killed) is done here.
     """
 
     def __init__(self, sink: _Sink, size: int) -> None:
@@ -492,18 +498,23 @@ class _Writer:
         self._pending: list[Any] = []  # in output order: text, or a job number at the helper
         self._jobs: dict[int, tuple[str, Any, list[str]]] = {}  # at the helper, kept for a retry
         self._done: set[int] = set()
+        self._taken_back: set[int] = set()  # jobs done here after all, the helper told so
         self._chunks = 0
         self._long = size > CHUNK_ROWS * 40  # more than a chunk of short lines
         self._cpu_at_start = _cpu_times()  # while the first chunk is read, checked, computed
 
-    def write(self, inputs: tuple, prefix: list[str], full: bool) -> None:
+    def write(self, inputs: tuple, prefix: list[str], more: bool) -> None:
         """Compute, format and write the rows of one chunk (``inputs``: see
-        :func:`_compute`; ``full``: a chunk of CHUNK_ROWS lines, so more may follow)."""
+        :func:`_compute`; ``more``: lines of the file follow this chunk)."""
         self._chunks += 1
+        if self._chunks == 1 and more and self._long:
+            _compute(tuple(v[:1] for v in inputs[:4]) + inputs[4:])  # the model read here
+            if self._spare_core():
+                self._start()
         self._collect(wait=False)
         free = self._pool is not None and len(self._jobs) < HELPER_JOBS
         n = len(prefix)
-        if free and full:
+        if free and more:
             self._send("lines", inputs, prefix)
         elif free and n > 1:  # the last chunk: computed here, its formatting shared
             result = _compute(inputs)
@@ -512,8 +523,6 @@ class _Writer:
             self._pending.append(_format(_payload(result, half, n), prefix[half:]))
         else:
             self._pending.append(_computed_lines(inputs, prefix))
-            if self._chunks == 1 and full and self._long and self._spare_core():
-                self._start()
         self._drain(keep=HELPER_JOBS + 1)
 
     def finish(self) -> None:
@@ -581,8 +590,27 @@ class _Writer:
             except (EOFError, OSError):
                 self._helper_gone()
                 return
+            if number in self._taken_back:
+                self._taken_back.discard(number)
+                continue
             del self._jobs[number]
             self._done.add(number)
+
+    def _take_back(self) -> bool:
+        """Do here the last job sent that the helper has not taken yet (rather than wait for
+        it); whether there was one. The helper takes a job by renaming its file, this
+        process by removing it: whichever comes first has it."""
+        for number in sorted(self._jobs, reverse=True):
+            try:
+                os.remove(os.path.join(self._pool[2], f"{number}.job"))
+            except FileNotFoundError:
+                return False  # taken, and so every job sent before it
+            kind, data, prefix = self._jobs.pop(number)
+            self._taken_back.add(number)
+            text = _computed_lines(data, prefix) if kind == "lines" else _format(data, prefix)
+            self._pending[self._pending.index(number)] = text
+            return True
+        return False
 
     def _helper_gone(self) -> None:
         """The helper has ended before its work (killed): what it finished is read, what it
@@ -614,6 +642,8 @@ class _Writer:
                 if item not in self._done:
                     if len(self._pending) <= keep:
                         return
+                    if self._take_back():
+                        continue
                     self._collect(wait=True, until=item)
                     continue  # now done, or made here (the helper gone)
                 item = self._text_of(item)
@@ -721,8 +751,11 @@ def _chunks(
     try:
         sink.write(head.getvalue())
         with progress:
-            while block := list(itertools.islice(lines, CHUNK_ROWS)):
+            following = next(lines, None)  # the first line of the next chunk
+            while following is not None:
+                block = [following, *itertools.islice(lines, CHUNK_ROWS - 1)]
                 chunk = _read_chunk(block, lines, base, last_line, ncol)
+                following = next(lines, None)  # None: this chunk is the last
                 base += chunk.consumed
                 last_line = chunk.last_line
                 errors: list[LodelineError] = []
@@ -749,7 +782,7 @@ def _chunks(
                             if keep.size == len(chunk.prefix)
                             else [chunk.prefix[k] for k in keep.tolist()]
                         )
-                        writer.write(inputs, prefix, len(block) == CHUNK_ROWS)
+                        writer.write(inputs, prefix, following is not None)
                         ngood += int(keep.size)
                 if chunk.failure is not None:
                     raise _malformed(chunk.failure, path, chunk.last_line + 1) from None
