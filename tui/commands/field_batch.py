@@ -441,6 +441,12 @@ def _computed_lines(inputs: tuple, prefix: list[str]) -> str:
     return _format(_payload(_compute(inputs), 0, len(prefix)), prefix)
 
 
+def _job_text(kind: str, data: Any, prefix: list[str]) -> str:
+    """The text of one job, wherever it is done: a chunk computed and formatted
+    (``"lines"``, :func:`_computed_lines`) or one computed already, formatted (``"format"``)."""
+    return _computed_lines(data, prefix) if kind == "lines" else _format(data, prefix)
+
+
 def _serve(conn: Any, folder: str) -> None:
     """The helper process: take job numbers from ``conn`` until ``None``; each job is read
     from its file of ``folder``, its text goes to another file there and only its number comes
@@ -459,7 +465,7 @@ def _serve(conn: Any, folder: str) -> None:
             with open(job + ".taken", "rb") as fh:
                 kind, data, prefix = pickle.load(fh)
             os.remove(job + ".taken")
-            text = _computed_lines(data, prefix) if kind == "lines" else _format(data, prefix)
+            text = _job_text(kind, data, prefix)
             with open(
                 os.path.join(folder, f"{number}.txt"), "w", encoding="utf-8", newline=""
             ) as fh:
@@ -597,20 +603,20 @@ class _Writer:
             self._done.add(number)
 
     def _take_back(self) -> bool:
-        """Do here the last job sent that the helper has not taken yet (rather than wait for
-        it); whether there was one. The helper takes a job by renaming its file, this
-        process by removing it: whichever comes first has it."""
-        for number in sorted(self._jobs, reverse=True):
-            try:
-                os.remove(os.path.join(self._pool[2], f"{number}.job"))
-            except FileNotFoundError:
-                return False  # taken, and so every job sent before it
-            kind, data, prefix = self._jobs.pop(number)
-            self._taken_back.add(number)
-            text = _computed_lines(data, prefix) if kind == "lines" else _format(data, prefix)
-            self._pending[self._pending.index(number)] = text
-            return True
-        return False
+        """Do here the last job sent if the helper has not taken it yet (rather than wait for
+        it); whether it had not. The helper takes a job by renaming its file, this process by
+        removing it: whichever comes first has it (the helper takes jobs in order, so when
+        the last is taken, every one is)."""
+        if not self._jobs:
+            return False
+        number = max(self._jobs)
+        try:
+            os.remove(os.path.join(self._pool[2], f"{number}.job"))
+        except FileNotFoundError:
+            return False
+        self._taken_back.add(number)
+        self._pending[self._pending.index(number)] = _job_text(*self._jobs.pop(number))
+        return True
 
     def _helper_gone(self) -> None:
         """The helper has ended before its work (killed): what it finished is read, what it
@@ -630,8 +636,7 @@ class _Writer:
                 text = fh.read()
             os.remove(path)
             return text
-        kind, data, prefix = self._jobs[number]
-        return _computed_lines(data, prefix) if kind == "lines" else _format(data, prefix)
+        return _job_text(*self._jobs[number])
 
     def _drain(self, *, keep: int) -> None:
         """Write the leading texts that are ready, waiting for the helper while more than
