@@ -16,7 +16,7 @@ import numpy as np
 import pytest
 from shared_data import DATA  # noqa: E402
 
-from lodeline.geo.magnetic import field_at
+from lodeline.geo.magnetic import field_at, forget_computed_points
 from lodeline.geo.models import load_model
 from lodeline.geo.synthesis import SphericalHarmonicModel, geodetic_to_geocentric, synthesize
 
@@ -91,10 +91,29 @@ def test_igrf14_against_ppigrf_random_points():
     model = load_model("igrf14")
     epochs = np.array(model.meta["epochs"])
     years = np.array([_ppigrf_time(d, epochs) for d in days])
-    f = field_at(lat=lat, lon=lon, year=years, height_m=h_km * 1000.0, model="igrf14")
     be, bn, bu = ppigrf.igrf(lon, lat, h_km, [dt.datetime(d.year, d.month, d.day) for d in days])
     idx = np.arange(n)
     x, y, z = bn[idx, idx], be[idx, idx], -bu[idx, idx]
+    whole = field_at(lat=lat, lon=lon, year=years, height_m=h_km * 1000.0, model="igrf14")
+    # batches of a few points (a deed's march) are summed in one product: same references
+    forget_computed_points()  # else the batches are read back from the first evaluation
+    parts = [
+        field_at(lat=lat[k], lon=lon[k], year=years[k], height_m=h_km[k] * 1000.0, model="igrf14")
+        for k in np.array_split(idx, 40)
+    ]
+    for f in (whole, _joined(parts)):
+        _agrees_with(f, x, y, z)
+
+
+def _joined(parts):
+    """The declination, inclination, total and components of several evaluations, joined."""
+    from types import SimpleNamespace
+
+    keys = ("declination_deg", "inclination_deg", "total_nT", "north_nT", "east_nT", "down_nT")
+    return SimpleNamespace(**{k: np.concatenate([getattr(p, k) for p in parts]) for k in keys})
+
+
+def _agrees_with(f, x, y, z):
     hz = np.hypot(x, y)
     d_ref = np.degrees(np.arctan2(y, x))
     i_ref = np.degrees(np.arctan2(z, hz))
@@ -262,6 +281,37 @@ def test_dipole_only_model_matches_closed_form():
     assert float(f.north_rate) == pytest.approx(-10.0 * ratio, rel=1e-12)
 
 
+@pytest.mark.parametrize("model_name", ["igrf14", "wmm2025"])
+def test_one_product_for_a_few_points_is_the_order_by_order_sum(model_name, monkeypatch):
+    # A chunk of a few points sums every order in one matrix product; the terms are those of
+    # the order-by-order loop, added in another order, so the two agree to rounding (a few
+    # units in the last place of fields of tens of thousands of nT), at every kind of point:
+    # poles, both sides of the antimeridian, heights, dates in several segments.
+    import lodeline.geo.synthesis as gs
+    from lodeline.geo.models import load_model
+
+    model = load_model(model_name)
+    rng = np.random.default_rng(17)
+    n = gs._ONE_PRODUCT_POINTS
+    lat = np.concatenate([[90.0, -90.0, 0.0], rng.uniform(-90, 90, n - 3)])
+    lon = np.concatenate([[0.0, 180.0, -180.0], rng.uniform(-180, 360, n - 3)])
+    h = rng.uniform(-1000, 100_000, n)
+    year = rng.uniform(model.start, model.end - 1e-6, n)
+    assert model_name == "wmm2025" or np.unique(model.segment_of(year)).size > 5
+    for size in (1, 2, 5, n):
+        parts = [slice(k, min(k + size, n)) for k in range(0, n, size)]
+        one = [gs.synthesize(model, lat_deg=lat[p], lon_deg=lon[p], height_m=h[p],
+                             year=year[p]) for p in parts]  # fmt: skip
+        monkeypatch.setattr(gs, "_ONE_PRODUCT_POINTS", 0)
+        loop = gs.synthesize(model, lat_deg=lat, lon_deg=lon, height_m=h, year=year)
+        monkeypatch.undo()
+        for name in ("north", "east", "down", "north_rate", "east_rate", "down_rate"):
+            got = np.concatenate([getattr(o, name) for o in one])
+            want = getattr(loop, name)
+            scale = 70_000.0 if "rate" not in name else 300.0
+            assert np.max(np.abs(got - want)) <= 1e-14 * scale, (size, name)
+
+
 @pytest.mark.parametrize("model_name", ["igrf14", "wmmhr2025"])
 def test_table_of_every_order_gives_the_same_bits_as_one_order_at_a_time(model_name, monkeypatch):
     # Small chunks build the Legendre tables of every order in one pass of the recursion;
@@ -271,6 +321,7 @@ def test_table_of_every_order_gives_the_same_bits_as_one_order_at_a_time(model_n
     from lodeline.geo.models import load_model
 
     model = load_model(model_name)
+    monkeypatch.setattr(gs, "_ONE_PRODUCT_POINTS", 0)  # that path sums in another order
     rng = np.random.default_rng(3)
     lat = rng.uniform(-89.9, 89.9, 50)
     lon = rng.uniform(-180, 180, 50)
