@@ -262,12 +262,12 @@ def _out(scalar: bool, value: NDArray[np.float64]) -> Scalar:
 
 
 def _check_geographic(lat: NDArray[np.float64], lon: NDArray[np.float64]) -> None:
-    if not (np.all(np.isfinite(lat)) and np.all(np.isfinite(lon))):
+    if not (np.isfinite(lat).all() and np.isfinite(lon).all()):
         raise InputError("latitude and longitude must be finite numbers")
-    if np.any(np.abs(lat) > 90.0):
+    if (np.abs(lat) > 90.0).any():
         bad = float(lat[np.abs(lat) > 90.0].flat[0])
         raise InputError(f"latitude {bad!r} is outside -90..90 degrees", field="lat")
-    if np.any(np.abs(lon) > 180.0):
+    if (np.abs(lon) > 180.0).any():
         bad = float(lon[np.abs(lon) > 180.0].flat[0])
         raise InputError(f"longitude {bad!r} is outside -180..180 degrees", field="lon")
 
@@ -283,7 +283,7 @@ def _check_area(grid: _Grid, lat: NDArray[np.float64], lon: NDArray[np.float64])
     else:  # area crosses the antimeridian
         lon_ok = (lon >= west - m) | (lon <= east + m)
     ok = lat_ok & lon_ok
-    if not np.all(ok):
+    if not ok.all():
         i = int(np.flatnonzero(~ok.ravel())[0])
         raise GridError(
             f"station {lat.ravel()[i]:.6f}, {lon.ravel()[i]:.6f} lies outside the area of "

@@ -41,7 +41,6 @@ Displayed bearings
 from __future__ import annotations
 
 import contextlib
-import dataclasses
 import datetime as _dt
 import math
 from collections.abc import Sequence
@@ -1067,32 +1066,29 @@ def _course_figures(
     }  # fmt: skip
     found = _found_stations(s.doc, s.courses, s.crs, s.file)
     cs = s.courses
+    paths: list[CoursePath | None] = [None] * n
+    refs_end: list[References | None] = [None] * n
+    texts_end: list[References | None] = [None] * n
+    for i in [i for i, k in enumerate(steps_l) if k > 1] + list(ends):
+        if steps_l[i] > 1 and s.reference != "grid":
+            nodes = slice(o[i], o[i + 1] + 1)
+            paths[i] = CoursePath(
+                tuple(along[nodes][:-1].tolist()) + (cs[i].length_m,),
+                tuple(marched.east[nodes].tolist()),
+                tuple(marched.north[nodes].tolist()),
+            )
+        refs_end[i] = _ref(az_end_l, i) if steps_l[i] > 1 else None
+        texts_end[i] = ends.get(i)
     rows = zip(
         [rc.index for rc in cs], [rc.text for rc in cs], cs, [rc.length_m for rc in cs],
         [rc.length_value for rc in cs], [rc.length_unit for rc in cs], grid_len.tolist(),
         stations[:-1], stations[1:], columns["d1"], columns["d2"], columns["s1"],
         columns["s2"], columns["gamma"], columns["scale"], columns["elev"], columns["k"],
-        az_r, text_r, found, warnings, [None] * n, columns["r1"], columns["r2"], steps_l,
-        strict=True,
+        az_r, text_r, found, warnings, paths, columns["r1"], columns["r2"], steps_l,
+        refs_end, texts_end, strict=True,
     )  # fmt: skip
     # the fields in CourseConversion's order, positionally (a long document has thousands)
-    out = [CourseConversion(*row) for row in rows]
-    for i in [i for i, k in enumerate(steps_l) if k > 1] + list(ends):
-        path = None
-        if steps_l[i] > 1 and s.reference != "grid":
-            nodes = slice(o[i], o[i + 1] + 1)
-            path = CoursePath(
-                tuple(along[nodes][:-1].tolist()) + (cs[i].length_m,),
-                tuple(marched.east[nodes].tolist()),
-                tuple(marched.north[nodes].tolist()),
-            )
-        out[i] = dataclasses.replace(
-            out[i],
-            path_nodes=path,
-            azimuth_end=_ref(az_end_l, i) if steps_l[i] > 1 else None,
-            bearing_end=ends.get(i),
-        )
-    return tuple(out), stations
+    return tuple(CourseConversion(*row) for row in rows), stations
 
 
 def rec_of(marched: Any) -> _Split | None:
