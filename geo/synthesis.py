@@ -22,7 +22,8 @@ functions are built by the standard stable three-term recursion in n for each m,
 the sectoral recursion in m. Functions with m >= 1 are carried divided by sin(theta) (finite
 at the geographic poles) and with the radial factor (a/r)^(n+2) folded in; the per-point
 factors sin, cos and a/r and the derivative dP/dtheta are moved past the coefficient sums, so
-that the inner sums are one small matrix product per order m.
+that the inner sums are one small matrix product per order m. A chunk of a few points of a
+model of low degree puts every order's sums into one product (:func:`_synth_one_product`).
 """
 
 from __future__ import annotations
@@ -334,8 +335,21 @@ def _synth_chunk(
         part = res[half:]
         part *= sin_m
         acc += part
-    acc = acc.reshape(4, p1, c_pts)
-    comps = np.empty((3, p1, c_pts))
+    return _components_of(acc.reshape(4, p1, c_pts), z0, xs, cos_t, sin_t, rho)
+
+
+def _components_of(
+    acc: NDArray[np.float64],
+    z0: NDArray[np.float64],
+    xs: NDArray[np.float64],
+    cos_t: NDArray[np.float64],
+    sin_t: NDArray[np.float64],
+    rho: NDArray[np.float64],
+) -> NDArray[np.float64]:
+    """X', Y', Z' (shape (3, P1, C)) from the sums against the weights: ``acc`` groups 0..3
+    (shape (4, P1, C), see :func:`_weights`), ``z0`` the m = 0 part of Z', ``xs`` the m = 0
+    part of X' before its factor sin theta; the per-point factors put back here."""
+    comps = np.empty((3,) + z0.shape)
     np.multiply(acc[1], cos_t, out=comps[0])
     comps[0] += acc[2] * rho
     comps[0] += xs * sin_t
@@ -427,14 +441,7 @@ def _synth_one_product(
     for j, a, b in runs:
         np.matmul(big[j], x[:, a:b], out=res[:, a:b])
     acc = res[:half].reshape(4, p1, c_pts)
-    comps = np.empty((3, p1, c_pts))
-    np.multiply(acc[1], cos_t, out=comps[0])
-    comps[0] += acc[2] * rho
-    comps[0] += res[half + p1 :] * sin_t
-    comps[1] = acc[3]
-    np.multiply(acc[0], sin_t, out=comps[2])
-    comps[2] += res[half : half + p1]
-    return comps
+    return _components_of(acc, res[half : half + p1], res[half + p1 :], cos_t, sin_t, rho)
 
 
 def _table_of_order(

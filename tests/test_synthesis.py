@@ -308,6 +308,9 @@ def test_one_product_for_a_few_points_is_the_order_by_order_sum(model_name, monk
         for name in ("north", "east", "down", "north_rate", "east_rate", "down_rate"):
             got = np.concatenate([getattr(o, name) for o in one])
             want = getattr(loop, name)
+            # bounds on the main field's size: under 70,000 nT at the surface and a few
+            # hundred nT/yr of secular variation (common practice; from memory). Heights up
+            # to 100 km only make the field smaller.
             scale = 70_000.0 if "rate" not in name else 300.0
             assert np.max(np.abs(got - want)) <= 1e-14 * scale, (size, name)
 
