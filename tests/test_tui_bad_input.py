@@ -63,8 +63,6 @@ async def test_desk_opens_a_document_with_a_date_outside_the_calendar(tmp_path, 
 
 @sync
 async def test_a_large_export_runs_off_the_main_thread_and_quit_answers(tmp_path):
-    import time
-
     from lodeline.geo.along import MAX_ALONG_POINTS
 
     path = tmp_path / "long.toml"
@@ -81,12 +79,11 @@ async def test_a_large_export_runs_off_the_main_thread_and_quit_answers(tmp_path
         await pilot.press("enter")  # the suggested name: long.geojson, the most points allowed
         busy = [w for w in app.workers if w.group == "output" and not w.is_finished]
         assert busy, "the export ran on the main thread"
-        started = time.monotonic()
         await pilot.press("ctrl+q")  # the document is saved: quit at once
-        answered = time.monotonic() - started
         out = path.with_suffix(".geojson")
-        assert app.return_value == 0 and not out.exists()  # quit did not wait for the export
-        assert answered < 5.0
+        # quit answered before the export was written: it did not wait for it (no clock here:
+        # how long the answer takes depends on the machine's load, the order does not)
+        assert app.return_value == 0 and not out.exists()
     # what was being written is written whole, or not at all (never a part)
     assert not out.exists() or out.read_text(encoding="utf-8").endswith("}\n")
     assert [p.name for p in tmp_path.iterdir() if p.name.startswith(".")] == []
