@@ -168,6 +168,27 @@ def test_every_refused_or_unread_course_is_marked_and_counted(doc_path: Path):
         assert results.first_bad == 1
 
 
+@pytest.mark.parametrize("bad", [1, 3])  # in the middle, and the last course
+def test_a_sketch_cut_short_at_a_course_that_does_not_read_draws_no_misclosure(doc_path, bad):
+    # The closed square with one course that does not read: the sketch draws the courses
+    # before it, and no gap back to the beginning (that gap would be the courses not yet
+    # read, shown as if it were the survey's misclosure, while the closure panel waits).
+    from lodeline.tui.results import compute_results
+    from lodeline.tui.widgets.sketch import TraverseSketch
+
+    ws = load_workspace(doc_path)
+    whole = compute_results(ws.doc, path=doc_path)
+    assert whole.sketch is not None and whole.sketch.closed  # the whole square: its gap
+    doc = {**ws.doc, "course": [dict(c) for c in ws.doc["course"]]}
+    doc["course"][bad] = {"call": "N 95 E 10 chains"}
+    results = compute_results(doc, path=doc_path)
+    assert results.first_bad == bad and results.sketch is not None
+    assert results.sketch.east.size == bad + 1  # the beginning and the stations before it
+    assert not results.sketch.closed
+    assert "misclosure" not in TraverseSketch.key_text(results.sketch)
+    assert results.sketch_message == f"drawn up to course {bad}"
+
+
 @sync
 async def test_old_magnetic_record_without_a_declination_closes_and_fits(tmp_path: Path):
     # A deed of 1796 in magnetic bearings, no declination stated and no model covering 1796

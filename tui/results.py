@@ -299,6 +299,9 @@ def conversion_stage(data: Mapping[str, Any], *, path: Path | None = None) -> Re
     results.sketch, results.sketch_message = _sketch(conv, before)
     if first_bad is not None and results.sketch is not None:
         results.sketch_message = f"drawn up to course {kept[first_bad]}"
+        # a figure cut short at a course that does not read has no misclosure to draw: the gap
+        # back to the beginning would be the courses not yet read, not an error of the survey
+        results.sketch = replace(results.sketch, closed=False)
     return results
 
 
