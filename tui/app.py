@@ -271,6 +271,8 @@ class LodelineApp(App[int]):
         self.start = start
         #: Writes the recovery entry from its own thread while the document is edited.
         self.recovery = RecoveryKeeper(self.workspace, on_error=self._recovery_failed)
+        #: Quit was asked for while an output was being written: quit once it is written.
+        self._quit_when_written = False
 
     # -- start -------------------------------------------------------------------------
     def on_mount(self) -> None:
@@ -784,6 +786,37 @@ class LodelineApp(App[int]):
         self.call_from_thread(
             self.notify, message, severity=severity, timeout=8 if severity == "error" else 4
         )
+        self.call_from_thread(self._written, severity == "information")
+
+    def _outputs_being_written(self) -> int:
+        """How many outputs (GeoJSON, CSV, report) are still being written."""
+        return sum(1 for w in self.workers if w.group == "output" and not w.is_finished)
+
+    def _written(self, ok: bool) -> None:
+        """An output is written (``ok``) or refused: quit now if quit was asked for meanwhile
+        and every output is written; stay, to show why, if one was refused."""
+        if not self._quit_when_written:
+            return
+        if not ok:
+            self._quit_when_written = False
+            self.notify("Not quitting: an output was not written (the message says why).")
+        elif self._outputs_being_written() <= 1:  # this one's worker is ending
+            self.exit(0)
+
+    def _quit(self) -> None:
+        """Quit, or, while an output is being written, say so and quit once it is written
+        (an output is written whole or not at all; quitting never leaves half a file, and
+        the desk says why it has not gone yet instead of looking stuck)."""
+        busy = self._outputs_being_written()
+        if not busy:
+            self.exit(0)
+            return
+        self._quit_when_written = True
+        self.notify(
+            f"Quitting once the {'output' if busy == 1 else f'{busy} outputs'} being written "
+            f"{'is' if busy == 1 else 'are'} written (never half a file).",
+            timeout=30,
+        )
 
     def action_found_from(self) -> None:
         """Set found corners from a point file (see :mod:`tui.found_from`)."""
@@ -796,7 +829,7 @@ class LodelineApp(App[int]):
         ws = self.workspace
         if not ws.dirty:
             self.recovery.discard()
-            self.exit(0)
+            self._quit()
             return
 
         def answered(answer: str | None) -> None:
@@ -805,17 +838,17 @@ class LodelineApp(App[int]):
 
                     def chosen(path: Path | None) -> None:
                         if path is not None and self.save_to(path):
-                            self.exit(0)
+                            self._quit()
 
                     self.push_screen(
                         FileNamePrompt("Save as", self.suggested_name(), DOCUMENT_SUFFIXES),
                         chosen,
                     )
                 elif self.save_to(ws.path):
-                    self.exit(0)
+                    self._quit()
             elif answer == "discard":
                 self.recovery.discard()
-                self.exit(0)
+                self._quit()
 
         self.push_screen(
             ChoiceDialog(
