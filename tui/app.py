@@ -783,18 +783,17 @@ class LodelineApp(App[int]):
             message, severity = f"⚠ {title}: not written: {err}", "error"
         else:
             message, severity = f"Written: {', '.join(str(p) for p in written)}", "information"
-        self.call_from_thread(
-            self.notify, message, severity=severity, timeout=8 if severity == "error" else 4
-        )
-        self.call_from_thread(self._written, severity == "information")
+        self.call_from_thread(self._written, message, severity)
 
     def _outputs_being_written(self) -> int:
         """How many outputs (GeoJSON, CSV, report) are still being written."""
         return sum(1 for w in self.workers if w.group == "output" and not w.is_finished)
 
-    def _written(self, ok: bool) -> None:
-        """An output is written (``ok``) or refused: quit now if quit was asked for meanwhile
-        and every output is written; stay, to show why, if one was refused."""
+    def _written(self, message: str, severity: str) -> None:
+        """Say how an output went; then, if quit was asked for meanwhile, quit when every
+        output is written, or stay, to show why, if this one was refused."""
+        ok = severity == "information"
+        self.notify(message, severity=severity, timeout=4 if ok else 8)
         if not self._quit_when_written:
             return
         if not ok:
